@@ -1,0 +1,9 @@
+/**
+ * The built-in matchers. Add one line per matcher folder; the registry
+ * (src/plugins/registry.ts) reads this list.
+ */
+import type { MatcherPlugin } from '../src/plugins/contract.js';
+
+export const BUILTIN_MATCHERS: readonly MatcherPlugin[] = [
+  // one entry per matcher folder, e.g. blockMatcher from './block/index.js'
+];

@@ -1,0 +1,27 @@
+#!/usr/bin/env bash
+# The test command (README, .ci/run): installs what the tests need when it is
+# missing, builds, then runs the whole vitest suite.
+set -euo pipefail
+cd "$(dirname "$0")/.."
+
+# npm packages
+if [ ! -d node_modules ] || [ ! -f node_modules/.package-lock.json ] || [ package-lock.json -nt node_modules/.package-lock.json ]; then
+  npm ci
+fi
+
+# Debian packages used as outside references: numpy and OpenCV in Debian's own
+# Python (/usr/bin/python3), and Chromium for the browser test of the HTML report.
+need=()
+/usr/bin/python3 -c 'import numpy' 2>/dev/null || need+=(python3-numpy)
+/usr/bin/python3 -c 'import cv2' 2>/dev/null || need+=(python3-opencv)
+/usr/bin/python3 -c 'import scipy' 2>/dev/null || need+=(python3-scipy)
+[ -x /usr/bin/chromium ] || need+=(chromium)
+if [ ${#need[@]} -gt 0 ]; then
+  echo "installing Debian packages: ${need[*]}"
+  SUDO=""; [ "$(id -u)" -ne 0 ] && SUDO="sudo"
+  $SUDO apt-get update -qq
+  DEBIAN_FRONTEND=noninteractive $SUDO apt-get install -y -qq "${need[@]}" >/dev/null
+fi
+
+npm run build --silent
+npx vitest run "$@"

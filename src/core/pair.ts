@@ -1,0 +1,39 @@
+import type { Camera } from './camera.js';
+import type { DisparityMap, RasterImage } from './image.js';
+
+/** Inclusive disparity search range [min, max] in pixels. */
+export type DisparityRange = readonly [number, number];
+
+/** A pair as described by a manifest, with paths resolved to absolute paths. */
+export interface PairEntry {
+  readonly id: string;
+  readonly left: string;
+  readonly right: string;
+  readonly truth: string;
+  readonly occlusion?: string;
+  readonly camera?: Camera;
+  readonly group?: string;
+  readonly tags?: readonly string[];
+}
+
+/** A pair decoded into memory, ready for matching and scoring. */
+export interface LoadedPair {
+  readonly dataset: string;
+  readonly id: string;
+  readonly width: number;
+  readonly height: number;
+  readonly left: RasterImage;
+  readonly right: RasterImage;
+  /** Luminance 0-255 (BT.601), float32, row-major. */
+  readonly leftGray: Float32Array;
+  readonly rightGray: Float32Array;
+  readonly truth: DisparityMap;
+  /** Non-zero = occluded in the right view; undefined when the dataset has no mask. */
+  readonly occlusion?: Uint8Array;
+  readonly camera?: Camera;
+  readonly disparityRange: DisparityRange;
+  readonly group?: string;
+  readonly tags?: readonly string[];
+  /** Source files, for program plugins and provenance. */
+  readonly files: PairEntry;
+}

@@ -1,0 +1,73 @@
+import type { RegionId } from './regions.js';
+import type { ParamValue } from './params.js';
+
+/**
+ * Raw sums of one region of one pair. Everything the per-pair figures and the pooled
+ * aggregates need, so pooling never has to see pixels again.
+ */
+export interface RegionSums {
+  /** Pixels in the region. */
+  pixels: number;
+  /** Pixels with a valid (finite) prediction. */
+  valid: number;
+  /** Sum of |e|, sum of e^2, sum of e, over valid predictions (e = prediction - truth). */
+  sumAbs: number;
+  sumSq: number;
+  sumErr: number;
+  /** Per threshold: pixels with |e| > t or an invalid prediction. */
+  bad: number[];
+  /** Depth: pixels counted (truth d + cxShift > eps), sum of |Zp - Zt| / Zt, sum of (Zp - Zt)^2, failures. */
+  depthCount: number;
+  depthSumRel: number;
+  depthSumSq: number;
+}
+
+/** Figures of one region of one pair. null = empty (region empty or no valid prediction). */
+export interface RegionFigures {
+  pixels: number;
+  coverage: number | null;
+  epe: number | null;
+  rmse: number | null;
+  bias: number | null;
+  /** Bad-pixel rates in %, one per threshold, same order as the thresholds. */
+  rates: (number | null)[];
+  q50: number | null;
+  q75: number | null;
+  q90: number | null;
+  q99: number | null;
+  depth_relerr: number | null;
+  depth_rmse_m: number | null;
+}
+
+export interface RegionScore {
+  figures: RegionFigures;
+  sums: RegionSums;
+}
+
+export type PairScore = Record<RegionId, RegionScore>;
+
+
+/** One line of results.jsonl: one pair scored for one matcher configuration. */
+export interface JobResult {
+  /** Configuration label, e.g. `sgm` or `sgm:p2=96` or a --label for imported predictions. */
+  matcher: string;
+  /** Matcher id (plugin id, module path, program name, or `predictions`). */
+  matcherId: string;
+  /** Full parameter set after defaults. */
+  params: Record<string, ParamValue>;
+  dataset: string;
+  pair: string;
+  status: 'ok' | 'failed';
+  /** One-line reason when failed (with the program's last stderr lines where there are any). */
+  error?: string;
+  /** Wall time of the match (ms), null when failed before matching. */
+  time_ms: number | null;
+  /** Peak memory (MB) while matching, null when unknown. */
+  peak_mb: number | null;
+  /** Served from the result cache. */
+  cached?: boolean;
+  /** Per region figures and sums. A failed job is scored as all-invalid. */
+  scores: PairScore;
+  /** Thresholds used for the rates, in order. */
+  thresholds: number[];
+}

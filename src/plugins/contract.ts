@@ -1,0 +1,83 @@
+/**
+ * The matcher contract. A matcher is declarative metadata plus one function.
+ * It never reads files: the runner hands it arrays.
+ */
+import type { RasterImage } from '../core/image.js';
+
+import type { ParamValue } from '../core/params.js';
+export type { ParamValue };
+export type ParamValues = Readonly<Record<string, ParamValue>>;
+
+/** One tunable parameter. The schema validates `--matcher id:key=value`, drives help text and sweeps. */
+export type ParamSpec =
+  | {
+      readonly name: string;
+      readonly type: 'int' | 'number';
+      readonly default: number;
+      readonly min?: number;
+      readonly max?: number;
+      /** For ints: value must be odd (window sides). */
+      readonly odd?: boolean;
+      readonly description: string;
+    }
+  | { readonly name: string; readonly type: 'boolean'; readonly default: boolean; readonly description: string }
+  | {
+      readonly name: string;
+      readonly type: 'enum';
+      readonly default: string;
+      readonly values: readonly string[];
+      readonly description: string;
+    };
+
+export interface MatchInput {
+  readonly width: number;
+  readonly height: number;
+  /** Luminance on a 0-255 scale (ITU-R BT.601), float32, row-major, top row first. */
+  readonly left: Float32Array;
+  readonly right: Float32Array;
+  /** The decoded colour images, for matchers that want colour. */
+  readonly leftColor?: RasterImage;
+  readonly rightColor?: RasterImage;
+  /** Inclusive search range: d = x_left - x_right in [minDisparity, maxDisparity]. */
+  readonly minDisparity: number;
+  readonly maxDisparity: number;
+  /** Source files (for outside programs that want paths); never read by built-in matchers. */
+  readonly source?: { readonly pairId: string; readonly left: string; readonly right: string };
+  /** Threads this job may use (the runner's share of the thread budget); default 1. */
+  readonly threads?: number;
+}
+
+export interface MatchOutput {
+  /** Left-referenced disparity, width * height, NaN = no answer. */
+  readonly disparity: Float32Array;
+  /** Match time the matcher measured itself (e.g. a network excluding weight loading), ms. */
+  readonly selfTimeMs?: number;
+}
+
+export interface MatcherPlugin {
+  /** Short id used on the command line, e.g. `block`, `sgm`. */
+  readonly id: string;
+  /** One line for `parallax matchers`. */
+  readonly summary: string;
+  /** Bump when the output for the same input and parameters changes. */
+  readonly version: string;
+  readonly params: readonly ParamSpec[];
+  /**
+   * Compute a disparity map. May return a Float32Array directly or a MatchOutput.
+   * Must check `signal` between rows or stages on long work and throw when aborted.
+   */
+  match(
+    input: MatchInput,
+    params: ParamValues,
+    signal: AbortSignal,
+  ): Float32Array | MatchOutput | Promise<Float32Array | MatchOutput>;
+  /** Optional: release resources (long-lived programs). */
+  dispose?(): void | Promise<void>;
+}
+
+/** Fill in defaults for any parameter the caller did not set (no validation). */
+export function withDefaults(plugin: MatcherPlugin, params: ParamValues): Record<string, ParamValue> {
+  const out: Record<string, ParamValue> = {};
+  for (const p of plugin.params) out[p.name] = params[p.name] ?? p.default;
+  return out;
+}
