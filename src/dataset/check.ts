@@ -1,0 +1,158 @@
+/**
+ * `parallax dataset check`: find every problem of a dataset, one line each.
+ * Looks at the manifest (schema, duplicate ids, paths), then every pair: missing or
+ * unreadable files, size mismatches, truth outside disparityRange, and a share of
+ * invalid truth above a threshold.
+ */
+import { existsSync } from 'node:fs';
+import { relative } from 'node:path';
+import { isParallaxError } from '../core/errors.js';
+import { readDisparityFile, readImageFile, readMaskFile } from '../io/files.js';
+import type { Manifest } from './manifest.js';
+import { manifestPath, readManifestBytes, validateManifest } from './manifest.js';
+import { truthReadOptions } from './load.js';
+
+export interface CheckOptions {
+  /** Largest acceptable share of invalid (unknown) truth pixels per pair, in % (default 50). */
+  maxInvalidPercent?: number;
+  maxPixels?: number;
+}
+
+export interface CheckReport {
+  manifestFile: string;
+  /** Dataset name when the manifest could be read. */
+  name?: string;
+  pairCount: number;
+  /** One line per problem, each starting with the file it concerns. */
+  problems: string[];
+  /** Short OK summary (meaningful when there are no problems). */
+  summary: string;
+}
+
+export const DEFAULT_MAX_INVALID_PERCENT = 50;
+
+function errorText(e: unknown): string {
+  if (isParallaxError(e)) return e.message;
+  return (e as Error)?.message?.split('\n')[0] ?? String(e);
+}
+
+interface Sized {
+  width: number;
+  height: number;
+}
+
+/** Range statistics of a truth map: invalid count, out-of-range count, finite min/max. */
+export function truthStats(data: Float32Array, lo: number, hi: number): { invalid: number; outside: number; min: number; max: number } {
+  let invalid = 0;
+  let outside = 0;
+  let min = Infinity;
+  let max = -Infinity;
+  for (let i = 0; i < data.length; i++) {
+    const d = data[i]!;
+    if (!Number.isFinite(d)) {
+      invalid++;
+      continue;
+    }
+    if (d < lo || d > hi) outside++;
+    if (d < min) min = d;
+    if (d > max) max = d;
+  }
+  return { invalid, outside, min, max };
+}
+
+function fmt(v: number): string {
+  return Number.isFinite(v) ? String(Math.round(v * 1000) / 1000) : 'n/a';
+}
+
+async function checkPairs(m: Manifest, opts: CheckOptions, problems: string[]): Promise<{ sizes: Set<string>; knownShare: number[]; lo: number; hi: number }> {
+  const maxInvalid = opts.maxInvalidPercent ?? DEFAULT_MAX_INVALID_PERCENT;
+  const po = opts.maxPixels !== undefined ? { maxPixels: opts.maxPixels } : undefined;
+  const sizes = new Set<string>();
+  const knownShare: number[] = [];
+  let lo = Infinity;
+  let hi = -Infinity;
+  const rel = (f: string): string => relative(process.cwd(), f) || f;
+  for (const p of m.pairs) {
+    const files: [string, string | undefined][] = [
+      ['left', p.left],
+      ['right', p.right],
+      ['truth', p.truth],
+      ['occlusion', p.occlusion],
+    ];
+    const read: { file: string; size: Sized }[] = [];
+    let truth: Float32Array | undefined;
+    for (const [kind, file] of files) {
+      if (file === undefined || file === '') continue; // optional, or a path already reported
+      if (!existsSync(file)) {
+        problems.push(`${rel(file)}: missing file (pair ${p.id}, ${kind})`);
+        continue;
+      }
+      try {
+        if (kind === 'truth') {
+          const t = await readDisparityFile(file, truthReadOptions(m, opts.maxPixels));
+          truth = t.data;
+          read.push({ file, size: t });
+        } else if (kind === 'occlusion') {
+          read.push({ file, size: await readMaskFile(file, po) });
+        } else {
+          read.push({ file, size: await readImageFile(file, po) });
+        }
+      } catch (e) {
+        const msg = errorText(e);
+        problems.push(msg.startsWith(file) ? `${rel(file)}${msg.slice(file.length)}` : `${rel(file)}: ${msg}`);
+      }
+    }
+    const first = read[0];
+    if (first) {
+      for (const r of read.slice(1)) {
+        if (r.size.width !== first.size.width || r.size.height !== first.size.height) {
+          problems.push(
+            `${rel(r.file)}: size ${r.size.width}x${r.size.height} differs from ${rel(first.file)} (${first.size.width}x${first.size.height}) (pair ${p.id})`,
+          );
+        }
+      }
+      sizes.add(`${first.size.width}x${first.size.height}`);
+    }
+    if (truth) {
+      const [rlo, rhi] = m.disparityRange;
+      const s = truthStats(truth, rlo, rhi);
+      if (s.outside > 0) {
+        problems.push(
+          `${rel(p.truth)}: ${s.outside} truth pixel(s) outside disparityRange [${rlo}, ${rhi}] (truth spans ${fmt(s.min)} to ${fmt(s.max)}; pair ${p.id})`,
+        );
+      }
+      const invalidPct = truth.length ? (100 * s.invalid) / truth.length : 100;
+      if (invalidPct > maxInvalid) {
+        problems.push(`${rel(p.truth)}: ${fmt(invalidPct)}% of truth pixels are invalid, above the limit of ${maxInvalid}% (pair ${p.id})`);
+      }
+      knownShare.push(100 - invalidPct);
+      if (s.min < lo) lo = s.min;
+      if (s.max > hi) hi = s.max;
+    }
+  }
+  return { sizes, knownShare, lo, hi };
+}
+
+/** Check a dataset folder or manifest. Never throws for dataset problems: they are listed. */
+export async function checkDataset(pathOrDir: string, opts: CheckOptions = {}): Promise<CheckReport> {
+  const file = manifestPath(pathOrDir);
+  const shownFile = relative(process.cwd(), file) || file;
+  const problems: string[] = [];
+  let text: string;
+  try {
+    text = readManifestBytes(file).toString('utf8');
+  } catch (e) {
+    return { manifestFile: file, pairCount: 0, problems: [errorText(e)], summary: '' };
+  }
+  const v = validateManifest(text, file);
+  for (const pr of v.problems) problems.push(`${shownFile}: ${pr}`);
+  const m = v.manifest ?? v.partial;
+  if (!m) return { manifestFile: file, pairCount: 0, problems, summary: '' };
+  const st = await checkPairs(m, opts, problems);
+  const meanKnown = st.knownShare.length ? st.knownShare.reduce((a, b) => a + b, 0) / st.knownShare.length : 0;
+  const summary =
+    `${m.name}: ${m.pairs.length} pair(s), size ${[...st.sizes].join(', ') || 'n/a'}, ` +
+    `disparityRange [${m.disparityRange[0]}, ${m.disparityRange[1]}], truth spans ${fmt(st.lo)} to ${fmt(st.hi)}, ` +
+    `known truth ${fmt(meanKnown)}% on average`;
+  return { manifestFile: file, name: m.name, pairCount: m.pairs.length, problems, summary };
+}

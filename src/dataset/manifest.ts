@@ -1,0 +1,239 @@
+/**
+ * The dataset manifest (`dataset.json`): schema, validation and path resolution.
+ *
+ * Every problem is reported as one line that names the manifest file and, for a
+ * schema problem, the field path (e.g. `pairs[2].truth`). Paths inside the manifest
+ * are relative to its folder and may not leave it, neither lexically nor after
+ * following symbolic links.
+ */
+import { readFileSync, realpathSync, statSync } from 'node:fs';
+import { dirname, extname, isAbsolute, join, relative, resolve, sep } from 'node:path';
+import { z } from 'zod';
+import type { Camera } from '../core/camera.js';
+import { InputError } from '../core/errors.js';
+import type { DisparityRange, PairEntry } from '../core/pair.js';
+
+export const MANIFEST_FILE = 'dataset.json';
+
+/** Pair ids become file names (predictions, previews): keep them plain. */
+export const PAIR_ID_PATTERN = /^[A-Za-z0-9][A-Za-z0-9._-]{0,127}$/;
+
+const finite = z.number().refine(Number.isFinite, 'must be a finite number');
+
+const cameraSchema = z.strictObject({
+  focalPx: finite.refine((v) => v > 0, 'must be > 0'),
+  baselineM: finite.refine((v) => v > 0, 'must be > 0'),
+  cxShiftPx: finite.default(0),
+});
+
+const relPath = z.string().min(1, 'must be a non-empty path');
+
+const pairSchema = z.strictObject({
+  id: z.string().regex(PAIR_ID_PATTERN, 'must be 1-128 letters, digits, ".", "_" or "-", starting with a letter or digit'),
+  left: relPath,
+  right: relPath,
+  truth: relPath,
+  occlusion: relPath.optional(),
+  camera: cameraSchema.optional(),
+  group: z.string().min(1).optional(),
+  tags: z.array(z.string().min(1)).optional(),
+});
+
+export const manifestSchema = z.strictObject({
+  name: z.string().regex(PAIR_ID_PATTERN, 'must be 1-128 letters, digits, ".", "_" or "-", starting with a letter or digit'),
+  description: z.string().optional(),
+  camera: cameraSchema.optional(),
+  disparityRange: z
+    .tuple([finite, finite])
+    .refine(([a, b]) => a <= b, 'must be [min, max] with min <= max'),
+  truthEncoding: z
+    .strictObject({
+      scale: finite.refine((v) => v > 0, 'must be > 0'),
+      invalid: z.number().int().min(0).max(65535).default(0),
+    })
+    .optional(),
+  pairs: z.array(pairSchema).min(1, 'must list at least one pair'),
+});
+
+export type ManifestJson = z.infer<typeof manifestSchema>;
+
+/** A loaded manifest with absolute paths. */
+export interface Manifest {
+  /** Absolute path of the manifest file. */
+  readonly file: string;
+  /** Absolute folder of the manifest (paths are relative to it). */
+  readonly dir: string;
+  readonly name: string;
+  readonly description?: string;
+  readonly camera?: Camera;
+  readonly disparityRange: DisparityRange;
+  readonly truthEncoding?: { readonly scale: number; readonly invalid: number };
+  /** Pairs in manifest order, paths resolved to absolute paths. */
+  readonly pairs: readonly PairEntry[];
+}
+
+/** Format a zod issue path as `pairs[2].truth`. */
+export function formatFieldPath(path: readonly PropertyKey[]): string {
+  let s = '';
+  for (const k of path) {
+    if (typeof k === 'number') s += `[${k}]`;
+    else s += s ? `.${String(k)}` : String(k);
+  }
+  return s || '(top level)';
+}
+
+/** Resolve a folder or a file argument to the manifest file path. */
+export function manifestPath(pathOrDir: string): string {
+  const abs = resolve(pathOrDir);
+  let st;
+  try {
+    st = statSync(abs);
+  } catch {
+    throw new InputError(pathOrDir, 'no such dataset folder or manifest file');
+  }
+  return st.isDirectory() ? join(abs, MANIFEST_FILE) : abs;
+}
+
+function isInside(root: string, p: string): boolean {
+  const rel = relative(root, p);
+  return rel === '' || (!rel.startsWith('..' + sep) && rel !== '..' && !isAbsolute(rel));
+}
+
+/**
+ * Resolve a manifest-relative path. Returns the absolute path or a problem text.
+ * Refuses absolute paths, paths that leave the folder, and (for files that exist)
+ * paths whose real path, after following symbolic links, lies outside the folder.
+ */
+export function resolveInside(dir: string, realDir: string, p: string): { path: string } | { problem: string } {
+  if (isAbsolute(p) || /^[A-Za-z]:[\\/]/.test(p)) return { problem: `path "${p}" is absolute; paths must be relative to the manifest` };
+  const abs = resolve(dir, p);
+  if (!isInside(dir, abs)) return { problem: `path "${p}" leaves the dataset folder` };
+  let real: string | undefined;
+  try {
+    real = realpathSync(abs);
+  } catch {
+    real = undefined; // missing: reported when the pair is loaded or checked
+  }
+  if (real !== undefined && !isInside(realDir, real)) {
+    return { problem: `path "${p}" resolves (through a symbolic link) outside the dataset folder` };
+  }
+  return { path: abs };
+}
+
+/** Result of validating a manifest: the manifest when usable, and every problem found. */
+export interface ManifestValidation {
+  manifest?: Manifest;
+  /**
+   * The manifest as far as it could be read when the schema holds but other problems
+   * exist (duplicate ids, bad paths: such paths are left empty). For `dataset check`.
+   */
+  partial?: Manifest;
+  /** One-line problems (without the file name, which the caller prefixes). */
+  problems: string[];
+}
+
+/**
+ * Validate manifest text. Collects every problem (schema issues, duplicate ids,
+ * paths leaving the folder, PNG truth without truthEncoding) instead of stopping at
+ * the first; `manifest` is set only when there is none.
+ */
+export function validateManifest(text: string, file: string): ManifestValidation {
+  const problems: string[] = [];
+  let json: unknown;
+  try {
+    json = JSON.parse(text);
+  } catch (e) {
+    return { problems: [`not valid JSON (${(e as Error).message.split('\n')[0]})`] };
+  }
+  const parsed = manifestSchema.safeParse(json);
+  if (!parsed.success) {
+    for (const issue of parsed.error.issues) {
+      problems.push(`field ${formatFieldPath(issue.path)}: ${issue.message}`);
+    }
+    return { problems };
+  }
+  const m = parsed.data;
+  const dir = dirname(resolve(file));
+  let realDir = dir;
+  try {
+    realDir = realpathSync(dir);
+  } catch {
+    /* keep lexical */
+  }
+  const seen = new Map<string, number>();
+  const pairs: PairEntry[] = [];
+  m.pairs.forEach((p, i) => {
+    const first = seen.get(p.id);
+    if (first !== undefined) problems.push(`field pairs[${i}].id: duplicate pair id "${p.id}" (also pairs[${first}])`);
+    else seen.set(p.id, i);
+    const fields = ['left', 'right', 'truth', 'occlusion'] as const;
+    const out: Record<string, string> = {};
+    for (const f of fields) {
+      const v = p[f];
+      if (v === undefined) continue;
+      const r = resolveInside(dir, realDir, v);
+      if ('problem' in r) problems.push(`field pairs[${i}].${f}: ${r.problem}`);
+      else out[f] = r.path;
+    }
+    if (extname(p.truth).toLowerCase() === '.png' && m.truthEncoding === undefined) {
+      problems.push(`field truthEncoding: required for PNG truth "${p.truth}" (pair ${p.id}); give its scale`);
+    }
+    pairs.push({
+      id: p.id,
+      left: out.left ?? '',
+      right: out.right ?? '',
+      truth: out.truth ?? '',
+      ...(out.occlusion !== undefined ? { occlusion: out.occlusion } : {}),
+      ...(p.camera ? { camera: p.camera } : {}),
+      ...(p.group !== undefined ? { group: p.group } : {}),
+      ...(p.tags ? { tags: p.tags } : {}),
+    });
+  });
+  const manifest: Manifest = {
+    file: resolve(file),
+    dir,
+    name: m.name,
+    ...(m.description !== undefined ? { description: m.description } : {}),
+    ...(m.camera ? { camera: m.camera } : {}),
+    disparityRange: [m.disparityRange[0], m.disparityRange[1]],
+    ...(m.truthEncoding ? { truthEncoding: m.truthEncoding } : {}),
+    pairs,
+  };
+  return problems.length ? { problems, partial: manifest } : { problems, manifest };
+}
+
+/** Read the manifest bytes; an unreadable file is an InputError naming it. */
+export function readManifestBytes(file: string): Buffer {
+  try {
+    return readFileSync(file);
+  } catch (e) {
+    const code = (e as NodeJS.ErrnoException).code;
+    throw new InputError(file, code === 'ENOENT' ? `no ${MANIFEST_FILE} here (missing file)` : `cannot read (${code ?? 'error'})`);
+  }
+}
+
+/**
+ * Load a manifest from a dataset folder (reads its dataset.json) or a manifest file.
+ * Throws an InputError (one line, naming the file and the field) on the first problem.
+ */
+export function loadManifest(pathOrDir: string): Manifest {
+  const file = manifestPath(pathOrDir);
+  const bytes = readManifestBytes(file);
+  const v = validateManifest(bytes.toString('utf8'), file);
+  if (!v.manifest) {
+    const first = v.problems[0] ?? 'invalid manifest';
+    const more = v.problems.length > 1 ? ` (and ${v.problems.length - 1} more problem${v.problems.length > 2 ? 's' : ''}; see \`parallax dataset check\`)` : '';
+    throw new InputError(file, first + more);
+  }
+  return v.manifest;
+}
+
+/** Camera of a pair: the pair's own, else the dataset's, else undefined. */
+export function pairCamera(m: Manifest, p: PairEntry): Camera | undefined {
+  return p.camera ?? m.camera;
+}
+
+/** Pairs sorted by id (code-unit order), the order every run and sum uses. */
+export function sortedPairs(m: Manifest): PairEntry[] {
+  return [...m.pairs].sort((a, b) => (a.id < b.id ? -1 : a.id > b.id ? 1 : 0));
+}
