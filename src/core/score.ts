@@ -70,4 +70,8 @@ export interface JobResult {
   scores: PairScore;
   /** Thresholds used for the rates, in order. */
   thresholds: number[];
+  /** The manifest's optional group of the pair (e.g. one recorded sequence); intervals resample groups. */
+  group?: string;
+  /** The manifest's optional tags of the pair; summaries can be split by tag. */
+  tags?: string[];
 }

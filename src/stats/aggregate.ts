@@ -1,0 +1,235 @@
+/**
+ * Aggregation of per-pair results into one summary row per
+ * (configuration, dataset, region[, tag]).
+ *
+ * - mean: the mean over pairs of each per-pair figure. A pair whose figure is empty
+ *   (null: empty region, or no valid prediction for error figures) is left out, and
+ *   `n` says how many pairs each mean uses. `n_pairs` counts pairs whose region is
+ *   non-empty. Cost figures (time_ms, peak_mb) are per job, the same in every region.
+ * - pooled: the figure of all pairs' pixels at once, from the raw sums
+ *   (coverage = valid/pixels, epe = sum|e|/valid, rmse = sqrt(sum e^2/valid),
+ *   bias = sum e/valid, rates = bad/pixels, depth figures likewise);
+ *   no pooled quantiles or cost figures (null).
+ * - A failed job is all-invalid (its sums already say so): coverage 0, rates 100,
+ *   error figures empty.
+ * - Jobs are sorted by (dataset, pair) with plain code-unit comparison before any
+ *   sum, so parallel, resumed and sharded runs give identical numbers.
+ * - Confidence intervals (BCa bootstrap, see bootstrap.ts) resample pairs, or the
+ *   manifest's groups when any pair of the cell has a `group`.
+ */
+import type { JobResult } from '../core/score.js';
+import { REGION_IDS, type RegionId } from '../core/regions.js';
+import { InputError } from '../core/errors.js';
+import { bcaIntervals, type BootstrapOptions, type Interval, type UnitMatrix, type TotalsStat } from './bootstrap.js';
+import { COST_METRICS, figureOf, metricNames, pooledFrom, pooledSpec, readSums, sumColumns } from './metrics.js';
+
+export interface MetricSummary {
+  /** Mean over pairs with a non-empty figure; null when no pair has one. */
+  mean: number | null;
+  /** Pairs the mean uses. */
+  n: number;
+  /** Pooled figure from the sums; null for quantiles and cost figures or an empty pool. */
+  pooled: number | null;
+  /** BCa interval of the mean (null when not computed or undefined). */
+  meanCi: Interval | null;
+  /** BCa interval of the pooled figure. */
+  pooledCi: Interval | null;
+}
+
+export interface SummaryRow {
+  matcher: string;
+  matcherId: string;
+  dataset: string;
+  region: RegionId;
+  /** null = all pairs; otherwise only pairs carrying this manifest tag. */
+  tag: string | null;
+  /** Pairs whose region is non-empty. */
+  n_pairs: number;
+  /** Jobs in the cell (pairs scored, empty region or not). */
+  n_jobs: number;
+  n_failed: number;
+  /** What the intervals resample, and how many of them there are. */
+  unit: 'pair' | 'group';
+  n_units: number;
+  /** Keyed by metric id (see metricNames). */
+  metrics: Record<string, MetricSummary>;
+}
+
+export interface AggregateOptions {
+  thresholds: number[];
+  /** Bootstrap settings; false = no intervals. Default: intervals with the defaults of bootstrap.ts. */
+  ci?: BootstrapOptions | false;
+  /** Also emit rows split by the manifest's pair tags. */
+  byTag?: boolean;
+}
+
+/** Plain code-unit comparison (locale independent). */
+export function cmp(a: string, b: string): number {
+  return a < b ? -1 : a > b ? 1 : 0;
+}
+
+/** Sort jobs by (matcher, dataset, pair); pure. */
+export function sortJobs(results: readonly JobResult[]): JobResult[] {
+  return [...results].sort((x, y) => cmp(x.matcher, y.matcher) || cmp(x.dataset, y.dataset) || cmp(x.pair, y.pair));
+}
+
+/** Index of each wanted threshold in the job's own threshold list. */
+export function rateMapOf(job: JobResult, thresholds: readonly number[]): number[] {
+  return thresholds.map((t) => {
+    const i = job.thresholds.indexOf(t);
+    if (i < 0) {
+      throw new InputError(undefined, `results of ${job.matcher} on ${job.dataset}/${job.pair} have no rate for threshold ${t} px (they have ${job.thresholds.join(', ')})`);
+    }
+    return i;
+  });
+}
+
+/**
+ * Per-unit matrix of one region for a list of jobs already in sorted order:
+ * columns = [value sum, count] per metric, then the raw sum columns.
+ * Units are groups (first appearance in sorted order) when `byGroup`, else pairs.
+ */
+export interface CellMatrix extends UnitMatrix {
+  metrics: string[];
+  /** Column offset of the raw sums. */
+  sumBase: number;
+  unitKeys: string[];
+}
+
+export function cellMatrix(jobs: readonly JobResult[], region: RegionId, thresholds: readonly number[], byGroup: boolean): CellMatrix {
+  const metrics = metricNames(thresholds);
+  const M = metrics.length;
+  const sumCols = sumColumns(thresholds).length;
+  const cols = 2 * M + sumCols;
+  const unitIndex = new Map<string, number>();
+  const unitKeys: string[] = [];
+  for (const j of jobs) {
+    const key = byGroup && j.group !== undefined ? `group:${j.group}` : `pair:${j.dataset}/${j.pair}`;
+    if (!unitIndex.has(key)) {
+      unitIndex.set(key, unitKeys.length);
+      unitKeys.push(key);
+    }
+  }
+  const data = new Float64Array(unitKeys.length * cols);
+  const sums = new Float64Array(sumCols);
+  for (const j of jobs) {
+    const rateMap = rateMapOf(j, thresholds);
+    const u = unitIndex.get(byGroup && j.group !== undefined ? `group:${j.group}` : `pair:${j.dataset}/${j.pair}`)!;
+    const base = u * cols;
+    const score = j.scores[region];
+    const nonEmpty = score.sums.pixels > 0;
+    const cost = { time_ms: j.time_ms, peak_mb: j.peak_mb };
+    for (let m = 0; m < M; m++) {
+      const name = metrics[m]!;
+      const isCost = (COST_METRICS as readonly string[]).includes(name);
+      if (!isCost && !nonEmpty) continue;
+      const v = figureOf(score.figures, name, thresholds, rateMap, cost);
+      if (v === null || !Number.isFinite(v)) continue;
+      data[base + 2 * m] += v;
+      data[base + 2 * m + 1] += 1;
+    }
+    readSums(score.sums, rateMap, sums);
+    for (let c = 0; c < sumCols; c++) data[base + 2 * M + c] += sums[c]!;
+  }
+  return { units: unitKeys.length, cols, data, metrics, sumBase: 2 * M, unitKeys };
+}
+
+/** Statistics of a cell: [mean of metric 0, pooled of metric 0, mean of metric 1, ...]. */
+export function cellStats(cm: CellMatrix, thresholds: readonly number[]): TotalsStat[] {
+  const out: TotalsStat[] = [];
+  cm.metrics.forEach((name, m) => {
+    out.push((t) => (t[2 * m + 1]! > 0 ? t[2 * m]! / t[2 * m + 1]! : NaN));
+    const spec = pooledSpec(name, thresholds);
+    if (spec === null) out.push(() => NaN);
+    else {
+      const num = cm.sumBase + spec.num;
+      const den = cm.sumBase + spec.den;
+      out.push((t) => pooledFrom(spec, t[num]!, t[den]!) ?? NaN);
+    }
+  });
+  return out;
+}
+
+function summarizeCell(
+  jobs: readonly JobResult[],
+  region: RegionId,
+  tag: string | null,
+  opts: AggregateOptions,
+): SummaryRow {
+  const thresholds = opts.thresholds;
+  const byGroup = jobs.some((j) => j.group !== undefined);
+  const cm = cellMatrix(jobs, region, thresholds, byGroup);
+  const stats = cellStats(cm, thresholds);
+  // Point figures from the totals, summed in sorted unit order.
+  const tot = new Float64Array(cm.cols);
+  for (let u = 0; u < cm.units; u++) for (let c = 0; c < cm.cols; c++) tot[c] += cm.data[u * cm.cols + c]!;
+  const cis = opts.ci === false ? stats.map(() => null) : bcaIntervals(cm, stats, opts.ci ?? {});
+  const metrics: Record<string, MetricSummary> = {};
+  cm.metrics.forEach((name, m) => {
+    const mean = stats[2 * m]!(tot);
+    const pooled = stats[2 * m + 1]!(tot);
+    metrics[name] = {
+      mean: Number.isFinite(mean) ? mean : null,
+      n: tot[2 * m + 1]!,
+      pooled: Number.isFinite(pooled) ? pooled : null,
+      meanCi: cis[2 * m] ?? null,
+      pooledCi: cis[2 * m + 1] ?? null,
+    };
+  });
+  let nPairs = 0;
+  let nFailed = 0;
+  for (const j of jobs) {
+    if (j.scores[region].sums.pixels > 0) nPairs++;
+    if (j.status === 'failed') nFailed++;
+  }
+  return {
+    matcher: jobs[0]!.matcher,
+    matcherId: jobs[0]!.matcherId,
+    dataset: jobs[0]!.dataset,
+    region,
+    tag,
+    n_pairs: nPairs,
+    n_jobs: jobs.length,
+    n_failed: nFailed,
+    unit: byGroup ? 'group' : 'pair',
+    n_units: cm.units,
+    metrics,
+  };
+}
+
+/**
+ * Keep one job per (matcher, dataset, pair): a later line of the journal replaces an
+ * earlier one (a re-run after a resume).
+ */
+export function latestJobs(results: readonly JobResult[]): JobResult[] {
+  const byKey = new Map<string, JobResult>();
+  for (const r of results) byKey.set(`${r.matcher}\u0000${r.dataset}\u0000${r.pair}`, r);
+  return [...byKey.values()];
+}
+
+/**
+ * One row per (matcher label, dataset, region), rows sorted by matcher, dataset,
+ * then region in REGION_IDS order; with `byTag`, rows per tag follow each untagged row set.
+ */
+export function aggregate(results: JobResult[], opts: AggregateOptions): SummaryRow[] {
+  const jobs = sortJobs(latestJobs(results));
+  const cells = new Map<string, JobResult[]>();
+  for (const j of jobs) {
+    const key = `${j.matcher}\u0000${j.dataset}`;
+    let list = cells.get(key);
+    if (!list) cells.set(key, (list = []));
+    list.push(j);
+  }
+  const rows: SummaryRow[] = [];
+  for (const list of cells.values()) {
+    for (const region of REGION_IDS) rows.push(summarizeCell(list, region, null, opts));
+    if (opts.byTag) {
+      const tags = [...new Set(list.flatMap((j) => j.tags ?? []))].sort(cmp);
+      for (const tag of tags) {
+        const sub = list.filter((j) => (j.tags ?? []).includes(tag));
+        for (const region of REGION_IDS) rows.push(summarizeCell(sub, region, tag, opts));
+      }
+    }
+  }
+  return rows;
+}

@@ -1,0 +1,83 @@
+/**
+ * Small descriptive statistics with care for accuracy: two-pass mean and
+ * sample standard deviation (the mean is corrected by the mean residual, which keeps
+ * full precision on data with a large common offset such as NIST's NumAcc sets).
+ */
+import { errorFunction } from 'simple-statistics';
+
+/** Arithmetic mean, two-pass corrected; NaN for an empty list. */
+export function mean(xs: ArrayLike<number>): number {
+  const n = xs.length;
+  if (n === 0) return NaN;
+  let s = 0;
+  for (let i = 0; i < n; i++) s += xs[i]!;
+  const m0 = s / n;
+  let r = 0;
+  for (let i = 0; i < n; i++) r += xs[i]! - m0;
+  return m0 + r / n;
+}
+
+/** Sample standard deviation (n - 1 in the denominator), two-pass; NaN below 2 values. */
+export function sampleSd(xs: ArrayLike<number>): number {
+  const n = xs.length;
+  if (n < 2) return NaN;
+  const m = mean(xs);
+  let ss = 0;
+  let sc = 0;
+  for (let i = 0; i < n; i++) {
+    const d = xs[i]! - m;
+    ss += d * d;
+    sc += d;
+  }
+  // Corrected two-pass formula (Chan, Golub & LeVeque 1983).
+  return Math.sqrt((ss - (sc * sc) / n) / (n - 1));
+}
+
+/**
+ * Quantile with linear interpolation between order statistics (numpy's default,
+ * Hyndman & Fan type 7) of an ascending-sorted array.
+ */
+export function quantileSorted(sorted: ArrayLike<number>, p: number): number {
+  const n = sorted.length;
+  if (n === 0) return NaN;
+  if (p <= 0) return sorted[0]!;
+  if (p >= 1) return sorted[n - 1]!;
+  const pos = p * (n - 1);
+  const lo = Math.floor(pos);
+  const f = pos - lo;
+  const a = sorted[lo]!;
+  return f === 0 ? a : a + f * (sorted[lo + 1]! - a);
+}
+
+/** Standard normal CDF via simple-statistics' error function (absolute error ~1e-9). */
+export function normalCdf(x: number): number {
+  if (x === Infinity) return 1;
+  if (x === -Infinity) return 0;
+  return 0.5 * (1 + errorFunction(x / Math.SQRT2));
+}
+
+/**
+ * Standard normal quantile (probit), P. J. Acklam's rational approximation
+ * (relative error below 1.2e-9). simple-statistics' `probit` is not used: it gives
+ * 1.95716 for p = 0.975 (true 1.959964), too coarse for interval endpoints.
+ */
+export function normalQuantile(p: number): number {
+  if (!(p > 0)) return p === 0 ? -Infinity : NaN;
+  if (!(p < 1)) return p === 1 ? Infinity : NaN;
+  const a = [-3.969683028665376e1, 2.209460984245205e2, -2.759285104469687e2, 1.38357751867269e2, -3.066479806614716e1, 2.506628277459239];
+  const b = [-5.447609879822406e1, 1.615858368580409e2, -1.556989798598866e2, 6.680131188771972e1, -1.328068155288572e1];
+  const c = [-7.784894002430293e-3, -3.223964580411365e-1, -2.400758277161838, -2.549732539343734, 4.374664141464968, 2.938163982698783];
+  const d = [7.784695709041462e-3, 3.224671290700398e-1, 2.445134137142996, 3.754408661907416];
+  const plow = 0.02425;
+  if (p < plow) {
+    const q = Math.sqrt(-2 * Math.log(p));
+    return (((((c[0]! * q + c[1]!) * q + c[2]!) * q + c[3]!) * q + c[4]!) * q + c[5]!) / ((((d[0]! * q + d[1]!) * q + d[2]!) * q + d[3]!) * q + 1);
+  }
+  if (p > 1 - plow) {
+    const q = Math.sqrt(-2 * Math.log(1 - p));
+    return -(((((c[0]! * q + c[1]!) * q + c[2]!) * q + c[3]!) * q + c[4]!) * q + c[5]!) / ((((d[0]! * q + d[1]!) * q + d[2]!) * q + d[3]!) * q + 1);
+  }
+  const q = p - 0.5;
+  const r = q * q;
+  return ((((((a[0]! * r + a[1]!) * r + a[2]!) * r + a[3]!) * r + a[4]!) * r + a[5]!) * q) / (((((b[0]! * r + b[1]!) * r + b[2]!) * r + b[3]!) * r + b[4]!) * r + 1);
+}
