@@ -1,0 +1,59 @@
+import { describe, expect, it } from 'vitest';
+import { aggregate } from '../../src/stats/aggregate.js';
+import { summaryCsvText } from '../../src/report/summary-csv.js';
+import { makeJob } from '../stats/fixtures.js';
+
+const T = [1, 2];
+
+/** Minimal CSV parser for the test: RFC 4180 quoting (common practice). */
+function parseCsv(text: string): string[][] {
+  const rows: string[][] = [];
+  let row: string[] = [];
+  let cell = '';
+  let q = false;
+  for (let i = 0; i < text.length; i++) {
+    const c = text[i]!;
+    if (q) {
+      if (c === '"' && text[i + 1] === '"') (cell += '"'), i++;
+      else if (c === '"') q = false;
+      else cell += c;
+    } else if (c === '"') q = true;
+    else if (c === ',') row.push(cell), (cell = '');
+    else if (c === '\n') row.push(cell), rows.push(row), (row = []), (cell = '');
+    else cell += c;
+  }
+  return rows;
+}
+
+describe('summaryCsvText', () => {
+  it('writes means, pooled figures and empty cells for empty figures', () => {
+    const jobs = [
+      makeJob({ pair: 'a', errors: { all: [0.5, -1.5, 3, NaN] } }, T),
+      makeJob({ pair: 'b', errors: { all: [1], visible: [] } }, T),
+    ];
+    const rows = aggregate(jobs, { thresholds: T, ci: false });
+    const csv = parseCsv(summaryCsvText(rows, T));
+    const h = csv[0]!;
+    expect(h.slice(0, 4)).toEqual(['matcher', 'dataset', 'region', 'tag']);
+    expect(h).toContain('mean_over2px');
+    expect(h).toContain('pooled_over2px');
+    expect(h).not.toContain('pooled_q50'); // no pooled quantiles (DESIGN.md)
+    const vis = csv.find((r) => r[2] === 'visible')!;
+    const col = (name: string) => vis[h.indexOf(name)];
+    // Hand computation: only pair a has visible pixels; over2px = 2 of 4 -> 50 %.
+    expect(col('n_pairs')).toBe('1');
+    expect(Number(col('mean_over2px'))).toBe(50);
+    expect(Number(col('pooled_coverage'))).toBe(75);
+    // Intervals not computed -> empty cells; no depth figures -> empty cell.
+    expect(col('mean_epe_lo')).toBe('');
+    expect(col('mean_depth_relerr')).toBe('');
+    expect(csv.length).toBe(1 + 5);
+  });
+
+  it('neutralises a label that a spreadsheet would run as a formula (OWASP CSV injection)', () => {
+    const jobs = [makeJob({ pair: 'a', matcher: '=HYPERLINK("x")', errors: { all: [1] } }, T), makeJob({ pair: 'a', matcher: '\tsgm', errors: { all: [1] } }, T)];
+    const csv = parseCsv(summaryCsvText(aggregate(jobs, { thresholds: T, ci: false }), T));
+    const labels = new Set(csv.slice(1).map((r) => r[0]));
+    expect(labels).toEqual(new Set([`'=HYPERLINK("x")`, `'\tsgm`]));
+  });
+});
