@@ -20,6 +20,12 @@ export interface RegionSums {
   depthCount: number;
   depthSumRel: number;
   depthSumSq: number;
+  /**
+   * Depth failures: truth counted (d + cxShift > eps) and a valid prediction with
+   * d + cxShift <= 0 (no finite positive depth). Left out of depthCount and the depth
+   * means; see src/metrics/score.ts. Optional for sums written before it existed.
+   */
+  depthFail?: number;
 }
 
 /** Figures of one region of one pair. null = empty (region empty or no valid prediction). */

@@ -1,0 +1,226 @@
+/**
+ * Evaluation regions of one pair (bits of REGION_BIT, see src/core/regions.ts).
+ *
+ * Definitions and every choice behind them (parameters in RegionParams):
+ *
+ * - known    = truth finite (NaN and +-Infinity are unknown).
+ * - occluded = known and not visible in the right view. With an occlusion mask, a
+ *              non-zero mask byte means occluded; without one the mask is derived from
+ *              the truth by deriveOcclusion(truth, w, h, occlusionTol, occlusionTau),
+ *              whose "outside the right frame" pixels count as occluded too.
+ * - visible  = known and not occluded.
+ * - flat     = visible and low texture: the mean over a flatWindow x flatWindow box of
+ *              the squared horizontal gradient of the left luminance is strictly below
+ *              flatThreshold (0-255 intensity units squared). After the textureless
+ *              regions of Scharstein & Szeliski (2002, IJCV 47, "A taxonomy and
+ *              evaluation of dense two-frame stereo correspondence algorithms"), which
+ *              average the squared horizontal gradient over a box window.
+ *              Choices: gradient = central difference (I[x+1] - I[x-1]) / 2; at the left
+ *              and right image edges the image is extended by replicating the edge pixel
+ *              (so g = (I[1] - I[0]) / 2 at x = 0). The box mean also replicates the edge
+ *              rows/columns of the squared-gradient image (the window always averages
+ *              flatWindow^2 samples; this equals scipy.ndimage.uniform_filter with
+ *              mode='nearest'). Texture is a property of the image, so the gradient uses
+ *              every pixel, known truth or not. Box sums are running sums in float64,
+ *              separable (rows, then columns): O(1) per pixel whatever the window.
+ * - jump     = visible and within Chebyshev distance jumpRadius (a square of side
+ *              2 * jumpRadius + 1) of a jump pixel. A jump pixel is a pixel with known
+ *              truth that has a 4-neighbour with known truth whose disparity differs by
+ *              strictly more than jumpGap px; both pixels of such a neighbour pair are jump
+ *              pixels. Unknown truth next to known truth is not a jump (nothing is known
+ *              about the difference). The dilation is separable (rows, then columns), each
+ *              pass O(1) per pixel via the distance to the nearest jump pixel.
+ *
+ * All inputs are flat row-major arrays of width * height values.
+ */
+import { REGION_BIT, type RegionMap, type RegionParams } from '../core/regions.js';
+import { UsageError } from '../core/errors.js';
+import { deriveOcclusion } from './occlusion.js';
+
+export function buildRegions(
+  truth: Float32Array,
+  leftGray: Float32Array,
+  occlusion: Uint8Array | undefined,
+  width: number,
+  height: number,
+  params: RegionParams,
+): RegionMap {
+  const n = width * height;
+  if (!Number.isInteger(width) || !Number.isInteger(height) || width <= 0 || height <= 0) {
+    throw new RangeError(`buildRegions: bad size ${width}x${height}`);
+  }
+  if (truth.length !== n || leftGray.length !== n || (occlusion !== undefined && occlusion.length !== n)) {
+    throw new RangeError(`buildRegions: array sizes do not match ${width}x${height}`);
+  }
+  checkRegionParams(params);
+
+  const occ = occlusion ?? deriveOcclusion(truth, width, height, params.occlusionTol, params.occlusionTau);
+  const flat = flatMask(leftGray, width, height, params.flatWindow, params.flatThreshold);
+  const jump = jumpMask(truth, width, height, params.jumpGap, params.jumpRadius);
+
+  const VIS = REGION_BIT.known | REGION_BIT.visible;
+  const OCC = REGION_BIT.known | REGION_BIT.occluded;
+  const FLAT = REGION_BIT.flat;
+  const JUMP = REGION_BIT.jump;
+  const bits = new Uint8Array(n);
+  for (let i = 0; i < n; i++) {
+    const d = truth[i];
+    if (!(d - d === 0)) continue; // NaN or infinite: unknown
+    if (occ[i] !== 0) {
+      bits[i] = OCC;
+    } else {
+      bits[i] = VIS | (flat[i] !== 0 ? FLAT : 0) | (jump[i] !== 0 ? JUMP : 0);
+    }
+  }
+  return { width, height, bits };
+}
+
+/** Throws a UsageError naming the offending RegionParams field. */
+export function checkRegionParams(p: RegionParams): void {
+  if (!(Number.isInteger(p.flatWindow) && p.flatWindow >= 1 && p.flatWindow % 2 === 1)) {
+    throw new UsageError('regions.flatWindow', `must be an odd positive integer, got ${p.flatWindow}`);
+  }
+  if (!(p.flatThreshold >= 0) || !Number.isFinite(p.flatThreshold)) {
+    throw new UsageError('regions.flatThreshold', `must be a finite number >= 0, got ${p.flatThreshold}`);
+  }
+  if (!(p.jumpGap >= 0) || !Number.isFinite(p.jumpGap)) {
+    throw new UsageError('regions.jumpGap', `must be a finite number >= 0, got ${p.jumpGap}`);
+  }
+  if (!(Number.isInteger(p.jumpRadius) && p.jumpRadius >= 0)) {
+    throw new UsageError('regions.jumpRadius', `must be an integer >= 0, got ${p.jumpRadius}`);
+  }
+  if (!Number.isFinite(p.occlusionTol)) {
+    throw new UsageError('regions.occlusionTol', `must be a finite number, got ${p.occlusionTol}`);
+  }
+  if (!Number.isFinite(p.occlusionTau)) {
+    throw new UsageError('regions.occlusionTau', `must be a finite number, got ${p.occlusionTau}`);
+  }
+}
+
+/**
+ * Mean over a window x window box (edge-replicated) of the squared central-difference
+ * horizontal gradient (edge-replicated), float64, row-major. See the file comment.
+ */
+export function textureEnergy(gray: Float32Array, width: number, height: number, window: number): Float64Array {
+  const r = (window - 1) >> 1;
+  const n = width * height;
+  const g2 = new Float64Array(n);
+  for (let y = 0; y < height; y++) {
+    const row = y * width;
+    for (let x = 0; x < width; x++) {
+      const a = gray[row + (x + 1 < width ? x + 1 : width - 1)];
+      const b = gray[row + (x > 0 ? x - 1 : 0)];
+      const g = (a - b) / 2;
+      g2[row + x] = g * g;
+    }
+  }
+  // Horizontal box sums with edge replication, one running sum per row.
+  const h = new Float64Array(n);
+  const wm1 = width - 1;
+  for (let y = 0; y < height; y++) {
+    const row = y * width;
+    let s = 0;
+    for (let j = -r; j <= r; j++) s += g2[row + (j < 0 ? 0 : j > wm1 ? wm1 : j)];
+    for (let x = 0; x < width; x++) {
+      h[row + x] = s;
+      const add = x + r + 1;
+      const sub = x - r;
+      s += g2[row + (add > wm1 ? wm1 : add)] - g2[row + (sub < 0 ? 0 : sub)];
+    }
+  }
+  // Vertical box sums of the row sums, one running sum per column, all columns at once
+  // (row-major friendly: the running sums live in a width-long buffer).
+  const out = new Float64Array(n);
+  const s = new Float64Array(width);
+  const hm1 = height - 1;
+  for (let j = -r; j <= r; j++) {
+    const row = (j < 0 ? 0 : j > hm1 ? hm1 : j) * width;
+    for (let x = 0; x < width; x++) s[x] += h[row + x];
+  }
+  const inv = 1 / (window * window);
+  for (let y = 0; y < height; y++) {
+    const row = y * width;
+    const addRow = (y + r + 1 > hm1 ? hm1 : y + r + 1) * width;
+    const subRow = (y - r < 0 ? 0 : y - r) * width;
+    for (let x = 0; x < width; x++) {
+      out[row + x] = s[x] * inv;
+      s[x] += h[addRow + x] - h[subRow + x];
+    }
+  }
+  return out;
+}
+
+/** 1 where textureEnergy < threshold (strict), else 0. */
+export function flatMask(gray: Float32Array, width: number, height: number, window: number, threshold: number): Uint8Array {
+  const e = textureEnergy(gray, width, height, window);
+  const out = new Uint8Array(e.length);
+  for (let i = 0; i < e.length; i++) out[i] = e[i] < threshold ? 1 : 0;
+  return out;
+}
+
+/**
+ * 1 within Chebyshev distance `radius` of a jump pixel (a known-truth pixel with a
+ * known-truth 4-neighbour differing by more than `gap`), else 0. See the file comment.
+ */
+export function jumpMask(truth: Float32Array, width: number, height: number, gap: number, radius: number): Uint8Array {
+  const n = width * height;
+  const src = new Uint8Array(n);
+  for (let y = 0; y < height; y++) {
+    const row = y * width;
+    for (let x = 0; x < width; x++) {
+      const i = row + x;
+      const d = truth[i];
+      if (!(d - d === 0)) continue;
+      if (x + 1 < width) {
+        const e = truth[i + 1];
+        if (e - e === 0 && Math.abs(d - e) > gap) {
+          src[i] = 1;
+          src[i + 1] = 1;
+        }
+      }
+      if (y + 1 < height) {
+        const e = truth[i + width];
+        if (e - e === 0 && Math.abs(d - e) > gap) {
+          src[i] = 1;
+          src[i + width] = 1;
+        }
+      }
+    }
+  }
+  if (radius === 0) return src;
+  // Rows: mark x when a source lies in [x - radius, x + radius].
+  const tmp = new Uint8Array(n);
+  for (let y = 0; y < height; y++) {
+    const row = y * width;
+    let last = -Infinity; // position of the latest source at or left of x
+    for (let x = 0; x < width; x++) {
+      if (src[row + x]) last = x;
+      if (x - last <= radius) tmp[row + x] = 1;
+    }
+    let next = Infinity; // nearest source at or right of x
+    for (let x = width - 1; x >= 0; x--) {
+      if (src[row + x]) next = x;
+      if (next - x <= radius) tmp[row + x] = 1;
+    }
+  }
+  // Columns, all at once with per-column trackers.
+  const out = new Uint8Array(n);
+  const track = new Float64Array(width);
+  track.fill(-Infinity);
+  for (let y = 0; y < height; y++) {
+    const row = y * width;
+    for (let x = 0; x < width; x++) {
+      if (tmp[row + x]) track[x] = y;
+      if (y - track[x] <= radius) out[row + x] = 1;
+    }
+  }
+  track.fill(Infinity);
+  for (let y = height - 1; y >= 0; y--) {
+    const row = y * width;
+    for (let x = 0; x < width; x++) {
+      if (tmp[row + x]) track[x] = y;
+      if (track[x] - y <= radius) out[row + x] = 1;
+    }
+  }
+  return out;
+}

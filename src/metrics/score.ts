@@ -1,0 +1,333 @@
+/**
+ * Per-pair scoring: one fused pass over the pixels fills the sums of all five regions.
+ *
+ * Definitions (e = prediction - truth, in float64 from the float32 maps; a region's
+ * pixels are those whose RegionMap byte has the region's bit; the scorer looks at the
+ * region bits only, the region builder decides what is known):
+ * - valid prediction: finite. NaN is the only invalid value in memory, but +-Infinity is
+ *   treated as invalid too. pred === null (a failed job) = every prediction invalid.
+ *   (Defensive: a pixel whose truth is not finite but whose region bit is set counts as
+ *   an invalid prediction, since e is not finite.)
+ * - pixels, valid; coverage = 100 * valid / pixels (%).
+ * - epe = sum|e| / valid; rmse = sqrt(sum e^2 / valid); bias = sum e / valid (px).
+ * - bad[t] = pixels with |e| > t (STRICT, float64) or an invalid prediction;
+ *   rate = 100 * bad / pixels (%).
+ * - q50..q99: quantiles of |e| over valid predictions, numpy's default 'linear' method,
+ *   found by selection (quantile.ts).
+ * - Depth, only with opts.camera: Z = focalPx * baselineM / (d + cxShiftPx).
+ *   A pixel enters depth only when its truth has d_t + cxShift > depthEps (default
+ *   DEFAULT_DEPTH_EPS = 1e-6 px: a numerical guard against division by ~0 only; raise it
+ *   for scenes with far-away truth) and its prediction is valid. Then:
+ *     d_p + cxShift > 0  -> counted: depthCount++, depthSumRel += |Zp - Zt| / Zt,
+ *                           depthSumSq += (Zp - Zt)^2
+ *     d_p + cxShift <= 0 -> a depth FAILURE (no positive depth): depthFail++, left out of
+ *                           both means (it has no finite error to average).
+ *   Invalid predictions are left out of depth entirely (coverage reports them).
+ *   depth_relerr = depthSumRel / depthCount (a FRACTION, 0.05 = 5 %, not a percentage);
+ *   depth_rmse_m = sqrt(depthSumSq / depthCount) (metres). null when depthCount is 0.
+ * - Empty region (pixels = 0): every figure null, rates included. pixels > 0 and no valid
+ *   prediction: coverage 0, rates 100, error figures and quantiles null.
+ *
+ * Implementation: a region byte has at most 256 values ("patterns"); the hot loop
+ * accumulates per pattern (one set of additions per pixel, however many regions it is in)
+ * and the region sums are the sums over the patterns that contain the region's bit.
+ * Bad counts: thresholds are sorted once; per pixel the number k of thresholds that |e|
+ * exceeds is counted (a prefix of the sorted list) and a histogram over k is kept, from
+ * which bad[t] follows. |e| of valid predictions is written into a buffer partitioned
+ * by pattern (counting-sort layout from a first pass over the region bytes) and gathered
+ * per region into a scratch buffer for selection. Both buffers are float64 (|e| exact
+ * as numpy computes it) and reused between calls (module-level, grown on demand).
+ */
+import { REGION_BIT, REGION_IDS, type RegionMap } from '../core/regions.js';
+import type { PairScore, RegionFigures, RegionSums } from '../core/score.js';
+import { QUANTILES, type ScoreOptions } from './types.js';
+import { quantilesLinear } from './quantile.js';
+
+/** Default opts.depthEps (px): truth with d + cxShift <= this is left out of depth. */
+export const DEFAULT_DEPTH_EPS = 1e-6;
+
+let valsBuf = new Float64Array(0);
+let scratchBuf = new Float64Array(0);
+
+export function scorePair(
+  pred: Float32Array | null,
+  truth: Float32Array,
+  regions: RegionMap,
+  opts: ScoreOptions,
+): PairScore {
+  const bits = regions.bits;
+  const n = bits.length;
+  if (truth.length !== n || (pred !== null && pred.length !== n)) {
+    throw new RangeError(
+      `scorePair: sizes differ (regions ${n}, truth ${truth.length}, prediction ${pred === null ? 'none' : pred.length})`,
+    );
+  }
+  const thresholds = opts.thresholds;
+  for (const t of thresholds) {
+    if (!Number.isFinite(t)) throw new RangeError(`scorePair: threshold ${t} is not finite`);
+  }
+  const T = thresholds.length;
+  const T1 = T + 1;
+  // Sorted thresholds (ascending) and, for each original position, its sorted position.
+  const order = thresholds.map((_, i) => i).sort((a, b) => thresholds[a] - thresholds[b]);
+  const th = new Float64Array(T);
+  for (let j = 0; j < T; j++) th[j] = thresholds[order[j]];
+
+  // Pass 1: pixels per pattern, and the partition offsets of the |e| buffer.
+  const count = new Float64Array(256);
+  for (let i = 0; i < n; i++) count[bits[i]]++;
+  const start = new Int32Array(256);
+  const pos = new Int32Array(256);
+  let total = 0;
+  for (let b = 1; b < 256; b++) {
+    start[b] = total;
+    pos[b] = total;
+    total += count[b];
+  }
+  if (valsBuf.length < total) valsBuf = new Float64Array(total);
+  const vals = valsBuf;
+
+  const sumAbs = new Float64Array(256);
+  const sumSq = new Float64Array(256);
+  const sumErr = new Float64Array(256);
+  const hist = new Float64Array(256 * T1);
+  const dCount = new Float64Array(256);
+  const dRel = new Float64Array(256);
+  const dSq = new Float64Array(256);
+  const dFail = new Float64Array(256);
+
+  if (pred === null) {
+    for (let b = 1; b < 256; b++) hist[b * T1 + T] = count[b];
+  } else if (opts.camera) {
+    const cam = opts.camera;
+    const fb = cam.focalPx * cam.baselineM;
+    if (!(fb > 0) || !Number.isFinite(fb) || !Number.isFinite(cam.cxShiftPx)) {
+      throw new RangeError('scorePair: camera needs focalPx * baselineM > 0 and a finite cxShiftPx');
+    }
+    const eps = opts.depthEps ?? DEFAULT_DEPTH_EPS;
+    accumulateWithDepth(pred, truth, bits, th, T, vals, pos, sumAbs, sumSq, sumErr, hist, fb, cam.cxShiftPx, eps, dCount, dRel, dSq, dFail);
+  } else {
+    accumulate(pred, truth, bits, th, T, vals, pos, sumAbs, sumSq, sumErr, hist);
+  }
+
+  const out = {} as PairScore;
+  for (const id of REGION_IDS) {
+    const bit = REGION_BIT[id];
+    const s: RegionSums = {
+      pixels: 0,
+      valid: 0,
+      sumAbs: 0,
+      sumSq: 0,
+      sumErr: 0,
+      bad: new Array<number>(T).fill(0),
+      depthCount: 0,
+      depthSumRel: 0,
+      depthSumSq: 0,
+      depthFail: 0,
+    };
+    const kHist = new Float64Array(T1);
+    let nv = 0;
+    for (let b = 1; b < 256; b++) {
+      if ((b & bit) === 0 || count[b] === 0) continue;
+      s.pixels += count[b];
+      const v = pos[b] - start[b];
+      nv += v;
+      s.sumAbs += sumAbs[b];
+      s.sumSq += sumSq[b];
+      s.sumErr += sumErr[b];
+      for (let k = 0; k < T1; k++) kHist[k] += hist[b * T1 + k];
+      s.depthCount += dCount[b];
+      s.depthSumRel += dRel[b];
+      s.depthSumSq += dSq[b];
+      s.depthFail! += dFail[b];
+    }
+    s.valid = nv;
+    // bad for sorted threshold j = pixels exceeding more than j thresholds.
+    let above = 0;
+    const badSorted = new Array<number>(T);
+    for (let j = T - 1; j >= 0; j--) {
+      above += kHist[j + 1];
+      badSorted[j] = above;
+    }
+    for (let j = 0; j < T; j++) s.bad[order[j]] = badSorted[j];
+
+    let qs: number[] | null = null;
+    if (nv > 0) {
+      if (scratchBuf.length < nv) scratchBuf = new Float64Array(Math.max(nv, total));
+      const scratch = scratchBuf;
+      let w = 0;
+      for (let b = 1; b < 256; b++) {
+        if ((b & bit) === 0) continue;
+        const a = start[b];
+        const e = pos[b];
+        if (e > a) {
+          scratch.set(vals.subarray(a, e), w);
+          w += e - a;
+        }
+      }
+      qs = quantilesLinear(scratch, nv, QUANTILES);
+    }
+    out[id] = { sums: s, figures: figuresFromSums(s, thresholds, qs) };
+  }
+  return out;
+}
+
+/**
+ * Figures from sums (per pair, or pooled over pairs with quantiles = null).
+ * `quantiles` are the values for QUANTILES (q50, q75, q90, q99) or null.
+ * Rules in the file comment: null figures for an empty region; null error figures and
+ * quantiles with no valid prediction; depth figures null when depthCount is 0.
+ */
+export function figuresFromSums(
+  sums: RegionSums,
+  thresholds: readonly number[],
+  quantiles: readonly number[] | null,
+): RegionFigures {
+  if (sums.bad.length !== thresholds.length) {
+    throw new RangeError(`figuresFromSums: ${sums.bad.length} bad counts for ${thresholds.length} thresholds`);
+  }
+  const { pixels, valid } = sums;
+  const some = pixels > 0;
+  const anyValid = valid > 0;
+  const q = anyValid && quantiles ? quantiles : null;
+  const depth = sums.depthCount > 0;
+  return {
+    pixels,
+    coverage: some ? (100 * valid) / pixels : null,
+    epe: anyValid ? sums.sumAbs / valid : null,
+    rmse: anyValid ? Math.sqrt(sums.sumSq / valid) : null,
+    bias: anyValid ? sums.sumErr / valid : null,
+    rates: sums.bad.map((b) => (some ? (100 * b) / pixels : null)),
+    q50: q ? q[0] : null,
+    q75: q ? q[1] : null,
+    q90: q ? q[2] : null,
+    q99: q ? q[3] : null,
+    depth_relerr: depth ? sums.depthSumRel / sums.depthCount : null,
+    depth_rmse_m: depth ? Math.sqrt(sums.depthSumSq / sums.depthCount) : null,
+  };
+}
+
+/** All-zero sums for `nThresholds` thresholds. */
+export function emptySums(nThresholds: number): RegionSums {
+  return {
+    pixels: 0,
+    valid: 0,
+    sumAbs: 0,
+    sumSq: 0,
+    sumErr: 0,
+    bad: new Array<number>(nThresholds).fill(0),
+    depthCount: 0,
+    depthSumRel: 0,
+    depthSumSq: 0,
+    depthFail: 0,
+  };
+}
+
+/** a + b, field by field (pooling). Thresholds must match in number and order. */
+export function addSums(a: RegionSums, b: RegionSums): RegionSums {
+  if (a.bad.length !== b.bad.length) {
+    throw new RangeError(`addSums: ${a.bad.length} vs ${b.bad.length} thresholds`);
+  }
+  return {
+    pixels: a.pixels + b.pixels,
+    valid: a.valid + b.valid,
+    sumAbs: a.sumAbs + b.sumAbs,
+    sumSq: a.sumSq + b.sumSq,
+    sumErr: a.sumErr + b.sumErr,
+    bad: a.bad.map((x, i) => x + b.bad[i]),
+    depthCount: a.depthCount + b.depthCount,
+    depthSumRel: a.depthSumRel + b.depthSumRel,
+    depthSumSq: a.depthSumSq + b.depthSumSq,
+    depthFail: (a.depthFail ?? 0) + (b.depthFail ?? 0),
+  };
+}
+
+function accumulate(
+  pred: Float32Array,
+  truth: Float32Array,
+  bits: Uint8Array,
+  th: Float64Array,
+  T: number,
+  vals: Float64Array,
+  pos: Int32Array,
+  sumAbs: Float64Array,
+  sumSq: Float64Array,
+  sumErr: Float64Array,
+  hist: Float64Array,
+): void {
+  const n = bits.length;
+  const T1 = T + 1;
+  for (let i = 0; i < n; i++) {
+    const b = bits[i];
+    if (b === 0) continue;
+    const e = pred[i] - truth[i];
+    if (e - e === 0) {
+      const a = e < 0 ? -e : e;
+      sumAbs[b] += a;
+      sumSq[b] += e * e;
+      sumErr[b] += e;
+      let k = 0;
+      while (k < T && a > th[k]) k++;
+      hist[b * T1 + k]++;
+      vals[pos[b]++] = a;
+    } else {
+      hist[b * T1 + T]++;
+    }
+  }
+}
+
+function accumulateWithDepth(
+  pred: Float32Array,
+  truth: Float32Array,
+  bits: Uint8Array,
+  th: Float64Array,
+  T: number,
+  vals: Float64Array,
+  pos: Int32Array,
+  sumAbs: Float64Array,
+  sumSq: Float64Array,
+  sumErr: Float64Array,
+  hist: Float64Array,
+  fb: number,
+  shift: number,
+  eps: number,
+  dCount: Float64Array,
+  dRel: Float64Array,
+  dSq: Float64Array,
+  dFail: Float64Array,
+): void {
+  const n = bits.length;
+  const T1 = T + 1;
+  for (let i = 0; i < n; i++) {
+    const b = bits[i];
+    if (b === 0) continue;
+    const p = pred[i];
+    const t = truth[i];
+    const e = p - t;
+    if (e - e === 0) {
+      const a = e < 0 ? -e : e;
+      sumAbs[b] += a;
+      sumSq[b] += e * e;
+      sumErr[b] += e;
+      let k = 0;
+      while (k < T && a > th[k]) k++;
+      hist[b * T1 + k]++;
+      vals[pos[b]++] = a;
+      const dt = t + shift;
+      if (dt > eps) {
+        const dp = p + shift;
+        if (dp > 0) {
+          const zt = fb / dt;
+          const dz = fb / dp - zt;
+          dRel[b] += (dz < 0 ? -dz : dz) / zt;
+          dSq[b] += dz * dz;
+          dCount[b]++;
+        } else {
+          dFail[b]++;
+        }
+      }
+    } else {
+      hist[b * T1 + T]++;
+    }
+  }
+}
