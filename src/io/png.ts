@@ -1,0 +1,440 @@
+/**
+ * PNG (ISO/IEC 15948, W3C PNG) images and disparity maps.
+ *
+ * Decoding: the chunk layout is walked here first (signature, IHDR first, chunk
+ * lengths inside the file, CRCs, IEND), the IHDR size is checked against the pixel
+ * limit, and only then does pngjs inflate and unfilter the pixels, with
+ * `skipRescale: true` so that 16-bit samples stay 16-bit. pngjs always hands back
+ * RGBA; it is reduced here to the file's own channels:
+ *   gray -> 1, gray+alpha -> 2, RGB -> 3, RGBA -> 4, palette -> 3 (4 with a tRNS chunk).
+ * Choices (documented in DEVELOPERS.md):
+ * - Gray images of 1, 2 or 4 bits are widened to 8 bits by the exact factor
+ *   255 / (2^depth - 1) (PNG spec, sample depth scaling); 8 and 16 bit are never rescaled.
+ * - A tRNS key colour in a gray or RGB image is ignored (the channels stay as stored).
+ * - Bytes after the IEND chunk are ignored. Ancillary chunks are skipped.
+ *
+ * Encoding is done here directly (not by pngjs): IHDR, one IDAT (zlib), IEND, with the
+ * per-row filter chosen by the minimum-sum-of-absolute-differences heuristic the PNG
+ * spec suggests.
+ *
+ * Disparity PNG: gray, 8 or 16 bit, stored = round(d * scale); the `invalid` code
+ * (default 0) reads as NaN.
+ */
+import { crc32, deflateSync, inflateSync } from 'node:zlib';
+import pngjs from 'pngjs';
+import { InputError } from '../core/errors.js';
+import type { FloatImage, RasterImage } from '../core/image.js';
+import { checkImageSize, pixelLimit, type DecodeOptions } from './limits.js';
+import { assertFloatImage } from './pfm.js';
+
+const SIGNATURE = [0x89, 0x50, 0x4e, 0x47, 0x0d, 0x0a, 0x1a, 0x0a];
+const T_IHDR = 0x49484452;
+const T_IDAT = 0x49444154;
+const T_IEND = 0x49454e44;
+const T_PLTE = 0x504c5445;
+const T_TRNS = 0x74524e53;
+
+/** Allowed bit depths per colour type (PNG spec, IHDR table). */
+const DEPTHS: Record<number, readonly number[]> = {
+  0: [1, 2, 4, 8, 16],
+  2: [8, 16],
+  3: [1, 2, 4, 8],
+  4: [8, 16],
+  6: [8, 16],
+};
+/** Samples per pixel per colour type, as stored in the file. */
+const SAMPLES: Record<number, number> = { 0: 1, 2: 3, 3: 1, 4: 2, 6: 4 };
+
+/** What the IHDR chunk says. */
+export interface PngHeader {
+  width: number;
+  height: number;
+  bitDepth: number;
+  colorType: number;
+  interlaced: boolean;
+}
+
+interface Walked {
+  header: PngHeader;
+  /** The file as pngjs should see it (trailing bytes and ignored tRNS removed). */
+  clean: Buffer;
+  idat: Buffer[];
+  hasTrns: boolean;
+}
+
+function asBuffer(buf: Uint8Array): Buffer {
+  return Buffer.isBuffer(buf) ? buf : Buffer.from(buf.buffer, buf.byteOffset, buf.byteLength);
+}
+
+function chunkName(t: number): string {
+  return String.fromCharCode((t >>> 24) & 0xff, (t >>> 16) & 0xff, (t >>> 8) & 0xff, t & 0xff).replace(/[^\x20-\x7e]/g, '?');
+}
+
+/** Walks the chunk list and validates the structure without touching the pixels. */
+function walk(b: Buffer, name: string, maxPixels: number): Walked {
+  for (let i = 0; i < 8; i++) {
+    if (b[i] !== SIGNATURE[i]) throw new InputError(name, 'not a PNG file (bad signature)');
+  }
+  let pos = 8;
+  let header: PngHeader | undefined;
+  const keep: Buffer[] = [b.subarray(0, 8)];
+  const idat: Buffer[] = [];
+  let hasTrns = false;
+  let hasPlte = false;
+  for (;;) {
+    if (pos + 12 > b.length) throw new InputError(name, 'PNG is truncated (no IEND chunk)');
+    const len = b.readUInt32BE(pos);
+    const type = b.readUInt32BE(pos + 4);
+    if (len > 0x7fffffff || pos + 12 + len > b.length) {
+      throw new InputError(name, `PNG is truncated (chunk ${chunkName(type)} runs past the end of the file)`);
+    }
+    const crcStored = b.readUInt32BE(pos + 8 + len);
+    if (crc32(b.subarray(pos + 4, pos + 8 + len)) !== crcStored) {
+      throw new InputError(name, `PNG chunk ${chunkName(type)} is corrupt (CRC mismatch)`);
+    }
+    const body = b.subarray(pos + 8, pos + 8 + len);
+    const whole = b.subarray(pos, pos + 12 + len);
+    pos += 12 + len;
+    if (!header) {
+      if (type !== T_IHDR || len !== 13) throw new InputError(name, 'PNG does not start with a valid IHDR chunk');
+      header = parseIhdr(body, name);
+      checkImageSize(name, header.width, header.height, maxPixels);
+      keep.push(whole);
+      continue;
+    }
+    if (type === T_IHDR) throw new InputError(name, 'PNG has a second IHDR chunk');
+    if (type === T_IEND) {
+      keep.push(whole);
+      break;
+    }
+    if (type === T_IDAT) idat.push(body);
+    if (type === T_PLTE) hasPlte = true;
+    if (type === T_TRNS) {
+      if (header.colorType !== 3) continue; // key colour ignored (see top of file)
+      hasTrns = true;
+    }
+    keep.push(whole);
+  }
+  if (!header) throw new InputError(name, 'PNG has no IHDR chunk');
+  if (idat.length === 0) throw new InputError(name, 'PNG has no image data (IDAT)');
+  if (header.colorType === 3 && !hasPlte) throw new InputError(name, 'palette PNG has no PLTE chunk');
+  return { header, clean: Buffer.concat(keep), idat, hasTrns };
+}
+
+function parseIhdr(d: Buffer, name: string): PngHeader {
+  const width = d.readUInt32BE(0);
+  const height = d.readUInt32BE(4);
+  const bitDepth = d[8]!;
+  const colorType = d[9]!;
+  if (width === 0 || height === 0 || width > 0x7fffffff || height > 0x7fffffff) {
+    throw new InputError(name, `PNG size ${width}x${height} is not valid`);
+  }
+  const allowed = DEPTHS[colorType];
+  if (!allowed) throw new InputError(name, `PNG colour type ${colorType} is not valid`);
+  if (!allowed.includes(bitDepth)) {
+    throw new InputError(name, `PNG bit depth ${bitDepth} is not valid for colour type ${colorType}`);
+  }
+  if (d[10] !== 0 || d[11] !== 0) throw new InputError(name, 'PNG uses an unknown compression or filter method');
+  if (d[12] !== 0 && d[12] !== 1) throw new InputError(name, `PNG interlace method ${d[12]!} is not valid`);
+  return { width, height, bitDepth, colorType, interlaced: d[12] === 1 };
+}
+
+/** Bytes of the filtered, inflated image data (one filter byte per row, Adam7 passes when interlaced). */
+function inflatedSize(h: PngHeader): number {
+  const bitsPerPixel = SAMPLES[h.colorType]! * h.bitDepth;
+  const rowBytes = (w: number) => Math.ceil((w * bitsPerPixel) / 8) + 1;
+  if (!h.interlaced) return rowBytes(h.width) * h.height;
+  // Adam7 passes: x start, y start, x step, y step
+  const passes = [
+    [0, 0, 8, 8],
+    [4, 0, 8, 8],
+    [0, 4, 4, 8],
+    [2, 0, 4, 4],
+    [0, 2, 2, 4],
+    [1, 0, 2, 2],
+    [0, 1, 1, 2],
+  ];
+  let total = 0;
+  for (const [x0, y0, dx, dy] of passes) {
+    const pw = Math.ceil((h.width - x0!) / dx!);
+    const ph = Math.ceil((h.height - y0!) / dy!);
+    if (pw > 0 && ph > 0) total += rowBytes(pw) * ph;
+  }
+  return total;
+}
+
+function oneLine(e: unknown): string {
+  const m = e instanceof Error ? e.message : String(e);
+  return m.replace(/\s+/g, ' ').slice(0, 200);
+}
+
+/** Reads only the IHDR of a PNG (size and format), with the same structural checks on the first chunk. */
+export function readPngHeader(buf: Uint8Array, name: string): PngHeader {
+  const b = asBuffer(buf);
+  for (let i = 0; i < 8; i++) {
+    if (b[i] !== SIGNATURE[i]) throw new InputError(name, 'not a PNG file (bad signature)');
+  }
+  if (b.length < 33 || b.readUInt32BE(8) !== 13 || b.readUInt32BE(12) !== T_IHDR) {
+    throw new InputError(name, 'PNG does not start with a valid IHDR chunk');
+  }
+  return parseIhdr(b.subarray(16, 29), name);
+}
+
+/**
+ * Decodes a PNG at full bit depth: 8-bit files give a Uint8Array, 16-bit files a
+ * Uint16Array with the stored values, never rescaled.
+ */
+export function decodePng(buf: Uint8Array, name: string, opts?: DecodeOptions): RasterImage {
+  const maxPixels = pixelLimit(opts);
+  const b = asBuffer(buf);
+  const { header, clean, idat, hasTrns } = walk(b, name, maxPixels);
+  const expected = inflatedSize(header);
+  if (header.interlaced) {
+    // pngjs inflates interlaced data without an output limit; bound it here first.
+    try {
+      inflateSync(Buffer.concat(idat), { maxOutputLength: expected });
+    } catch (e) {
+      throw new InputError(name, `PNG image data cannot be inflated within the declared size (${oneLine(e)})`);
+    }
+  }
+  let rgba: Uint8Array | Uint16Array;
+  try {
+    const parsed = pngjs.PNG.sync.read(clean, { skipRescale: true, checkCRC: false });
+    rgba = parsed.data as unknown as Uint8Array | Uint16Array;
+  } catch (e) {
+    throw new InputError(name, `PNG image data are corrupt (${oneLine(e)})`);
+  }
+  const { width, height, colorType, bitDepth } = header;
+  const n = width * height;
+  if (rgba.length !== n * 4) throw new InputError(name, 'PNG image data are corrupt (wrong decoded size)');
+  let channels: 1 | 2 | 3 | 4;
+  if (colorType === 0) channels = 1;
+  else if (colorType === 4) channels = 2;
+  else if (colorType === 2) channels = 3;
+  else if (colorType === 6) channels = 4;
+  else channels = hasTrns ? 4 : 3;
+  const depth: 8 | 16 = bitDepth === 16 ? 16 : 8;
+  const out = depth === 16 ? new Uint16Array(n * channels) : new Uint8Array(n * channels);
+  // sub-8-bit gray: widen exactly to 8 bits (palette indices were already expanded by pngjs)
+  const k = colorType === 0 && bitDepth < 8 ? 255 / (2 ** bitDepth - 1) : 1;
+  if (channels === 1) {
+    for (let i = 0, j = 0; i < n; i++, j += 4) out[i] = rgba[j]! * k;
+  } else if (channels === 2) {
+    for (let i = 0, j = 0; i < n * 2; i += 2, j += 4) {
+      out[i] = rgba[j]!;
+      out[i + 1] = rgba[j + 3]!;
+    }
+  } else if (channels === 3) {
+    for (let i = 0, j = 0; i < n * 3; i += 3, j += 4) {
+      out[i] = rgba[j]!;
+      out[i + 1] = rgba[j + 1]!;
+      out[i + 2] = rgba[j + 2]!;
+    }
+  } else {
+    out.set(rgba);
+  }
+  return { width, height, channels, bitDepth: depth, data: out };
+}
+
+// ---------------------------------------------------------------- encoding
+
+function chunk(type: string, data: Uint8Array): Buffer {
+  const out = Buffer.alloc(12 + data.length);
+  out.writeUInt32BE(data.length, 0);
+  out.write(type, 4, 'latin1');
+  out.set(data, 8);
+  out.writeUInt32BE(crc32(out.subarray(4, 8 + data.length)), 8 + data.length);
+  return out;
+}
+
+const COLOR_TYPE: Record<number, number> = { 1: 0, 2: 4, 3: 2, 4: 6 };
+
+/** Raw big-endian sample bytes of a raster, row after row (no filter bytes). */
+function sampleBytes(img: RasterImage): Uint8Array {
+  const { data } = img;
+  if (img.bitDepth === 8) return new Uint8Array(data.buffer, data.byteOffset, data.length);
+  const out = new Uint8Array(data.length * 2);
+  for (let i = 0, j = 0; i < data.length; i++, j += 2) {
+    const v = data[i]!;
+    out[j] = v >>> 8;
+    out[j + 1] = v & 0xff;
+  }
+  return out;
+}
+
+/**
+ * Filters every row (types 0-4), choosing per row the filter with the smallest sum
+ * of absolute values of the filtered bytes taken as signed (PNG spec, "Filter selection").
+ */
+function filterRows(raw: Uint8Array, rowBytes: number, height: number, bpp: number): Uint8Array {
+  const out = new Uint8Array((rowBytes + 1) * height);
+  const cand = new Uint8Array(rowBytes);
+  for (let y = 0; y < height; y++) {
+    const cur = y * rowBytes;
+    const prev = cur - rowBytes;
+    const dst = y * (rowBytes + 1);
+    let bestSum = Infinity;
+    for (let t = 0; t <= 4; t++) {
+      let sum = 0;
+      for (let i = 0; i < rowBytes; i++) {
+        const x = raw[cur + i]!;
+        const a = i >= bpp ? raw[cur + i - bpp]! : 0;
+        const b = y > 0 ? raw[prev + i]! : 0;
+        const c = i >= bpp && y > 0 ? raw[prev + i - bpp]! : 0;
+        let p: number;
+        if (t === 0) p = 0;
+        else if (t === 1) p = a;
+        else if (t === 2) p = b;
+        else if (t === 3) p = (a + b) >>> 1;
+        else {
+          const pa = Math.abs(b - c);
+          const pb = Math.abs(a - c);
+          const pc = Math.abs(a + b - 2 * c);
+          p = pa <= pb && pa <= pc ? a : pb <= pc ? b : c;
+        }
+        const v = (x - p) & 0xff;
+        cand[i] = v;
+        sum += v < 128 ? v : 256 - v;
+      }
+      if (sum < bestSum) {
+        bestSum = sum;
+        out[dst] = t;
+        out.set(cand, dst + 1);
+      }
+    }
+  }
+  return out;
+}
+
+function assertRaster(img: RasterImage): void {
+  const { width, height, channels, bitDepth, data } = img;
+  if (!Number.isSafeInteger(width) || !Number.isSafeInteger(height) || width < 1 || height < 1) {
+    throw new RangeError(`image size ${String(width)}x${String(height)} is not a positive size`);
+  }
+  if (![1, 2, 3, 4].includes(channels) || (bitDepth !== 8 && bitDepth !== 16)) {
+    throw new RangeError(`unsupported raster: ${String(channels)} channels, ${String(bitDepth)} bit`);
+  }
+  const okType = bitDepth === 8 ? data instanceof Uint8Array : data instanceof Uint16Array;
+  if (!okType || data.length !== width * height * channels) {
+    throw new RangeError(`raster data must be a ${bitDepth === 8 ? 'Uint8Array' : 'Uint16Array'} of ${width * height * channels} samples`);
+  }
+}
+
+/** Encodes a raster as PNG with its own channel count and bit depth. */
+export function encodePng(img: RasterImage): Buffer {
+  assertRaster(img);
+  const { width, height, channels, bitDepth } = img;
+  const bpp = channels * (bitDepth / 8);
+  const rowBytes = width * bpp;
+  const ihdr = Buffer.alloc(13);
+  ihdr.writeUInt32BE(width, 0);
+  ihdr.writeUInt32BE(height, 4);
+  ihdr[8] = bitDepth;
+  ihdr[9] = COLOR_TYPE[channels]!;
+  // compression 0, filter method 0, no interlace
+  const filtered = filterRows(sampleBytes(img), rowBytes, height, bpp);
+  return Buffer.concat([
+    Buffer.from(SIGNATURE),
+    chunk('IHDR', ihdr),
+    chunk('IDAT', deflateSync(filtered, { level: 6 })),
+    chunk('IEND', new Uint8Array(0)),
+  ]);
+}
+
+// ---------------------------------------------------------------- disparity
+
+export interface PngDisparityEncoding {
+  /** stored = round(d * scale); required, no default. */
+  scale: number;
+  /** Stored code meaning "no truth"; default 0. */
+  invalid?: number;
+}
+
+function checkEncoding(enc: PngDisparityEncoding, maxCode: number, name: string | undefined): number {
+  if (!(typeof enc.scale === 'number' && Number.isFinite(enc.scale) && enc.scale > 0)) {
+    throw new InputError(name, `PNG disparity scale must be a positive number, got ${String(enc.scale)}`);
+  }
+  const inv = enc.invalid ?? 0;
+  if (!Number.isInteger(inv) || inv < 0 || inv > maxCode) {
+    throw new InputError(name, `PNG disparity invalid code must be an integer in 0..${maxCode}, got ${String(inv)}`);
+  }
+  return inv;
+}
+
+/**
+ * Decodes a disparity PNG (gray, 8 or 16 bit): d = stored / scale, the invalid code
+ * (default 0) -> NaN.
+ */
+export function decodePngDisparity(
+  buf: Uint8Array,
+  name: string,
+  enc: PngDisparityEncoding,
+  opts?: DecodeOptions,
+): FloatImage {
+  const maxPixels = pixelLimit(opts);
+  const h = readPngHeader(buf, name);
+  if (h.colorType !== 0 || (h.bitDepth !== 8 && h.bitDepth !== 16)) {
+    throw new InputError(name, `a disparity PNG must be 8- or 16-bit gray (this one is colour type ${h.colorType}, ${h.bitDepth} bit)`);
+  }
+  const inv = checkEncoding(enc, h.bitDepth === 16 ? 65535 : 255, name);
+  const img = decodePng(buf, name, { maxPixels });
+  const n = img.width * img.height;
+  const data = new Float32Array(n);
+  const src = img.data;
+  const s = enc.scale;
+  for (let i = 0; i < n; i++) {
+    const v = src[i]!;
+    data[i] = v === inv ? NaN : v / s;
+  }
+  return { width: img.width, height: img.height, data };
+}
+
+function unstorable(
+  name: string | undefined,
+  d: number,
+  code: number,
+  i: number,
+  width: number,
+  s: number,
+  bitDepth: number,
+  inv: number,
+): InputError {
+  const where = `(x ${i % width}, y ${Math.floor(i / width)})`;
+  if (d < 0) return new InputError(name, `negative disparity ${d} at ${where} cannot be stored in a PNG`);
+  if (code === inv) return new InputError(name, `valid disparity ${d} at ${where} rounds onto the invalid code ${inv}`);
+  const max = bitDepth === 16 ? 65535 : 255;
+  return new InputError(name, `disparity ${d} at ${where} times scale ${s} = ${code} does not fit ${bitDepth} bits (max ${max})`);
+}
+
+/**
+ * Encodes a disparity map as a gray PNG (16-bit by default): stored = round(d * scale),
+ * NaN (and infinities) -> the invalid code. Refuses (InputError naming `name`) a
+ * negative disparity, a value whose code does not fit the bit depth, and a valid
+ * value that rounds onto the invalid code.
+ */
+export function encodePngDisparity(
+  img: FloatImage,
+  enc: PngDisparityEncoding & { bitDepth?: 8 | 16 },
+  name?: string,
+): Buffer {
+  assertFloatImage(img);
+  const bitDepth = enc.bitDepth ?? 16;
+  if (bitDepth !== 8 && bitDepth !== 16) throw new RangeError(`bitDepth must be 8 or 16, got ${String(bitDepth)}`);
+  const maxCode = bitDepth === 16 ? 65535 : 255;
+  const inv = checkEncoding(enc, maxCode, name);
+  const { width, height, data } = img;
+  const n = width * height;
+  const out = bitDepth === 16 ? new Uint16Array(n) : new Uint8Array(n);
+  const s = enc.scale;
+  for (let i = 0; i < n; i++) {
+    const d = data[i]!;
+    if (d - d !== 0) {
+      out[i] = inv;
+      continue;
+    }
+    const code = Math.round(d * s);
+    if (d < 0 || code > maxCode || code === inv) throw unstorable(name, d, code, i, width, s, bitDepth, inv);
+    out[i] = code;
+  }
+  return encodePng({ width, height, channels: 1, bitDepth, data: out });
+}
