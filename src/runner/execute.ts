@@ -1,0 +1,137 @@
+/**
+ * Execution of one job: run a matcher (or read an imported prediction) on a loaded
+ * pair, validate the output, score it. Never throws for a matcher's failure: a throw,
+ * a bad output or a bad prediction file becomes a `failed` result scored as
+ * all-invalid. Only an abort (AbortedError) propagates.
+ */
+import { AbortedError } from '../core/errors.js';
+import type { LoadedPair } from '../core/pair.js';
+import type { RegionMap } from '../core/regions.js';
+import type { JobResult } from '../core/score.js';
+import { scorePair } from '../metrics/score.js';
+import type { MatchInput } from '../plugins/contract.js';
+import { startPeakSampler } from './memory.js';
+import type { MatcherRunConfig, RunConfig } from './plan.js';
+import { readPrediction } from './predictions.js';
+
+/** Longest error text kept in a result. */
+const MAX_ERROR_CHARS = 600;
+
+/** One line: the first line of an error message, whitespace folded, bounded. */
+export function oneLineError(e: unknown): string {
+  const raw = e instanceof Error ? e.message || e.name : String(e);
+  const line = raw.replace(/\s*\n\s*/g, ' | ').replace(/\s+/g, ' ').trim() || 'unknown error';
+  return line.length > MAX_ERROR_CHARS ? line.slice(0, MAX_ERROR_CHARS - 1) + '…' : line;
+}
+
+/** Check a matcher's return value: a Float32Array of width*height (directly or in { disparity }). */
+export function validateOutput(out: unknown, width: number, height: number): Float32Array {
+  const arr = out instanceof Float32Array ? out : (out as { disparity?: unknown } | null)?.disparity;
+  if (!(arr instanceof Float32Array)) {
+    const what = arr === undefined ? typeof out : Object.prototype.toString.call(arr).slice(8, -1);
+    throw new Error(`returned ${what}, expected a Float32Array of ${width}x${height} values`);
+  }
+  if (arr.length !== width * height) {
+    throw new Error(`returned ${arr.length} values, expected ${width}x${height} = ${width * height}`);
+  }
+  return arr;
+}
+
+export interface JobOutcome {
+  result: JobResult;
+  /** The output when the job succeeded (for previews). */
+  disparity: Float32Array | null;
+}
+
+function matchInput(pair: LoadedPair): MatchInput {
+  // Copies: a matcher that writes into its input cannot affect the next one.
+  return {
+    width: pair.width,
+    height: pair.height,
+    left: pair.leftGray.slice(),
+    right: pair.rightGray.slice(),
+    leftColor: pair.left,
+    rightColor: pair.right,
+    minDisparity: pair.disparityRange[0],
+    maxDisparity: pair.disparityRange[1],
+    source: { pairId: pair.id, left: pair.files.left, right: pair.files.right },
+    threads: 1,
+  };
+}
+
+async function runMatcher(
+  cfg: MatcherRunConfig,
+  pair: LoadedPair,
+  signal: AbortSignal,
+): Promise<{ disparity: Float32Array | null; error?: string; timeMs: number | null; peakMb: number | null }> {
+  const input = matchInput(pair);
+  const sampler = startPeakSampler();
+  const t0 = performance.now();
+  let out: unknown;
+  let error: string | undefined;
+  try {
+    out = await cfg.plugin.match(input, cfg.params, signal);
+  } catch (e) {
+    if (signal.aborted) {
+      sampler.stop();
+      throw new AbortedError();
+    }
+    error = oneLineError(e);
+  }
+  const timeMs = performance.now() - t0;
+  const peakMb = sampler.stop();
+  if (error !== undefined) return { disparity: null, error, timeMs, peakMb };
+  try {
+    return { disparity: validateOutput(out, pair.width, pair.height), timeMs, peakMb };
+  } catch (e) {
+    return { disparity: null, error: oneLineError(e), timeMs, peakMb };
+  }
+}
+
+/** Run one configuration on one loaded pair and score it. */
+export async function runJob(
+  cfg: RunConfig,
+  pair: LoadedPair,
+  regions: RegionMap,
+  thresholds: readonly number[],
+  signal: AbortSignal,
+): Promise<JobOutcome> {
+  if (signal.aborted) throw new AbortedError();
+  let disparity: Float32Array | null = null;
+  let error: string | undefined;
+  let timeMs: number | null = null;
+  let peakMb: number | null = null;
+  if (cfg.kind === 'matcher') {
+    const r = await runMatcher(cfg, pair, signal);
+    disparity = r.disparity;
+    error = r.error;
+    timeMs = r.timeMs === null ? null : Math.round(r.timeMs * 1000) / 1000;
+    peakMb = r.peakMb;
+  } else {
+    try {
+      disparity = await readPrediction(cfg.source, pair.dataset, pair.id, pair.width, pair.height);
+    } catch (e) {
+      error = oneLineError(e);
+    }
+  }
+  const scores = scorePair(disparity, pair.truth.data, regions, {
+    thresholds,
+    ...(pair.camera ? { camera: pair.camera } : {}),
+  });
+  const result: JobResult = {
+    matcher: cfg.label,
+    matcherId: cfg.matcherId,
+    params: cfg.params,
+    dataset: pair.dataset,
+    pair: pair.id,
+    status: disparity ? 'ok' : 'failed',
+    ...(error !== undefined ? { error } : {}),
+    time_ms: timeMs,
+    peak_mb: peakMb,
+    scores,
+    thresholds: [...thresholds],
+    ...(pair.group !== undefined ? { group: pair.group } : {}),
+    ...(pair.tags ? { tags: [...pair.tags] } : {}),
+  };
+  return { result, disparity };
+}

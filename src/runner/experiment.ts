@@ -1,0 +1,161 @@
+/**
+ * Experiment settings: what a run measures. They come from the command line or from
+ * an experiment file (JSON, zod-validated, paths relative to the file):
+ *
+ *   { "datasets": ["../datasets/demo"],
+ *     "matchers": ["block", "sgm:p2=[64,96]", { "program": { ... } }],
+ *     "predictions": [{ "dir": "preds", "label": "net-v2", "scale": 256 }],
+ *     "thresholds": [0.5, 1, 2], "regions": { "flatThreshold": 6 },
+ *     "name": "dock-tuning", "out": "../reports/dock-tuning" }
+ */
+import { readFileSync } from 'node:fs';
+import { dirname, resolve } from 'node:path';
+import { z } from 'zod';
+import { InputError, UsageError } from '../core/errors.js';
+import { DEFAULT_REGION_PARAMS, type RegionParams } from '../core/regions.js';
+import { formatFieldPath } from '../dataset/manifest.js';
+import { DEFAULT_THRESHOLDS } from '../metrics/types.js';
+import type { PredictionSource } from './predictions.js';
+
+/** A matcher spec: `id[:key=value,...]` (or a module path), or an outside program definition. */
+export type MatcherSpec = string | { readonly program: unknown };
+
+export interface RunSettings {
+  /** Dataset folders or manifest files, absolute. */
+  datasets: string[];
+  matchers: MatcherSpec[];
+  predictions: PredictionSource[];
+  /** Bad-pixel thresholds in px, ascending, distinct. */
+  thresholds: number[];
+  regions: RegionParams;
+  /** Run folder (absolute); default reports/<name>. */
+  out?: string;
+  name?: string;
+  /** Folder that matcher module paths and program definitions are relative to. */
+  baseDir: string;
+}
+
+const positive = z.number().refine((v) => Number.isFinite(v) && v > 0, 'must be a finite number > 0');
+
+export const regionParamsSchema = z.strictObject({
+  flatWindow: z.number().int().min(1).refine((v) => v % 2 === 1, 'must be odd').optional(),
+  flatThreshold: z.number().min(0).optional(),
+  jumpGap: positive.optional(),
+  jumpRadius: z.number().int().min(0).optional(),
+  occlusionTol: z.number().min(0).optional(),
+  occlusionTau: z.number().min(0).optional(),
+});
+
+export const experimentFileSchema = z.strictObject({
+  name: z.string().min(1).optional(),
+  description: z.string().optional(),
+  datasets: z.array(z.string().min(1)).min(1, 'must list at least one dataset'),
+  matchers: z.array(z.union([z.string().min(1), z.strictObject({ program: z.unknown() })])).default([]),
+  predictions: z
+    .array(
+      z.strictObject({
+        dir: z.string().min(1),
+        label: z.string().min(1),
+        scale: positive.optional(),
+        invalid: z.number().int().min(0).max(65535).optional(),
+      }),
+    )
+    .default([]),
+  thresholds: z.array(positive).min(1).optional(),
+  regions: regionParamsSchema.optional(),
+  out: z.string().min(1).optional(),
+});
+
+export type ExperimentFile = z.infer<typeof experimentFileSchema>;
+
+/** Sort ascending and refuse duplicates; `option` names the setting in errors. */
+export function normaliseThresholds(values: readonly number[], option: string): number[] {
+  if (!values.length) throw new UsageError(option, 'give at least one threshold');
+  for (const v of values) {
+    if (!Number.isFinite(v) || v <= 0) throw new UsageError(option, `threshold ${String(v)} is not a number > 0`);
+  }
+  const sorted = [...values].sort((a, b) => a - b);
+  for (let i = 1; i < sorted.length; i++) {
+    if (sorted[i] === sorted[i - 1]) throw new UsageError(option, `threshold ${sorted[i]} is given twice`);
+  }
+  return sorted;
+}
+
+/** Parse `0.5,1,2` (the --thresholds option). */
+export function parseThresholds(text: string): number[] {
+  const parts = text.split(',').map((s) => s.trim());
+  const vals = parts.map((s) => (s === '' ? NaN : Number(s)));
+  const bad = parts.find((s, i) => !Number.isFinite(vals[i]!));
+  if (bad !== undefined) throw new UsageError('--thresholds', `"${bad}" is not a number (expected a comma list such as 0.5,1,2)`);
+  return normaliseThresholds(vals, '--thresholds');
+}
+
+/** Region parameters with defaults; checks the partial set given. */
+export function regionParams(partial: Partial<RegionParams> | undefined, option = 'regions'): RegionParams {
+  const r = regionParamsSchema.safeParse(partial ?? {});
+  if (!r.success) {
+    const i = r.error.issues[0]!;
+    throw new UsageError(`${option}.${formatFieldPath(i.path)}`, i.message);
+  }
+  const out: RegionParams = { ...DEFAULT_REGION_PARAMS };
+  for (const [k, v] of Object.entries(r.data)) if (v !== undefined) (out as unknown as Record<string, number>)[k] = v;
+  return out;
+}
+
+/** Read and validate an experiment file; errors name the file and the field. */
+export function loadExperimentFile(path: string): RunSettings {
+  const abs = resolve(path);
+  let text: string;
+  try {
+    text = readFileSync(abs, 'utf8');
+  } catch (e) {
+    const code = (e as NodeJS.ErrnoException).code;
+    throw new InputError(path, code === 'ENOENT' ? 'no such experiment file' : `cannot read (${code ?? 'error'})`);
+  }
+  let json: unknown;
+  try {
+    json = JSON.parse(text);
+  } catch (e) {
+    throw new InputError(path, `not valid JSON (${(e as Error).message.split('\n')[0]})`);
+  }
+  const r = experimentFileSchema.safeParse(json);
+  if (!r.success) {
+    const i = r.error.issues[0]!;
+    throw new InputError(path, `field ${formatFieldPath(i.path)}: ${i.message}`);
+  }
+  const f = r.data;
+  const base = dirname(abs);
+  let thresholds: number[];
+  try {
+    thresholds = normaliseThresholds(f.thresholds ?? DEFAULT_THRESHOLDS, 'thresholds');
+  } catch (e) {
+    throw new InputError(path, `field ${(e as Error).message}`);
+  }
+  let regions: RegionParams;
+  try {
+    regions = regionParams(f.regions);
+  } catch (e) {
+    throw new InputError(path, `field ${(e as Error).message}`);
+  }
+  return {
+    datasets: f.datasets.map((d) => resolve(base, d)),
+    matchers: f.matchers,
+    predictions: f.predictions.map((p) => ({
+      label: p.label,
+      dir: resolve(base, p.dir),
+      ...(p.scale !== undefined ? { scale: p.scale } : {}),
+      ...(p.invalid !== undefined ? { invalid: p.invalid } : {}),
+    })),
+    thresholds,
+    regions,
+    ...(f.out !== undefined ? { out: resolve(base, f.out) } : {}),
+    ...(f.name !== undefined ? { name: f.name } : {}),
+    baseDir: base,
+  };
+}
+
+/** A run name safe as a folder name. */
+export function safeRunName(text: string): string {
+  const s = text.replace(/[^A-Za-z0-9._+=-]+/g, '_').replace(/^[._]+/, '');
+  return (s || 'run').slice(0, 80);
+}

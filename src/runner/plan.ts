@@ -1,0 +1,130 @@
+/**
+ * From settings to a run plan: datasets loaded and hashed, matcher configurations
+ * resolved, labels checked, the run folder chosen. No matching happens here.
+ */
+import { createHash } from 'node:crypto';
+import { resolve } from 'node:path';
+import { UsageError } from '../core/errors.js';
+import type { ParamValue } from '../core/params.js';
+import type { RegionParams } from '../core/regions.js';
+import { datasetHash } from '../dataset/hash.js';
+import { loadManifest, sortedPairs, type Manifest } from '../dataset/manifest.js';
+import { withDefaults, type MatcherPlugin } from '../plugins/contract.js';
+import { parseProgramMatcherDef } from '../plugins/program-def.js';
+import { programMatcher, resolveMatchers } from '../plugins/registry.js';
+import { safeRunName, type RunSettings } from './experiment.js';
+import { enumerateJobs, type JobKey } from './jobs.js';
+import { checkPredictionSource, type PredictionSource } from './predictions.js';
+
+/** A matcher configuration of the run. */
+export interface MatcherRunConfig {
+  readonly kind: 'matcher';
+  readonly label: string;
+  readonly matcherId: string;
+  readonly params: Record<string, ParamValue>;
+  readonly codeHash: string;
+  readonly version: string;
+  readonly plugin: MatcherPlugin;
+}
+
+/** Imported predictions, scored like a matcher (matcherId `predictions`). */
+export interface PredictionRunConfig {
+  readonly kind: 'predictions';
+  readonly label: string;
+  readonly matcherId: 'predictions';
+  readonly params: Record<string, ParamValue>;
+  readonly source: PredictionSource;
+}
+
+export type RunConfig = MatcherRunConfig | PredictionRunConfig;
+
+export interface PlannedDataset {
+  /** As given (for provenance). */
+  readonly path: string;
+  readonly manifest: Manifest;
+  readonly hash: string;
+}
+
+export interface RunPlan {
+  readonly name: string;
+  /** Absolute run folder. */
+  readonly runDir: string;
+  readonly datasets: readonly PlannedDataset[];
+  readonly configs: readonly RunConfig[];
+  readonly thresholds: readonly number[];
+  readonly regions: RegionParams;
+  /** Every job, sorted (see jobs.ts). */
+  readonly jobs: readonly JobKey[];
+}
+
+function sha256(text: string): string {
+  return createHash('sha256').update(text).digest('hex');
+}
+
+/** Resolve every matcher spec of the settings to configurations. */
+export async function resolveConfigs(settings: RunSettings): Promise<RunConfig[]> {
+  const configs: RunConfig[] = [];
+  const strings = settings.matchers.filter((m): m is string => typeof m === 'string');
+  if (strings.length) {
+    for (const c of await resolveMatchers(strings, { cwd: settings.baseDir })) {
+      configs.push({
+        kind: 'matcher',
+        label: c.label,
+        matcherId: c.plugin.id,
+        params: c.params,
+        codeHash: c.codeHash,
+        version: c.plugin.version,
+        plugin: c.plugin,
+      });
+    }
+  }
+  settings.matchers.forEach((m, i) => {
+    if (typeof m === 'string') return;
+    const def = parseProgramMatcherDef(m.program, `matchers[${i}].program`);
+    const plugin = programMatcher(def, settings.baseDir);
+    configs.push({
+      kind: 'matcher',
+      label: plugin.id,
+      matcherId: plugin.id,
+      params: withDefaults(plugin, {}),
+      codeHash: sha256(JSON.stringify(def)),
+      version: plugin.version,
+      plugin,
+    });
+  });
+  for (const p of settings.predictions) {
+    checkPredictionSource(p);
+    configs.push({ kind: 'predictions', label: p.label, matcherId: 'predictions', params: {}, source: p });
+  }
+  const seen = new Set<string>();
+  for (const c of configs) {
+    if (seen.has(c.label)) throw new UsageError('--matcher', `configuration "${c.label}" is given twice; each label must be unique`);
+    seen.add(c.label);
+  }
+  return configs;
+}
+
+/** Load datasets, resolve configurations and enumerate jobs. */
+export async function planRun(settings: RunSettings, cwd = process.cwd()): Promise<RunPlan> {
+  if (!settings.datasets.length) throw new UsageError('--dataset', 'give at least one dataset folder or manifest');
+  if (!settings.matchers.length && !settings.predictions.length) {
+    throw new UsageError('--matcher', 'give at least one matcher (or --predictions with --label)');
+  }
+  const datasets: PlannedDataset[] = [];
+  const names = new Map<string, string>();
+  for (const path of settings.datasets) {
+    const manifest = loadManifest(path);
+    const other = names.get(manifest.name);
+    if (other !== undefined) throw new UsageError('--dataset', `${path} and ${other} are both named "${manifest.name}"; dataset names must differ`);
+    names.set(manifest.name, path);
+    datasets.push({ path, manifest, hash: await datasetHash(manifest) });
+  }
+  const configs = await resolveConfigs(settings);
+  const name = safeRunName(settings.name ?? [datasets[0]!.manifest.name, ...configs.map((c) => c.label)].join('-'));
+  const runDir = settings.out ?? resolve(cwd, 'reports', name);
+  const jobs = enumerateJobs(
+    datasets.map((d) => ({ name: d.manifest.name, pairIds: sortedPairs(d.manifest).map((p) => p.id) })),
+    configs.map((c) => c.label),
+  );
+  return { name, runDir, datasets, configs, thresholds: settings.thresholds, regions: settings.regions, jobs };
+}

@@ -1,0 +1,66 @@
+/**
+ * Imported predictions: disparity maps made elsewhere, scored like a matcher's output.
+ * For a pair `<id>` of dataset `<name>` the file is looked up as
+ * `<dir>/<name>/<id>.<ext>` first (several datasets in one run), then `<dir>/<id>.<ext>`,
+ * with ext in the order pfm, npy, png. PNG needs a scale (and takes an invalid code).
+ */
+import { existsSync, readdirSync } from 'node:fs';
+import { join } from 'node:path';
+import { UsageError } from '../core/errors.js';
+import type { FloatImage } from '../core/image.js';
+import { readDisparityFile } from '../io/files.js';
+
+export const PREDICTION_EXTENSIONS = ['pfm', 'npy', 'png'] as const;
+
+export interface PredictionSource {
+  /** Matcher column for these predictions. */
+  readonly label: string;
+  /** Absolute folder. */
+  readonly dir: string;
+  /** PNG stored value = round(d * scale). */
+  readonly scale?: number;
+  /** PNG code for "no answer" (default 0). */
+  readonly invalid?: number;
+}
+
+/** The prediction file of a pair, or undefined when there is none. */
+export function findPredictionFile(src: PredictionSource, dataset: string, pair: string): string | undefined {
+  for (const base of [join(src.dir, dataset), src.dir]) {
+    for (const ext of PREDICTION_EXTENSIONS) {
+      const f = join(base, `${pair}.${ext}`);
+      if (existsSync(f)) return f;
+    }
+  }
+  return undefined;
+}
+
+/** Refuse a prediction folder that is missing, or holds PNG files while no scale is given. */
+export function checkPredictionSource(src: PredictionSource): void {
+  let names: string[];
+  try {
+    names = readdirSync(src.dir);
+  } catch {
+    throw new UsageError('--predictions', `${src.dir} is not a readable folder`);
+  }
+  if (src.scale === undefined && names.some((n) => n.toLowerCase().endsWith('.png'))) {
+    throw new UsageError('--prediction-scale', `${src.dir} holds PNG predictions; give their scale (stored value = disparity * scale)`);
+  }
+}
+
+/**
+ * Read one prediction. Throws (InputError) for a missing, unreadable or malformed
+ * file; the runner records that as a failed job.
+ */
+export async function readPrediction(src: PredictionSource, dataset: string, pair: string, width: number, height: number): Promise<Float32Array> {
+  const file = findPredictionFile(src, dataset, pair);
+  if (!file) throw new Error(`no prediction file ${pair}.{${PREDICTION_EXTENSIONS.join(',')}} in ${src.dir}`);
+  const img: FloatImage = await readDisparityFile(file, {
+    ...(src.scale !== undefined ? { pngScale: src.scale } : {}),
+    ...(src.invalid !== undefined ? { pngInvalid: src.invalid } : {}),
+    maxPixels: Math.max(1, 4 * width * height), // bounded, yet a wrong size gets the clear message below
+  });
+  if (img.width !== width || img.height !== height) {
+    throw new Error(`${file}: size ${img.width}x${img.height} differs from the pair's ${width}x${height}`);
+  }
+  return img.data;
+}

@@ -1,0 +1,113 @@
+/**
+ * run.json: provenance of a run — tool version, git commit (when the tool runs from
+ * a git checkout), configuration, dataset hashes, Node version, CPU, OS, times.
+ */
+import { execFileSync } from 'node:child_process';
+import { existsSync, readFileSync } from 'node:fs';
+import { cpus, platform, release, arch, totalmem } from 'node:os';
+import { dirname, join } from 'node:path';
+import { fileURLToPath } from 'node:url';
+import type { RunPlan } from './plan.js';
+
+export const RUN_INFO_FILE = 'run.json';
+
+/** The package root (folder of parallax's package.json), found upward from this file. */
+export function toolRoot(): string | undefined {
+  let dir = dirname(fileURLToPath(import.meta.url));
+  for (let i = 0; i < 6; i++) {
+    const pj = join(dir, 'package.json');
+    if (existsSync(pj)) {
+      try {
+        if ((JSON.parse(readFileSync(pj, 'utf8')) as { name?: string }).name === 'parallax') return dir;
+      } catch {
+        /* keep looking */
+      }
+    }
+    dir = dirname(dir);
+  }
+  return undefined;
+}
+
+export function toolVersion(): string {
+  const root = toolRoot();
+  if (!root) return 'unknown';
+  try {
+    return (JSON.parse(readFileSync(join(root, 'package.json'), 'utf8')) as { version?: string }).version ?? 'unknown';
+  } catch {
+    return 'unknown';
+  }
+}
+
+/** The tool's git commit and whether its tree has changes; null outside a git checkout. */
+export function gitInfo(): { commit: string; dirty: boolean } | null {
+  const root = toolRoot();
+  if (!root) return null;
+  try {
+    const opts = { cwd: root, stdio: ['ignore', 'pipe', 'ignore'] as ['ignore', 'pipe', 'ignore'], encoding: 'utf8' as const, timeout: 5000 };
+    const commit = execFileSync('git', ['rev-parse', 'HEAD'], opts).trim();
+    const status = execFileSync('git', ['status', '--porcelain', '--untracked-files=no'], opts).trim();
+    return { commit, dirty: status.length > 0 };
+  } catch {
+    return null;
+  }
+}
+
+export interface RunInfo {
+  tool: { name: 'parallax'; version: string; git: { commit: string; dirty: boolean } | null };
+  name: string;
+  status: 'running' | 'complete' | 'aborted';
+  started: string;
+  ended: string | null;
+  config: {
+    thresholds: number[];
+    regions: Record<string, number>;
+    matchers: { label: string; matcherId: string; kind: string; version?: string; params: Record<string, unknown>; codeHash?: string; predictions?: { dir: string; scale?: number; invalid?: number } }[];
+    datasets: { name: string; path: string; manifest: string; hash: string; pairs: number }[];
+  };
+  jobs: { total: number; ok: number; failed: number };
+  environment: { node: string; cpu: { model: string; count: number }; os: { platform: string; release: string; arch: string }; memoryMb: number };
+  notes: { peak_mb: string; time_ms: string };
+}
+
+/** The provenance record of a plan (status `running`, no end time yet). */
+export function runInfo(plan: RunPlan, started: Date): RunInfo {
+  const c = cpus();
+  return {
+    tool: { name: 'parallax', version: toolVersion(), git: gitInfo() },
+    name: plan.name,
+    status: 'running',
+    started: started.toISOString(),
+    ended: null,
+    config: {
+      thresholds: [...plan.thresholds],
+      regions: { ...plan.regions },
+      matchers: plan.configs.map((cfg) =>
+        cfg.kind === 'matcher'
+          ? { label: cfg.label, matcherId: cfg.matcherId, kind: 'matcher', version: cfg.version, params: cfg.params, codeHash: cfg.codeHash }
+          : {
+              label: cfg.label,
+              matcherId: cfg.matcherId,
+              kind: 'predictions',
+              params: cfg.params,
+              predictions: {
+                dir: cfg.source.dir,
+                ...(cfg.source.scale !== undefined ? { scale: cfg.source.scale } : {}),
+                ...(cfg.source.invalid !== undefined ? { invalid: cfg.source.invalid } : {}),
+              },
+            },
+      ),
+      datasets: plan.datasets.map((d) => ({ name: d.manifest.name, path: d.path, manifest: d.manifest.file, hash: d.hash, pairs: d.manifest.pairs.length })),
+    },
+    jobs: { total: plan.jobs.length, ok: 0, failed: 0 },
+    environment: {
+      node: process.version,
+      cpu: { model: c[0]?.model.trim() ?? 'unknown', count: c.length },
+      os: { platform: platform(), release: release(), arch: arch() },
+      memoryMb: Math.round(totalmem() / 2 ** 20),
+    },
+    notes: {
+      peak_mb: 'peak resident set size (RSS) of the whole parallax process while the job ran, in MiB; includes the loaded pair and the runtime',
+      time_ms: 'wall time around the matcher call, in the harness process (a program matcher includes its process start)',
+    },
+  };
+}
