@@ -3,7 +3,11 @@
  * (src/plugins/registry.ts) reads this list.
  */
 import type { MatcherPlugin } from '../src/plugins/contract.js';
+import { blockMatcher } from './block/index.js';
+import { censusMatcher } from './census/index.js';
 
 export const BUILTIN_MATCHERS: readonly MatcherPlugin[] = [
   // one entry per matcher folder, e.g. blockMatcher from './block/index.js'
+  blockMatcher,
+  censusMatcher,
 ];

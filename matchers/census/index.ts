@@ -1,0 +1,74 @@
+/**
+ * Built-in matcher `census`: census transform (Zabih & Woodfill 1994), Hamming
+ * distance between bit strings as the pixel cost, box-sum aggregation over a square
+ * window, winner-take-all, and the shared post-processing stages.
+ * Candidates whose match x - d falls outside the right image are excluded.
+ */
+import type { MatcherPlugin, MatchInput, ParamValues } from '../../src/plugins/contract.js';
+import { boxSum } from '../kernels/box.js';
+import { censusTransform, hammingSlice } from '../kernels/census.js';
+import { POSTPROCESS_PARAMS, readPostprocess } from '../kernels/postprocess.js';
+import { checkInputSizes, disparityLevels } from '../kernels/range.js';
+import { matchBySlices } from '../kernels/slices.js';
+
+export interface CensusOptions {
+  /** Census window width and height (odd). */
+  censusW: number;
+  censusH: number;
+  /** Aggregation window side (odd; 1 = no aggregation). */
+  window: number;
+}
+
+export function readCensusOptions(params: ParamValues): CensusOptions {
+  const n = (k: string, d: number): number => {
+    const v = params[k];
+    return typeof v === 'number' ? v : d;
+  };
+  return { censusW: n('censusW', 9), censusH: n('censusH', 7), window: n('window', 5) };
+}
+
+/** The census matcher as a plain function (the plugin's match). */
+export function censusMatch(input: MatchInput, params: ParamValues, signal?: AbortSignal): Float32Array {
+  const { width, height, left, right } = input;
+  checkInputSizes(width, height, left, right);
+  const { minDisparity, levels } = disparityLevels(input.minDisparity, input.maxDisparity);
+  const opts = readCensusOptions(params);
+  const post = readPostprocess(params);
+  const cl = censusTransform(left, width, height, opts.censusW, opts.censusH);
+  const cr = censusTransform(right, width, height, opts.censusW, opts.censusH);
+  const radius = (opts.window - 1) >> 1;
+  const n = width * height;
+  const ham = radius > 0 ? new Float64Array(n) : null;
+  const tmp = radius > 0 ? new Float64Array(n) : null;
+  return matchBySlices(width, height, minDisparity, levels, post, signal, (d, out) => {
+    if (ham === null || tmp === null) {
+      hammingSlice(cl.bits, cr.bits, cl.words, width, height, d, out);
+    } else {
+      hammingSlice(cl.bits, cr.bits, cl.words, width, height, d, ham);
+      boxSum(ham, out, width, height, radius, tmp);
+    }
+  });
+}
+
+export const censusMatcher: MatcherPlugin = {
+  id: 'census',
+  summary: 'census transform with Hamming cost, box aggregation, winner-take-all',
+  version: '1.0.0',
+  params: [
+    { name: 'censusW', type: 'int', default: 9, min: 3, max: 15, odd: true, description: 'census window width, px (odd)' },
+    { name: 'censusH', type: 'int', default: 7, min: 1, max: 15, odd: true, description: 'census window height, px (odd)' },
+    {
+      name: 'window',
+      type: 'int',
+      default: 5,
+      min: 1,
+      max: 51,
+      odd: true,
+      description: 'aggregation window side, px (odd; 1 = none)',
+    },
+    ...POSTPROCESS_PARAMS,
+  ],
+  match(input, params, signal) {
+    return censusMatch(input, params, signal);
+  },
+};
