@@ -1,0 +1,152 @@
+/**
+ * The SGM aggregation driver: one arena (see matchers/kernels/sgm.ts for the
+ * layout), a forward pass over rows top to bottom and a backward pass bottom to
+ * top, one kernel call per row, `signal` checked between rows.
+ *
+ * Kernels: 'wasm' (AssemblyScript SIMD, build/wasm/sgm.wasm) or 'ts' (the scalar
+ * reference). 'auto' takes wasm when the file is there and falls back to TypeScript
+ * with a one-time warning otherwise.
+ */
+import { AbortedError } from '../../src/core/errors.js';
+import { pathRowTs, sgmLayout, type SgmLayout } from '../kernels/sgm.js';
+import { instantiateKernel, loadWasmModule, wasmPath, WASM_MAX_BYTES } from './wasm.js';
+
+export type KernelChoice = 'auto' | 'ts' | 'wasm';
+
+type PathRowFn = (
+  costRow: number,
+  sumRow: number,
+  grayRow: number,
+  grayPrev: number,
+  width: number,
+  levels: number,
+  stride: number,
+  step: number,
+  prevRows: number,
+  curRows: number,
+  prevMins: number,
+  curMins: number,
+  hasPrev: number,
+  dirMask: number,
+  p1: number,
+  p2: number,
+  edgeK: number,
+  accumulate: number,
+) => void;
+
+export interface SgmArena {
+  readonly layout: SgmLayout;
+  /** The kernel actually used. */
+  readonly kernel: 'ts' | 'wasm';
+  readonly buffer: ArrayBuffer;
+  /** Views over the whole arena. */
+  readonly u8: Uint8Array;
+  readonly u16: Uint16Array;
+  /** Views of the cost volume, the sum volume and the gray image (stride = layout.stride). */
+  readonly cost: Uint16Array;
+  readonly sum: Uint16Array;
+  readonly gray: Uint8Array;
+  readonly pathRow: PathRowFn;
+}
+
+export interface SgmAggregateOptions {
+  p1: number;
+  p2: number;
+  /** P2 edge adaptation constant k (0 = constant P2); see matchers/kernels/sgm.ts. */
+  edgeK: number;
+  paths: 4 | 8;
+}
+
+let warned = false;
+
+function warnOnce(msg: string): void {
+  if (warned) return;
+  warned = true;
+  process.emitWarning(msg, { code: 'PARALLAX_SGM_WASM' });
+}
+
+/** Creates the arena with the chosen kernel (cost, sum and gray zeroed). */
+export async function createArena(
+  width: number,
+  height: number,
+  levels: number,
+  choice: KernelChoice,
+): Promise<SgmArena> {
+  const layout = sgmLayout(width, height, levels);
+  let kernel: 'ts' | 'wasm' = 'ts';
+  let buffer: ArrayBuffer | null = null;
+  let wasmFn: PathRowFn | null = null;
+  if (choice !== 'ts') {
+    const mod = await loadWasmModule('sgm');
+    if (!mod) {
+      if (choice === 'wasm') throw new Error(`sgm: the wasm kernel ${wasmPath('sgm')} is missing; run npm run build:wasm`);
+      warnOnce(`sgm: ${wasmPath('sgm')} not found (run npm run build:wasm); using the slower TypeScript kernel`);
+    } else if (layout.bytes > WASM_MAX_BYTES) {
+      if (choice === 'wasm') throw new Error(`sgm: ${layout.bytes} bytes exceed the wasm32 memory limit`);
+    } else {
+      const inst = await instantiateKernel(mod, layout.bytes);
+      buffer = inst.memory.buffer;
+      wasmFn = inst.exports.pathRow as PathRowFn;
+      kernel = 'wasm';
+    }
+  }
+  if (!buffer) buffer = new ArrayBuffer(layout.bytes);
+  const u8 = new Uint8Array(buffer);
+  const u16 = new Uint16Array(buffer);
+  const vol = layout.width * layout.height * layout.stride;
+  const cost = new Uint16Array(buffer, layout.cost, vol);
+  const sum = new Uint16Array(buffer, layout.sum, vol);
+  const gray = new Uint8Array(buffer, layout.gray, width * height);
+  const pathRow: PathRowFn =
+    wasmFn ??
+    ((c, s, g, gp, w, l, st, step, pr, cr, pm, cm, hp, dm, p1, p2, k, acc) =>
+      pathRowTs(u16, u8, c, s, g, gp, w, l, st, step, pr, cr, pm, cm, hp, dm, p1, p2, k, acc));
+  return { layout, kernel, buffer, u8, u16, cost, sum, gray, pathRow };
+}
+
+function checkAbort(signal: AbortSignal | undefined): void {
+  if (signal?.aborted) throw new AbortedError();
+}
+
+/**
+ * S = sum over the chosen paths of L_r, into arena.sum, from arena.cost and arena.gray.
+ * Forward pass: directions from the left, top-left, top, top-right (top-left-ish);
+ * backward pass: their mirrors.
+ */
+export function aggregatePaths(arena: SgmArena, opts: SgmAggregateOptions, signal?: AbortSignal): void {
+  const L = arena.layout;
+  const { width, height, levels, stride } = L;
+  const rowVol = width * stride * 2; // bytes of one image row of the volume
+  const dirMask = opts.paths === 8 ? 0b1111 : 0b0101;
+  const fn = arena.pathRow;
+  for (let pass = 0; pass < 2; pass++) {
+    const step = pass === 0 ? 1 : -1;
+    let cur = 0;
+    for (let i = 0; i < height; i++) {
+      checkAbort(signal);
+      const y = step > 0 ? i : height - 1 - i;
+      const yPrev = y - step;
+      fn(
+        L.cost + y * rowVol,
+        L.sum + y * rowVol,
+        L.gray + y * width,
+        L.gray + (i > 0 ? yPrev : y) * width,
+        width,
+        levels,
+        stride,
+        step,
+        L.rows[1 - cur],
+        L.rows[cur],
+        L.mins[1 - cur],
+        L.mins[cur],
+        i > 0 ? 1 : 0,
+        dirMask,
+        opts.p1,
+        opts.p2,
+        opts.edgeK,
+        pass,
+      );
+      cur = 1 - cur;
+    }
+  }
+}

@@ -1,0 +1,69 @@
+/**
+ * Loads the AssemblyScript SIMD kernels compiled by scripts/build-wasm.sh into
+ * build/wasm/<name>.wasm. The file is found by walking up from this module to the
+ * folder that holds package.json, so it works from the sources (vitest) and from dist/.
+ * Compiled modules are cached per process (and per worker thread).
+ */
+import { existsSync, readFileSync } from 'node:fs';
+import { dirname, join } from 'node:path';
+import { fileURLToPath } from 'node:url';
+
+let rootCache: string | null | undefined;
+
+/** The folder holding package.json above this module, or null. */
+export function packageRoot(): string | null {
+  if (rootCache !== undefined) return rootCache;
+  let dir = dirname(fileURLToPath(import.meta.url));
+  for (;;) {
+    if (existsSync(join(dir, 'package.json'))) {
+      rootCache = dir;
+      return dir;
+    }
+    const up = dirname(dir);
+    if (up === dir) {
+      rootCache = null;
+      return null;
+    }
+    dir = up;
+  }
+}
+
+/** Path of a compiled kernel, whether or not it exists. */
+export function wasmPath(name: string): string | null {
+  const root = packageRoot();
+  return root ? join(root, 'build', 'wasm', `${name}.wasm`) : null;
+}
+
+const modules = new Map<string, Promise<WebAssembly.Module | null>>();
+
+/** The compiled module, or null when the file is missing (not built). */
+export function loadWasmModule(name: string): Promise<WebAssembly.Module | null> {
+  let p = modules.get(name);
+  if (!p) {
+    p = (async () => {
+      const path = wasmPath(name);
+      if (!path || !existsSync(path)) return null;
+      const bytes = readFileSync(path);
+      return WebAssembly.compile(bytes);
+    })();
+    modules.set(name, p);
+  }
+  return p;
+}
+
+/** Largest memory (bytes) we ask a wasm32 instance for. */
+export const WASM_MAX_BYTES = 4 * 1024 * 1024 * 1024 - 65536;
+
+/**
+ * A fresh instance of a kernel module over a new memory of at least `bytes`
+ * (so memory is returned to the engine when the caller drops it).
+ */
+export async function instantiateKernel(
+  mod: WebAssembly.Module,
+  bytes: number,
+): Promise<{ exports: WebAssembly.Exports; memory: WebAssembly.Memory }> {
+  const pages = Math.ceil(bytes / 65536);
+  const memory = new WebAssembly.Memory({ initial: pages, maximum: pages });
+  const instance = await WebAssembly.instantiate(mod, { env: { memory } });
+  return { exports: instance.exports, memory };
+}
