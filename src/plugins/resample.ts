@@ -1,0 +1,149 @@
+/**
+ * Geometry helpers for outside programs: edge-replicating pad, crop, and bilinear
+ * resampling with pixel-centre alignment (x_src = (x + 0.5) / s - 0.5).
+ * Interleaved images carry `channels` samples per pixel.
+ */
+
+/** Pad to `outW x outH` on the right and bottom by replicating the last column and row. */
+export function padEdge<T extends Float32Array | Uint8Array | Uint16Array>(
+  src: T,
+  width: number,
+  height: number,
+  channels: number,
+  outW: number,
+  outH: number,
+): T {
+  const out = new (src.constructor as { new (n: number): T })(outW * outH * channels);
+  for (let y = 0; y < outH; y++) {
+    const sy = y < height ? y : height - 1;
+    const srow = sy * width * channels;
+    const drow = y * outW * channels;
+    out.set(src.subarray(srow, srow + width * channels) as never, drow);
+    const last = srow + (width - 1) * channels;
+    for (let x = width; x < outW; x++) {
+      const d = drow + x * channels;
+      for (let c = 0; c < channels; c++) out[d + c] = src[last + c];
+    }
+  }
+  return out;
+}
+
+/** Top-left `outW x outH` window of a single-channel float image. */
+export function cropTopLeft(src: Float32Array, width: number, outW: number, outH: number): Float32Array {
+  const out = new Float32Array(outW * outH);
+  for (let y = 0; y < outH; y++) out.set(src.subarray(y * width, y * width + outW), y * outW);
+  return out;
+}
+
+/** Smallest multiple of `n` that is >= v. */
+export function roundUpTo(v: number, n: number): number {
+  return Math.ceil(v / n) * n;
+}
+
+/**
+ * Bilinear resampling of an interleaved image to `outW x outH` (values rounded and
+ * clamped for integer arrays). Pixel centres are aligned.
+ */
+export function resampleBilinear<T extends Float32Array | Uint8Array | Uint16Array>(
+  src: T,
+  width: number,
+  height: number,
+  channels: number,
+  outW: number,
+  outH: number,
+): T {
+  const out = new (src.constructor as { new (n: number): T })(outW * outH * channels);
+  const isInt = !(src instanceof Float32Array);
+  const maxV = src instanceof Uint8Array ? 255 : 65535;
+  const sx = width / outW;
+  const sy = height / outH;
+  for (let y = 0; y < outH; y++) {
+    let fy = (y + 0.5) * sy - 0.5;
+    if (fy < 0) fy = 0;
+    if (fy > height - 1) fy = height - 1;
+    const y0 = Math.floor(fy);
+    const y1 = y0 + 1 < height ? y0 + 1 : y0;
+    const wy = fy - y0;
+    for (let x = 0; x < outW; x++) {
+      let fx = (x + 0.5) * sx - 0.5;
+      if (fx < 0) fx = 0;
+      if (fx > width - 1) fx = width - 1;
+      const x0 = Math.floor(fx);
+      const x1 = x0 + 1 < width ? x0 + 1 : x0;
+      const wx = fx - x0;
+      const i00 = (y0 * width + x0) * channels;
+      const i01 = (y0 * width + x1) * channels;
+      const i10 = (y1 * width + x0) * channels;
+      const i11 = (y1 * width + x1) * channels;
+      const o = (y * outW + x) * channels;
+      for (let c = 0; c < channels; c++) {
+        const v =
+          (1 - wy) * ((1 - wx) * src[i00 + c] + wx * src[i01 + c]) + wy * ((1 - wx) * src[i10 + c] + wx * src[i11 + c]);
+        out[o + c] = isInt ? (v < 0 ? 0 : v > maxV ? maxV : Math.round(v)) : v;
+      }
+    }
+  }
+  return out;
+}
+
+/**
+ * Resample a disparity map (NaN = invalid) to `outW x outH` and multiply values by
+ * `valueScale`. Bilinear over the finite neighbours (weights renormalised); NaN when
+ * all four are invalid.
+ */
+export function resampleDisparity(
+  src: Float32Array,
+  width: number,
+  height: number,
+  outW: number,
+  outH: number,
+  valueScale: number,
+): Float32Array {
+  const out = new Float32Array(outW * outH);
+  const sx = width / outW;
+  const sy = height / outH;
+  for (let y = 0; y < outH; y++) {
+    let fy = (y + 0.5) * sy - 0.5;
+    if (fy < 0) fy = 0;
+    if (fy > height - 1) fy = height - 1;
+    const y0 = Math.floor(fy);
+    const y1 = y0 + 1 < height ? y0 + 1 : y0;
+    const wy = fy - y0;
+    for (let x = 0; x < outW; x++) {
+      let fx = (x + 0.5) * sx - 0.5;
+      if (fx < 0) fx = 0;
+      if (fx > width - 1) fx = width - 1;
+      const x0 = Math.floor(fx);
+      const x1 = x0 + 1 < width ? x0 + 1 : x0;
+      const wx = fx - x0;
+      const v00 = src[y0 * width + x0];
+      const v01 = src[y0 * width + x1];
+      const v10 = src[y1 * width + x0];
+      const v11 = src[y1 * width + x1];
+      let sum = 0;
+      let wsum = 0;
+      let w = (1 - wy) * (1 - wx);
+      if (v00 === v00) {
+        sum += w * v00;
+        wsum += w;
+      }
+      w = (1 - wy) * wx;
+      if (v01 === v01) {
+        sum += w * v01;
+        wsum += w;
+      }
+      w = wy * (1 - wx);
+      if (v10 === v10) {
+        sum += w * v10;
+        wsum += w;
+      }
+      w = wy * wx;
+      if (v11 === v11) {
+        sum += w * v11;
+        wsum += w;
+      }
+      out[y * outW + x] = wsum > 1e-6 ? (sum / wsum) * valueScale : NaN;
+    }
+  }
+  return out;
+}
