@@ -189,13 +189,24 @@ export function decodePng(buf: Uint8Array, name: string, opts?: DecodeOptions): 
   const b = asBuffer(buf);
   const { header, clean, idat, hasTrns } = walk(b, name, maxPixels);
   const expected = inflatedSize(header);
-  if (header.interlaced) {
-    // pngjs inflates interlaced data without an output limit; bound it here first.
-    try {
-      inflateSync(Buffer.concat(idat), { maxOutputLength: expected });
-    } catch (e) {
-      throw new InputError(name, `PNG image data cannot be inflated within the declared size (${oneLine(e)})`);
+  // pngjs fills missing rows with zeros and inflates interlaced data without an
+  // output limit: inflate here first, bounded by the size the IHDR declares, and
+  // check that the data are exactly that long.
+  let inflated: Buffer;
+  try {
+    inflated = inflateSync(Buffer.concat(idat), { maxOutputLength: expected });
+  } catch (e) {
+    const code = (e as { code?: string }).code;
+    if (code === 'ERR_BUFFER_TOO_LARGE') {
+      throw new InputError(name, `PNG image data are longer than the ${header.width}x${header.height} image the IHDR declares`);
     }
+    throw new InputError(name, `PNG image data are corrupt (${oneLine(e)})`);
+  }
+  if (inflated.length !== expected) {
+    throw new InputError(
+      name,
+      `PNG image data are truncated: ${inflated.length} of ${expected} bytes for the ${header.width}x${header.height} image the IHDR declares`,
+    );
   }
   let rgba: Uint8Array | Uint16Array;
   try {
