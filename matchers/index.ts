@@ -5,9 +5,11 @@
 import type { MatcherPlugin } from '../src/plugins/contract.js';
 import { blockMatcher } from './block/index.js';
 import { censusMatcher } from './census/index.js';
+import { sgmMatcher } from './sgm/index.js';
 
 export const BUILTIN_MATCHERS: readonly MatcherPlugin[] = [
   // one entry per matcher folder, e.g. blockMatcher from './block/index.js'
   blockMatcher,
   censusMatcher,
+  sgmMatcher,
 ];

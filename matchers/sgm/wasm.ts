@@ -8,6 +8,24 @@ import { existsSync, readFileSync } from 'node:fs';
 import { dirname, join } from 'node:path';
 import { fileURLToPath } from 'node:url';
 
+/*
+ * The project's tsconfig has no DOM lib, and @types/node does not declare the
+ * WebAssembly global, so the few members used here are typed locally.
+ */
+export interface WasmModule {
+  readonly __wasmModule: true;
+}
+export interface WasmMemory {
+  readonly buffer: ArrayBuffer;
+}
+export type WasmExports = Record<string, unknown>;
+interface WasmApi {
+  compile(bytes: Uint8Array): Promise<WasmModule>;
+  instantiate(mod: WasmModule, imports: object): Promise<{ exports: WasmExports }>;
+  Memory: new (d: { initial: number; maximum?: number }) => WasmMemory;
+}
+const WA = (globalThis as unknown as { WebAssembly: WasmApi }).WebAssembly;
+
 let rootCache: string | null | undefined;
 
 /** The folder holding package.json above this module, or null. */
@@ -34,17 +52,17 @@ export function wasmPath(name: string): string | null {
   return root ? join(root, 'build', 'wasm', `${name}.wasm`) : null;
 }
 
-const modules = new Map<string, Promise<WebAssembly.Module | null>>();
+const modules = new Map<string, Promise<WasmModule | null>>();
 
 /** The compiled module, or null when the file is missing (not built). */
-export function loadWasmModule(name: string): Promise<WebAssembly.Module | null> {
+export function loadWasmModule(name: string): Promise<WasmModule | null> {
   let p = modules.get(name);
   if (!p) {
     p = (async () => {
       const path = wasmPath(name);
       if (!path || !existsSync(path)) return null;
       const bytes = readFileSync(path);
-      return WebAssembly.compile(bytes);
+      return WA.compile(bytes);
     })();
     modules.set(name, p);
   }
@@ -59,11 +77,11 @@ export const WASM_MAX_BYTES = 4 * 1024 * 1024 * 1024 - 65536;
  * (so memory is returned to the engine when the caller drops it).
  */
 export async function instantiateKernel(
-  mod: WebAssembly.Module,
+  mod: WasmModule,
   bytes: number,
-): Promise<{ exports: WebAssembly.Exports; memory: WebAssembly.Memory }> {
+): Promise<{ exports: WasmExports; memory: WasmMemory }> {
   const pages = Math.ceil(bytes / 65536);
-  const memory = new WebAssembly.Memory({ initial: pages, maximum: pages });
-  const instance = await WebAssembly.instantiate(mod, { env: { memory } });
+  const memory = new WA.Memory({ initial: pages, maximum: pages });
+  const instance = await WA.instantiate(mod, { env: { memory } });
   return { exports: instance.exports, memory };
 }
