@@ -3,7 +3,8 @@
  * an experiment file (JSON, zod-validated, paths relative to the file):
  *
  *   { "datasets": ["../datasets/demo"],
- *     "matchers": ["block", "sgm:p2=[64,96]", { "program": { ... } }],
+ *     "matchers": ["block", "sgm:p2=[64,96]", { "id": "census", "params": { "window": [5, 7] } },
+ *                  { "program": { ... } }],
  *     "predictions": [{ "dir": "preds", "label": "net-v2", "scale": 256 }],
  *     "thresholds": [0.5, 1, 2], "regions": { "flatThreshold": 6 },
  *     "name": "dock-tuning", "out": "../reports/dock-tuning" }
@@ -17,13 +18,19 @@ import { formatFieldPath } from '../dataset/manifest.js';
 import { DEFAULT_THRESHOLDS } from '../metrics/types.js';
 import type { PredictionSource } from './predictions.js';
 
-/** A matcher spec: `id[:key=value,...]` (or a module path), or an outside program definition. */
-export type MatcherSpec = string | { readonly program: unknown };
 
 export interface RunSettings {
   /** Dataset folders or manifest files, absolute. */
   datasets: string[];
-  matchers: MatcherSpec[];
+  /** Command-line matcher specs: `id[:key=value,...]`, sweeps, module paths. */
+  matchers: string[];
+  /**
+   * An experiment file's `matchers` entries (strings, {id, params} or {program, params};
+   * validated by the registry's resolveMatcherEntries), relative to `baseDir`.
+   */
+  matcherEntries: unknown[];
+  /** The experiment file, named in errors about its entries. */
+  experimentFile?: string;
   predictions: PredictionSource[];
   /** Bad-pixel thresholds in px, ascending, distinct. */
   thresholds: number[];
@@ -50,7 +57,8 @@ export const experimentFileSchema = z.strictObject({
   name: z.string().min(1).optional(),
   description: z.string().optional(),
   datasets: z.array(z.string().min(1)).min(1, 'must list at least one dataset'),
-  matchers: z.array(z.union([z.string().min(1), z.strictObject({ program: z.unknown() })])).default([]),
+  /** Checked entry by entry by the registry (resolveMatcherEntries). */
+  matchers: z.array(z.unknown()).default([]),
   predictions: z
     .array(
       z.strictObject({
@@ -139,7 +147,9 @@ export function loadExperimentFile(path: string): RunSettings {
   }
   return {
     datasets: f.datasets.map((d) => resolve(base, d)),
-    matchers: f.matchers,
+    matchers: [],
+    matcherEntries: f.matchers,
+    experimentFile: abs,
     predictions: f.predictions.map((p) => ({
       label: p.label,
       dir: resolve(base, p.dir),

@@ -2,16 +2,14 @@
  * From settings to a run plan: datasets loaded and hashed, matcher configurations
  * resolved, labels checked, the run folder chosen. No matching happens here.
  */
-import { createHash } from 'node:crypto';
 import { resolve } from 'node:path';
-import { UsageError } from '../core/errors.js';
+import { InputError, UsageError } from '../core/errors.js';
 import type { ParamValue } from '../core/params.js';
 import type { RegionParams } from '../core/regions.js';
 import { datasetHash } from '../dataset/hash.js';
 import { loadManifest, sortedPairs, type Manifest } from '../dataset/manifest.js';
-import { withDefaults, type MatcherPlugin } from '../plugins/contract.js';
-import { parseProgramMatcherDef } from '../plugins/program-def.js';
-import { programMatcher, resolveMatchers } from '../plugins/registry.js';
+import type { MatcherPlugin } from '../plugins/contract.js';
+import { resolveMatcherEntries, resolveMatchers, type MatcherConfig } from '../plugins/registry.js';
 import { safeRunName, type RunSettings } from './experiment.js';
 import { enumerateJobs, type JobKey } from './jobs.js';
 import { checkPredictionSource, type PredictionSource } from './predictions.js';
@@ -57,41 +55,32 @@ export interface RunPlan {
   readonly jobs: readonly JobKey[];
 }
 
-function sha256(text: string): string {
-  return createHash('sha256').update(text).digest('hex');
-}
-
 /** Resolve every matcher spec of the settings to configurations. */
 export async function resolveConfigs(settings: RunSettings): Promise<RunConfig[]> {
   const configs: RunConfig[] = [];
-  const strings = settings.matchers.filter((m): m is string => typeof m === 'string');
-  if (strings.length) {
-    for (const c of await resolveMatchers(strings, { cwd: settings.baseDir })) {
-      configs.push({
-        kind: 'matcher',
-        label: c.label,
-        matcherId: c.plugin.id,
-        params: c.params,
-        codeHash: c.codeHash,
-        version: c.plugin.version,
-        plugin: c.plugin,
-      });
-    }
-  }
-  settings.matchers.forEach((m, i) => {
-    if (typeof m === 'string') return;
-    const def = parseProgramMatcherDef(m.program, `matchers[${i}].program`);
-    const plugin = programMatcher(def, settings.baseDir);
+  const add = (c: MatcherConfig): void => {
     configs.push({
       kind: 'matcher',
-      label: plugin.id,
-      matcherId: plugin.id,
-      params: withDefaults(plugin, {}),
-      codeHash: sha256(JSON.stringify(def)),
-      version: plugin.version,
-      plugin,
+      label: c.label,
+      matcherId: c.plugin.id,
+      params: c.params,
+      codeHash: c.codeHash,
+      version: c.plugin.version,
+      plugin: c.plugin,
     });
-  });
+  };
+  if (settings.matcherEntries.length) {
+    let resolved: MatcherConfig[];
+    try {
+      resolved = await resolveMatcherEntries(settings.matcherEntries, { baseDir: settings.baseDir, option: 'matchers' });
+    } catch (e) {
+      // Name the experiment file: `<file>: field matchers[2]...: problem`.
+      if (e instanceof UsageError && settings.experimentFile) throw new InputError(settings.experimentFile, `field ${e.message}`);
+      throw e;
+    }
+    resolved.forEach(add);
+  }
+  if (settings.matchers.length) (await resolveMatchers(settings.matchers, { cwd: process.cwd() })).forEach(add);
   for (const p of settings.predictions) {
     checkPredictionSource(p);
     configs.push({ kind: 'predictions', label: p.label, matcherId: 'predictions', params: {}, source: p });
@@ -107,7 +96,7 @@ export async function resolveConfigs(settings: RunSettings): Promise<RunConfig[]
 /** Load datasets, resolve configurations and enumerate jobs. */
 export async function planRun(settings: RunSettings, cwd = process.cwd()): Promise<RunPlan> {
   if (!settings.datasets.length) throw new UsageError('--dataset', 'give at least one dataset folder or manifest');
-  if (!settings.matchers.length && !settings.predictions.length) {
+  if (!settings.matchers.length && !settings.matcherEntries.length && !settings.predictions.length) {
     throw new UsageError('--matcher', 'give at least one matcher (or --predictions with --label)');
   }
   const datasets: PlannedDataset[] = [];

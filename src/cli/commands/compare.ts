@@ -1,0 +1,112 @@
+/**
+ * `parallax compare <baseline-run> <candidate-run>`: paired comparison of two runs with
+ * optional CI gates. Exit codes: 0 every gate passes (or none set), 1 a gate failed,
+ * 2 usage or input error (including runs that cannot be compared, unless
+ * --allow-mismatch).
+ */
+import { readFile } from 'node:fs/promises';
+import { join, resolve } from 'node:path';
+import type { CommandModule } from 'yargs';
+import { InputError, UsageError } from '../../core/errors.js';
+import { REGION_IDS, type RegionId } from '../../core/regions.js';
+import { writeFileAtomic } from '../../io/files.js';
+import { compareConsole, compareMarkdown } from '../../report/compare-md.js';
+import { readRunFolder } from '../../report/run-folder.js';
+import { DEFAULT_RESAMPLES, DEFAULT_SEED } from '../../stats/bootstrap.js';
+import { comparabilityProblems, compareRuns, evaluateGates, parseGate, parseGateFile, type Gate } from '../../stats/compare.js';
+import { isKnownMetric } from '../../stats/metrics.js';
+
+export interface CompareArgs {
+  baseline: string;
+  candidate: string;
+  gate?: string[];
+  gateFile?: string;
+  strict?: boolean;
+  allowMismatch?: boolean;
+  out?: string;
+  resamples?: number;
+  seed?: number;
+  all?: boolean;
+  headline?: string;
+}
+
+export interface CompareIo {
+  stdout: (s: string) => void;
+  stderr: (s: string) => void;
+}
+
+/** Runs the comparison; returns the exit code (0 or 1). User errors throw (exit 2). */
+export async function runCompare(a: CompareArgs, io: CompareIo): Promise<number> {
+  const resamples = a.resamples ?? DEFAULT_RESAMPLES;
+  if (!Number.isInteger(resamples) || resamples < 100) throw new UsageError('--resamples', 'must be an integer >= 100');
+  const base = await readRunFolder(resolve(a.baseline));
+  const cand = await readRunFolder(resolve(a.candidate));
+  const problems = comparabilityProblems(base.info, cand.info);
+  if (problems.length) {
+    if (!a.allowMismatch) {
+      throw new InputError(undefined, `runs cannot be compared: ${problems.join('; ')} (use --allow-mismatch to compare anyway)`);
+    }
+    for (const p of problems) io.stderr(`parallax compare: warning: ${p}\n`);
+  }
+  const thresholds = cand.info.config.thresholds;
+  const gates: Gate[] = [];
+  for (const g of a.gate ?? []) gates.push(parseGate(g, thresholds));
+  if (a.gateFile) {
+    let text: string;
+    try {
+      text = await readFile(a.gateFile, 'utf8');
+    } catch {
+      throw new UsageError('--gate-file', `${a.gateFile} cannot be read`);
+    }
+    gates.push(...parseGateFile(text, a.gateFile, thresholds));
+  }
+  let headline: { region: RegionId; metric: string } | undefined;
+  if (a.headline) {
+    const [r, m] = a.headline.split('/');
+    if (!(REGION_IDS as readonly string[]).includes(r ?? '') || !m || !isKnownMetric(m, thresholds)) {
+      throw new UsageError('--headline', `"${a.headline}" is not region/metric (e.g. visible/over2px)`);
+    }
+    headline = { region: r as RegionId, metric: m };
+  } else if (gates[0]) headline = { region: gates[0].region, metric: gates[0].metric };
+  const c = compareRuns(base, cand, { bootstrap: { resamples, seed: a.seed ?? DEFAULT_SEED }, ...(headline ? { headline } : {}) });
+  if (c.configs.length === 0) {
+    throw new InputError(undefined, `the runs have no configuration in common (baseline: ${c.configsOnlyInBase.join(', ') || 'none'}; candidate: ${c.configsOnlyInCand.join(', ') || 'none'})`);
+  }
+  const outcomes = evaluateGates(c, gates, a.strict ?? false);
+  const md = compareMarkdown(c, outcomes, {
+    baseline: base.info.name ?? a.baseline,
+    candidate: cand.info.name ?? a.candidate,
+    strict: a.strict ?? false,
+  });
+  const outPath = a.out ?? join(resolve(a.candidate), 'compare.md');
+  await writeFileAtomic(outPath, md);
+  io.stdout(compareConsole(c, outcomes, a.all ?? false));
+  io.stdout(`\nwrote ${outPath}\n`);
+  const failed = outcomes.filter((o) => !o.pass).length;
+  if (gates.length) io.stdout(failed ? `${failed} of ${outcomes.length} gate checks failed\n` : `all ${outcomes.length} gate checks passed\n`);
+  return failed ? 1 : 0;
+}
+
+export const compareCommand: CommandModule<object, CompareArgs> = {
+  command: 'compare <baseline> <candidate>',
+  describe: 'Compare two runs pair by pair (intervals, p-values) and check CI gates',
+  builder: (y) =>
+    y
+      .positional('baseline', { type: 'string', describe: 'Run folder of the baseline', demandOption: true })
+      .positional('candidate', { type: 'string', describe: 'Run folder of the candidate', demandOption: true })
+      .option('gate', { type: 'string', array: true, describe: 'region/metric:allowance, e.g. visible/over2px:0.5 (repeatable)' })
+      .option('gate-file', { type: 'string', describe: 'JSON file with gates: ["visible/over2px:0.5", ...] or {"gates": [...]}' })
+      .option('strict', { type: 'boolean', default: false, describe: 'Fail unless the upper interval bound of each worsening is within its allowance' })
+      .option('allow-mismatch', { type: 'boolean', default: false, describe: 'Compare runs whose datasets, thresholds or region parameters differ' })
+      .option('out', { type: 'string', describe: 'Where to write the Markdown summary (default <candidate>/compare.md)' })
+      .option('resamples', { type: 'number', default: DEFAULT_RESAMPLES, describe: 'Bootstrap resamples for the intervals' })
+      .option('seed', { type: 'number', default: DEFAULT_SEED, describe: 'Seed of the resampling' })
+      .option('all', { type: 'boolean', default: false, describe: 'Print every metric and region, not only the headline rows' })
+      .option('headline', { type: 'string', describe: 'region/metric for the most-changed pairs (default: first gate, else known/epe)' }) as never,
+  handler: async (a) => {
+    process.exitCode = await runCompare(a, {
+      stdout: (s) => process.stdout.write(s),
+      stderr: (s) => process.stderr.write(s),
+    });
+  },
+};

@@ -1,0 +1,89 @@
+/**
+ * `parallax run`: score matchers (or imported predictions) on datasets.
+ *   parallax run --dataset datasets/demo --matcher block --matcher sgm:p2=96
+ *   parallax run experiment.json
+ */
+import { resolve } from 'node:path';
+import type { Argv, CommandModule } from 'yargs';
+import { UsageError } from '../../core/errors.js';
+import { DEFAULT_THRESHOLDS } from '../../metrics/types.js';
+import { loadExperimentFile, normaliseThresholds, parseThresholds, regionParams, type RunSettings } from '../../runner/experiment.js';
+import { planRun } from '../../runner/plan.js';
+import { runSession } from '../session.js';
+
+export interface RunArgs {
+  experiment?: string;
+  dataset?: string[];
+  matcher?: string[];
+  out?: string;
+  name?: string;
+  thresholds?: string;
+  predictions?: string;
+  label?: string;
+  'prediction-scale'?: number;
+  'prediction-invalid'?: number;
+  quiet: boolean;
+  json: boolean;
+}
+
+function finiteOption(name: string, v: number | undefined, check: (v: number) => boolean, what: string): number | undefined {
+  if (v === undefined) return undefined;
+  if (!Number.isFinite(v) || !check(v)) throw new UsageError(`--${name}`, `must be ${what}, got ${String(v)}`);
+  return v;
+}
+
+/** Settings from the command line, on top of an experiment file when one is given. */
+export function settingsFromArgs(a: RunArgs, cwd = process.cwd()): RunSettings {
+  const base: RunSettings = a.experiment
+    ? loadExperimentFile(resolve(cwd, a.experiment))
+    : { datasets: [], matchers: [], matcherEntries: [], predictions: [], thresholds: normaliseThresholds(DEFAULT_THRESHOLDS, 'thresholds'), regions: regionParams(undefined), baseDir: cwd };
+  const s: RunSettings = { ...base, datasets: [...base.datasets], matchers: [...base.matchers], predictions: [...base.predictions] };
+  for (const d of a.dataset ?? []) s.datasets.push(resolve(cwd, d));
+  for (const m of a.matcher ?? []) s.matchers.push(m);
+  if (a.thresholds !== undefined) s.thresholds = parseThresholds(a.thresholds);
+  if (a.out !== undefined) s.out = resolve(cwd, a.out);
+  if (a.name !== undefined) s.name = a.name;
+  const scale = finiteOption('prediction-scale', a['prediction-scale'], (v) => v > 0, 'a number > 0');
+  const invalid = finiteOption('prediction-invalid', a['prediction-invalid'], (v) => Number.isInteger(v) && v >= 0 && v <= 65535, 'an integer code 0-65535');
+  if (a.predictions !== undefined || a.label !== undefined) {
+    if (a.predictions === undefined) throw new UsageError('--label', 'names imported predictions; give --predictions <dir> too');
+    if (a.label === undefined) throw new UsageError('--predictions', 'give --label <name> for the matcher column');
+    s.predictions.push({
+      label: a.label,
+      dir: resolve(cwd, a.predictions),
+      ...(scale !== undefined ? { scale } : {}),
+      ...(invalid !== undefined ? { invalid } : {}),
+    });
+  } else if (scale !== undefined || invalid !== undefined) {
+    throw new UsageError(scale !== undefined ? '--prediction-scale' : '--prediction-invalid', 'applies to --predictions only');
+  }
+  if (!s.datasets.length) throw new UsageError('--dataset', 'give at least one dataset folder or manifest (or an experiment file)');
+  if (!s.matchers.length && !s.matcherEntries.length && !s.predictions.length) throw new UsageError('--matcher', 'give at least one matcher, or --predictions with --label');
+  return s;
+}
+
+export function runOptions<T>(y: Argv<T>): Argv<T & RunArgs> {
+  return y
+    .positional('experiment', { type: 'string', describe: 'Experiment file (JSON) with datasets, matchers, thresholds, regions, out, name' })
+    .option('dataset', { alias: 'd', type: 'string', array: true, describe: 'Dataset folder or dataset.json (repeatable)' })
+    .option('matcher', { alias: 'm', type: 'string', array: true, describe: 'Matcher configuration id[:key=value,...], key=[a,b] sweeps; or a module path (repeatable)' })
+    .option('out', { alias: 'o', type: 'string', describe: 'Run folder (default reports/<run name>)' })
+    .option('name', { type: 'string', describe: 'Run name (default: first dataset and the matcher labels)' })
+    .option('thresholds', { type: 'string', describe: `Bad-pixel thresholds in px, comma list (default ${DEFAULT_THRESHOLDS.join(',')})` })
+    .option('predictions', { type: 'string', describe: 'Folder of predictions made elsewhere: <pair id>.pfm|.npy|.png (or <dataset>/<pair id>.*)' })
+    .option('label', { type: 'string', describe: 'Matcher column for --predictions' })
+    .option('prediction-scale', { type: 'number', describe: 'PNG predictions: stored value = round(disparity * scale)' })
+    .option('prediction-invalid', { type: 'number', describe: 'PNG predictions: code meaning "no answer" (default 0)' })
+    .option('quiet', { alias: 'q', type: 'boolean', default: false, describe: 'No progress bar, no table' })
+    .option('json', { type: 'boolean', default: false, describe: 'Print the summary as JSON to stdout' }) as unknown as Argv<T & RunArgs>;
+}
+
+export const runCommand: CommandModule<object, RunArgs> = {
+  command: 'run [experiment]',
+  describe: 'Run matchers (or score imported predictions) on datasets; write run.json, results.jsonl, pairs.csv, summary.csv, index.html',
+  builder: (y) => runOptions(y),
+  handler: async (a) => {
+    const plan = await planRun(settingsFromArgs(a));
+    await runSession(plan, { quiet: a.quiet, json: a.json });
+  },
+};

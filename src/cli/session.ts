@@ -1,0 +1,73 @@
+/**
+ * Running a plan from the command line: Ctrl-C handling, the progress bar (only when
+ * stderr is a terminal and not --quiet), the final table and the exit code.
+ */
+import { relative } from 'node:path';
+import cliProgress from 'cli-progress';
+import { AbortedError } from '../core/errors.js';
+import { consoleTable } from '../report/console-table.js';
+import type { RunPlan } from '../runner/plan.js';
+import { executeRun, type RunOutcome } from '../runner/run.js';
+import { aggregate } from '../stats/aggregate.js';
+
+export interface SessionOptions {
+  quiet: boolean;
+  /** Print the summary as JSON to stdout (and nothing else there). */
+  json: boolean;
+}
+
+/** A path for messages: relative to the working folder when inside it. */
+export function shownPath(p: string): string {
+  const r = relative(process.cwd(), p);
+  return r && !r.startsWith('..') ? r : p;
+}
+
+export async function runSession(plan: RunPlan, opts: SessionOptions): Promise<RunOutcome> {
+  const ac = new AbortController();
+  const onSigint = (): void => {
+    if (ac.signal.aborted) process.exit(130);
+    process.stderr.write('\nparallax: stopping after the current job (Ctrl-C again to quit at once)\n');
+    ac.abort();
+  };
+  process.on('SIGINT', onSigint);
+  const showBar = !opts.quiet && process.stderr.isTTY === true;
+  const bar = showBar
+    ? new cliProgress.SingleBar(
+        { stream: process.stderr, format: 'matching {bar} {value}/{total} jobs | {job}', hideCursor: true, clearOnComplete: true },
+        cliProgress.Presets.shades_classic,
+      )
+    : undefined;
+  let outcome: RunOutcome;
+  try {
+    outcome = await executeRun(plan, {
+      signal: ac.signal,
+      onStart: (total) => bar?.start(total, 0, { job: '' }),
+      onJob: (r, done) => {
+        bar?.update(done, { job: `${r.matcher} ${r.dataset}/${r.pair}` });
+        if (r.status === 'failed' && !opts.quiet) {
+          if (bar) bar.stop();
+          process.stderr.write(`parallax: ${r.matcher} failed on ${r.dataset}/${r.pair}: ${r.error ?? 'no output'}\n`);
+          if (bar) bar.start(plan.jobs.length, done, { job: '' });
+        }
+      },
+    });
+  } finally {
+    bar?.stop();
+    process.off('SIGINT', onSigint);
+  }
+  const summary = outcome.outputs.summary;
+  if (opts.json) {
+    process.stdout.write(
+      JSON.stringify({ runDir: outcome.runDir, status: outcome.info.status, jobs: outcome.info.jobs, files: outcome.outputs.files, summary }, null, 2) + '\n',
+    );
+  } else if (!opts.quiet) {
+    const rows = summary.length ? summary : aggregate(outcome.results, { thresholds: [...plan.thresholds], ci: false });
+    process.stdout.write('\n' + consoleTable(rows, plan.thresholds));
+    const { ok, failed } = outcome.info.jobs;
+    process.stdout.write(
+      `\n${ok + failed} job(s), ${failed} failed. Wrote ${['run.json', 'results.jsonl', ...outcome.outputs.files].join(', ')} to ${shownPath(outcome.runDir)}/\n`,
+    );
+  }
+  if (outcome.aborted) throw new AbortedError(`run stopped; partial results in ${shownPath(outcome.runDir)}/`);
+  return outcome;
+}

@@ -1,0 +1,60 @@
+/**
+ * The compact table printed at the end of a run: one line per configuration and
+ * dataset with key figures (means over pairs) for the `known` and `visible` regions.
+ * A pure function of the summary rows.
+ */
+import type { SummaryRow } from '../stats/aggregate.js';
+import { thresholdName } from '../metrics/types.js';
+
+/** The rate shown in the table: 2 px when measured, else the middle threshold. */
+export function keyThreshold(thresholds: readonly number[]): number {
+  return thresholds.includes(2) ? 2 : thresholds[Math.floor((thresholds.length - 1) / 2)]!;
+}
+
+function fmt(v: number | null | undefined, digits: number): string {
+  return v === null || v === undefined || !Number.isFinite(v) ? '-' : v.toFixed(digits);
+}
+
+/** Align columns: text left, numbers right. */
+export function alignColumns(header: string[], rows: string[][], rightAligned: boolean[]): string {
+  const widths = header.map((h, i) => Math.max(h.length, ...rows.map((r) => r[i]!.length)));
+  const line = (cells: string[]): string =>
+    cells
+      .map((c, i) => (rightAligned[i] ? c.padStart(widths[i]!) : c.padEnd(widths[i]!)))
+      .join('  ')
+      .trimEnd();
+  return [line(header), line(widths.map((w) => '-'.repeat(w))), ...rows.map(line)].join('\n') + '\n';
+}
+
+export function consoleTable(rows: readonly SummaryRow[], thresholds: readonly number[]): string {
+  const t = keyThreshold(thresholds);
+  const rate = thresholdName(t);
+  const header = ['matcher', 'dataset', 'pairs', 'failed', 'known cov%', 'known epe', `known ${rate}`, 'visible cov%', 'visible epe', `visible ${rate}`, 'ms/pair'];
+  const out: string[][] = [];
+  const cells = new Map<string, { known?: SummaryRow; visible?: SummaryRow }>();
+  for (const r of rows) {
+    if (r.tag !== null || (r.region !== 'known' && r.region !== 'visible')) continue;
+    const key = `${r.matcher}\u0000${r.dataset}`;
+    const c = cells.get(key) ?? {};
+    c[r.region] = r;
+    cells.set(key, c);
+  }
+  for (const { known, visible } of cells.values()) {
+    const any = (known ?? visible)!;
+    const m = (row: SummaryRow | undefined, id: string): number | null => row?.metrics[id]?.mean ?? null;
+    out.push([
+      any.matcher,
+      any.dataset,
+      String(any.n_jobs),
+      String(any.n_failed),
+      fmt(m(known, 'coverage'), 1),
+      fmt(m(known, 'epe'), 3),
+      fmt(m(known, rate), 2),
+      fmt(m(visible, 'coverage'), 1),
+      fmt(m(visible, 'epe'), 3),
+      fmt(m(visible, rate), 2),
+      fmt(m(known, 'time_ms'), 1),
+    ]);
+  }
+  return alignColumns(header, out, header.map((_, i) => i >= 2));
+}
