@@ -1,0 +1,252 @@
+import { describe, expect, it } from 'vitest';
+import { AbortedError, MatcherFailure } from '../../src/core/errors.js';
+import { blockCostSlice, createBlockScratch, type BlockCostKind } from '../../matchers/block/cost.js';
+import { blockMatch, blockMatcher } from '../../matchers/block/index.js';
+import { BUILTIN_MATCHERS } from '../../matchers/index.js';
+import { mulberry32, randomDotStereogram, scoringMask, shareCorrect } from './block-rds.js';
+
+function randomInts(n: number, seed: number): Float32Array {
+  const rnd = mulberry32(seed);
+  const a = new Float32Array(n);
+  for (let i = 0; i < n; i++) a[i] = Math.floor(rnd() * 256);
+  return a;
+}
+
+const clamp = (v: number, lo: number, hi: number) => (v < lo ? lo : v > hi ? hi : v);
+
+describe('SAD / SSD cost slices', () => {
+  const w = 21;
+  const h = 14;
+  const L = randomInts(w * h, 1);
+  const R = randomInts(w * h, 2);
+  for (const kind of ['sad', 'ssd'] as const) {
+    for (const r of [0, 1, 3]) {
+      it(`${kind}, window ${2 * r + 1}: equals a naive window loop (exact on integer images)`, () => {
+        const s = createBlockScratch(kind, L, w, h, r);
+        const out = new Float64Array(w * h);
+        const e = (a: number, b: number) => (kind === 'sad' ? Math.abs(a - b) : (a - b) * (a - b));
+        for (const d of [-3, 0, 4]) {
+          blockCostSlice(s, L, R, d, out);
+          for (let y = 0; y < h; y++) {
+            for (let x = 0; x < w; x++) {
+              // Textbook window sum: sum over the window of e(L(x+i, y+j), R(x+i-d, y+j)),
+              // with the documented replicate rule where the window leaves the image
+              // (left window coordinates clamped, then the right x clamped).
+              let ref = 0;
+              for (let j = -r; j <= r; j++) {
+                for (let i = -r; i <= r; i++) {
+                  const xx = clamp(x + i, 0, w - 1);
+                  const yy = clamp(y + j, 0, h - 1);
+                  ref += e(L[yy * w + xx], R[yy * w + clamp(xx - d, 0, w - 1)]);
+                }
+              }
+              expect(out[y * w + x]).toBe(ref);
+            }
+          }
+        }
+      });
+    }
+  }
+});
+
+describe('ZNCC', () => {
+  const w = 24;
+  const h = 16;
+  const L = randomInts(w * h, 3);
+  const R = randomInts(w * h, 4);
+
+  it('equals 1 - ZNCC computed from the definition with window means, away from borders', () => {
+    const r = 2;
+    const s = createBlockScratch('zncc', L, w, h, r);
+    const out = new Float64Array(w * h);
+    for (const d of [0, 3]) {
+      blockCostSlice(s, L, R, d, out);
+      for (let y = r; y < h - r; y++) {
+        for (let x = r + d; x < w - r; x++) {
+          // ZNCC = sum (I - mI)(J - mJ) / sqrt(sum (I - mI)^2 sum (J - mJ)^2) (definition).
+          let mi = 0;
+          let mj = 0;
+          const N = (2 * r + 1) ** 2;
+          for (let j = -r; j <= r; j++)
+            for (let i = -r; i <= r; i++) {
+              mi += L[(y + j) * w + x + i];
+              mj += R[(y + j) * w + x + i - d];
+            }
+          mi /= N;
+          mj /= N;
+          let sij = 0;
+          let sii = 0;
+          let sjj = 0;
+          for (let j = -r; j <= r; j++)
+            for (let i = -r; i <= r; i++) {
+              const a = L[(y + j) * w + x + i] - mi;
+              const b = R[(y + j) * w + x + i - d] - mj;
+              sij += a * b;
+              sii += a * a;
+              sjj += b * b;
+            }
+          expect(Math.abs(out[y * w + x] - (1 - sij / Math.sqrt(sii * sjj)))).toBeLessThan(1e-9);
+        }
+      }
+    }
+  });
+
+  it('gives the same costs and disparities when an image becomes a*I + b, a > 0 (property of ZNCC)', () => {
+    const r = 3;
+    const s = randomDotStereogram(64, 48, 2, 7, 9);
+    const input = { width: 64, height: 48, left: s.left, right: s.right, minDisparity: 0, maxDisparity: 10 };
+    // Integer WTA: identical maps. With the subpixel fit the costs' last-bit rounding
+    // (~1e-12) may move float32 answers by an ulp, so those are compared to 1e-5 px.
+    const ref = blockMatch(input, { cost: 'zncc', window: 7, subpix: false });
+    const refSub = blockMatch(input, { cost: 'zncc', window: 7, subpix: true });
+    const scratch = createBlockScratch('zncc', s.left, 64, 48, r);
+    const a0 = new Float64Array(64 * 48);
+    const a1 = new Float64Array(64 * 48);
+    for (const [a, b] of [
+      [2, 10],
+      [0.5, -3],
+      [3.7, 0.25],
+    ]) {
+      const right2 = s.right.map((v) => a * v + b);
+      const left2 = s.left.map((v) => (a / 2) * v + 2 * b);
+      const got = blockMatch({ ...input, left: left2, right: right2 }, { cost: 'zncc', window: 7, subpix: false });
+      expect(list(got)).toEqual(list(ref));
+      const gotSub = blockMatch({ ...input, left: left2, right: right2 }, { cost: 'zncc', window: 7, subpix: true });
+      for (let p = 0; p < gotSub.length; p++) {
+        if (Number.isNaN(refSub[p])) expect(gotSub[p]).toBeNaN();
+        else expect(Math.abs(gotSub[p] - refSub[p])).toBeLessThan(1e-5);
+      }
+      const scratch2 = createBlockScratch('zncc', left2, 64, 48, r);
+      for (const d of [0, 2, 7]) {
+        blockCostSlice(scratch, s.left, s.right, d, a0);
+        blockCostSlice(scratch2, left2, right2, d, a1);
+        let worst = 0;
+        for (let p = 0; p < a0.length; p++) worst = Math.max(worst, Math.abs(a0[p] - a1[p]));
+        expect(worst).toBeLessThan(1e-5);
+      }
+    }
+  });
+
+  it('treats a flat window as uncorrelated (cost 1)', () => {
+    const flat = new Float32Array(9 * 9).fill(80);
+    const s = createBlockScratch('zncc', flat, 9, 9, 1);
+    const out = new Float64Array(81);
+    blockCostSlice(s, flat, randomInts(81, 5), 0, out);
+    expect(out.every((v) => v === 1)).toBe(true);
+  });
+});
+
+function list(a: Float32Array): (number | string)[] {
+  return Array.from(a, (v) => (Number.isNaN(v) ? 'NaN' : v));
+}
+
+describe('block matcher on a random-dot stereogram (Julesz 1960)', () => {
+  // Correct = finite and |d - truth| <= 1 px (common practice), scored away from the image
+  // border, occlusions and within the window radius of the square's edges (see block-rds.ts).
+  const s = randomDotStereogram(128, 96, 3, 11, 7);
+  const cases: { cost: BlockCostKind; window: number }[] = [
+    { cost: 'sad', window: 9 },
+    { cost: 'ssd', window: 7 },
+    { cost: 'zncc', window: 9 },
+  ];
+  for (const { cost, window } of cases) {
+    it(`${cost}, window ${window}: >= 99% correct within 1 px, also within 0.5 px with subpixel`, () => {
+      const r = (window - 1) >> 1;
+      const mask = scoringMask(s, 16, r);
+      const d = blockMatch(
+        { width: s.width, height: s.height, left: s.left, right: s.right, minDisparity: -2, maxDisparity: 16 },
+        { cost, window },
+      );
+      expect(shareCorrect(d, s, mask, 1)).toBeGreaterThanOrEqual(0.99);
+      // Integer-disparity scene: the parabola must not push the answer past half a pixel.
+      expect(shareCorrect(d, s, mask, 0.5)).toBeGreaterThanOrEqual(0.99);
+    });
+  }
+
+  it('recovers negative disparities over a range that crosses zero', () => {
+    const n = randomDotStereogram(96, 72, -4, 3, 21);
+    const mask = scoringMask(n, 12, 4);
+    const d = blockMatch(
+      { width: 96, height: 72, left: n.left, right: n.right, minDisparity: -8, maxDisparity: 6 },
+      { cost: 'sad', window: 9 },
+    );
+    expect(shareCorrect(d, n, mask, 1)).toBeGreaterThanOrEqual(0.99);
+  });
+
+  it('left-right check leaves the occluded band without answers', () => {
+    // The wall strip left of the square (width d2 - d1 = 8 px) is hidden in the right view;
+    // it has no true match, so the check should reject most of it (common practice).
+    const d = blockMatch(
+      { width: s.width, height: s.height, left: s.left, right: s.right, minDisparity: 0, maxDisparity: 16 },
+      { cost: 'sad', window: 5, lr: 1 },
+    );
+    let occ = 0;
+    let rejected = 0;
+    const { x0, y0, y1 } = s.square;
+    for (let y = y0 + 3; y < y1 - 3; y++) {
+      for (let x = x0 - 8; x < x0 - 2; x++) {
+        occ++;
+        if (Number.isNaN(d[y * s.width + x])) rejected++;
+      }
+    }
+    expect(rejected / occ).toBeGreaterThan(0.8);
+  });
+});
+
+describe('block matcher: range, excluded candidates, abort, schema', () => {
+  const w = 40;
+  const h = 12;
+  const L = randomInts(w * h, 8);
+  const R = randomInts(w * h, 9);
+
+  it('never answers a disparity whose match falls outside the right image (d = x_left - x_right)', () => {
+    const d = blockMatch(
+      { width: w, height: h, left: L, right: R, minDisparity: 5, maxDisparity: 20 },
+      { cost: 'sad', window: 3, lr: 0, subpix: false },
+    );
+    for (let y = 0; y < h; y++) {
+      for (let x = 0; x < w; x++) {
+        const v = d[y * w + x];
+        if (x < 5) expect(v).toBeNaN(); // no candidate at all: x - 5 < 0
+        else {
+          expect(v).toBeGreaterThanOrEqual(5);
+          expect(v).toBeLessThanOrEqual(Math.min(20, x)); // x - d >= 0
+        }
+      }
+    }
+  });
+
+  it('a range wider than the image still works and an empty range is a MatcherFailure', () => {
+    const d = blockMatch({ width: w, height: h, left: L, right: R, minDisparity: -100, maxDisparity: 100 }, {});
+    expect(d.length).toBe(w * h);
+    expect(() => blockMatch({ width: w, height: h, left: L, right: R, minDisparity: 3, maxDisparity: 2 }, {})).toThrow(
+      MatcherFailure,
+    );
+    expect(() =>
+      blockMatch({ width: w, height: h, left: L, right: R.subarray(1), minDisparity: 0, maxDisparity: 2 }, {}),
+    ).toThrow(MatcherFailure);
+  });
+
+  it('throws AbortedError when the signal is aborted', () => {
+    const ac = new AbortController();
+    ac.abort();
+    expect(() =>
+      blockMatcher.match({ width: w, height: h, left: L, right: R, minDisparity: 0, maxDisparity: 8 }, {}, ac.signal),
+    ).toThrow(AbortedError);
+  });
+
+  it('declares sensible parameters and is listed among the built-in matchers', () => {
+    expect(BUILTIN_MATCHERS).toContain(blockMatcher);
+    expect(blockMatcher.id).toBe('block');
+    const names = blockMatcher.params.map((p) => p.name);
+    expect(new Set(names).size).toBe(names.length);
+    for (const p of blockMatcher.params) {
+      if (p.type === 'int' || p.type === 'number') {
+        expect(p.default).toBeGreaterThanOrEqual(p.min!);
+        expect(p.default).toBeLessThanOrEqual(p.max!);
+        if (p.odd) expect(p.default % 2).toBe(1);
+      }
+      if (p.type === 'enum') expect(p.values).toContain(p.default);
+    }
+  });
+});
