@@ -44,9 +44,8 @@ function splitIdAndRest(spec: string): { id: string; rest: string | undefined } 
   const trimmed = spec.trim();
   const first = trimmed.indexOf(':');
   if (first < 0) return { id: trimmed, rest: undefined };
-  if (looksLikeModulePath(trimmed.slice(0, first).trim()) || !looksLikeModulePath(trimmed)) {
-    return { id: trimmed.slice(0, first).trim(), rest: trimmed.slice(first + 1) };
-  }
+  const head = trimmed.slice(0, first).trim();
+  if (!looksLikeModulePath(head) && !looksLikeModulePath(trimmed)) return { id: head, rest: trimmed.slice(first + 1) };
   // A path containing ':' (rare): find a ':' that starts a parameter list.
   for (let i = first; i >= 0; i = trimmed.indexOf(':', i + 1)) {
     const rest = trimmed.slice(i + 1);
