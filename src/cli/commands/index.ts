@@ -10,4 +10,5 @@ export const COMMAND_MODULES: readonly (() => Promise<Record<string, unknown>>)[
   () => import('./dataset.js'),
   () => import('./demo.js'),
   () => import('./matchers.js'),
+  () => import('./compare.js'),
 ];

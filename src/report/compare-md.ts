@@ -1,0 +1,164 @@
+/**
+ * Text renderings of a run comparison: compare.md (Markdown for a pull-request comment)
+ * and the console table. Our own layout: a verdict line, the gates, a short table of
+ * headline figures, the pairs that changed most, and the full table folded away.
+ */
+import type { Comparison, ConfigComparison, GateOutcome, MetricDelta } from '../stats/compare.js';
+import { metricUnit, COST_METRICS } from '../stats/metrics.js';
+import { thresholdName } from '../metrics/types.js';
+
+/** Escape text for a Markdown table cell: HTML-significant characters, pipes, backticks, newlines. */
+export function mdCell(s: string): string {
+  return s
+    .replace(/&/g, '&amp;')
+    .replace(/</g, '&lt;')
+    .replace(/>/g, '&gt;')
+    .replace(/\|/g, '\\|')
+    .replace(/`/g, '\\`')
+    .replace(/[\r\n\t]+/g, ' ')
+    .replace(/^([#>*_~=-])/, '\\$1');
+}
+
+export function fmtNum(x: number | null | undefined, signed = false): string {
+  if (x === null || x === undefined || !Number.isFinite(x)) return '–';
+  const a = Math.abs(x);
+  let s: string;
+  if (a === 0) s = '0';
+  else if (a >= 1000) s = x.toFixed(0);
+  else if (a >= 10) s = x.toFixed(2);
+  else if (a >= 0.001) s = x.toFixed(3);
+  else s = x.toPrecision(2);
+  return signed && x > 0 ? `+${s}` : s;
+}
+
+export function fmtP(p: number | null): string {
+  if (p === null || !Number.isFinite(p)) return '–';
+  return p < 0.001 ? '<0.001' : p.toFixed(3);
+}
+
+function metricLabel(metric: string): string {
+  const u = metricUnit(metric);
+  const name = metric === 'bias' ? '|bias|' : metric;
+  return u ? `${name} (${u})` : name;
+}
+
+/** Headline rows: coverage, epe and the rates on known and visible, plus every gated row. */
+export function headlineRows(cfg: ConfigComparison, thresholds: readonly number[], gates: readonly GateOutcome[]): MetricDelta[] {
+  const want = new Set<string>();
+  for (const r of ['known', 'visible']) for (const m of ['coverage', 'epe', ...thresholds.map(thresholdName)]) want.add(`${r}/${m}`);
+  want.add('known/time_ms');
+  for (const g of gates) want.add(`${g.gate.region}/${g.gate.metric}`);
+  return cfg.deltas.filter((d) => want.has(`${d.region}/${d.metric}`) && d.n > 0);
+}
+
+/** Every row with data; cost figures only once (under `known`), they do not depend on the region. */
+export function allRows(cfg: ConfigComparison): MetricDelta[] {
+  return cfg.deltas.filter((d) => d.n > 0 && (!(COST_METRICS as readonly string[]).includes(d.metric) || d.region === 'known'));
+}
+
+function verdict(d: MetricDelta): string {
+  if (d.worsening === null || d.worsening === 0) return 'same';
+  if (d.p !== null && d.p >= 0.05) return d.worsening > 0 ? 'worse (n.s.)' : 'better (n.s.)';
+  return d.worsening > 0 ? 'worse' : 'better';
+}
+
+function deltaTable(rows: MetricDelta[], level: number): string[] {
+  const pct = Math.round(level * 100);
+  const out = [`| region | metric | baseline | candidate | change | ${pct} % interval | p | pairs | reading |`, '|---|---|--:|--:|--:|--:|--:|--:|---|'];
+  for (const d of rows) {
+    const ci = d.changeCi ? `${fmtNum(d.changeCi.lo, true)} … ${fmtNum(d.changeCi.hi, true)}` : '–';
+    const units = d.unit === 'group' ? `${d.n} (${d.units} groups)` : String(d.n);
+    out.push(`| ${d.region} | ${mdCell(metricLabel(d.metric))} | ${fmtNum(d.base)} | ${fmtNum(d.cand)} | ${fmtNum(d.change, true)} | ${ci} | ${fmtP(d.p)} | ${units} | ${verdict(d)} |`);
+  }
+  return out;
+}
+
+export interface CompareMeta {
+  baseline: string;
+  candidate: string;
+  strict: boolean;
+}
+
+export function compareMarkdown(c: Comparison, gates: readonly GateOutcome[], meta: CompareMeta): string {
+  const L: string[] = [];
+  const failed = gates.filter((g) => !g.pass);
+  const head = gates.length === 0 ? 'no gates set' : failed.length === 0 ? `all ${gates.length} gate checks pass` : `${failed.length} of ${gates.length} gate checks FAIL`;
+  L.push(`## Stereo accuracy: ${mdCell(meta.candidate)} against ${mdCell(meta.baseline)}`, '');
+  L.push(`**${head}**${meta.strict ? ' (strict: the interval of each worsening must stay within its allowance)' : ''}`, '');
+  if (gates.length) {
+    L.push('| configuration | gate | worsening | allowance | verdict | why |', '|---|---|--:|--:|---|---|');
+    for (const g of gates) {
+      L.push(`| ${mdCell(g.label)} | ${g.gate.region}/${g.gate.metric} | ${fmtNum(g.worsening, true)} | ${fmtNum(g.gate.allowance)} | ${g.pass ? 'pass' : '**FAIL**'} | ${mdCell(g.reason)} |`);
+    }
+    L.push('');
+  }
+  const notes: string[] = [];
+  if (c.configsOnlyInBase.length) notes.push(`only in the baseline: ${c.configsOnlyInBase.map(mdCell).join(', ')}`);
+  if (c.configsOnlyInCand.length) notes.push(`only in the candidate: ${c.configsOnlyInCand.map(mdCell).join(', ')}`);
+  if (c.pairsOnlyInBase.length) notes.push(`${c.pairsOnlyInBase.length} pair result(s) only in the baseline (e.g. ${mdCell(c.pairsOnlyInBase[0]!)})`);
+  if (c.pairsOnlyInCand.length) notes.push(`${c.pairsOnlyInCand.length} pair result(s) only in the candidate (e.g. ${mdCell(c.pairsOnlyInCand[0]!)})`);
+  if (notes.length) {
+    L.push('Not compared:', '');
+    for (const n of notes) L.push(`- ${n}`);
+    L.push('');
+  }
+  for (const cfg of c.configs) {
+    L.push(`### ${mdCell(cfg.label)} — ${cfg.pairs} pairs`, '');
+    L.push(...deltaTable(headlineRows(cfg, c.thresholds, gates), c.level), '');
+    if (cfg.statusChanges.length) {
+      L.push('Status changed:', '');
+      for (const s of cfg.statusChanges) L.push(`- ${mdCell(s.dataset)}/${mdCell(s.pair)}: ${s.baseStatus} → ${s.candStatus}`);
+      L.push('');
+    }
+    if (cfg.topChanges.length) {
+      L.push(`Pairs that changed most (${c.headline.region}/${metricLabel(c.headline.metric)}):`, '');
+      L.push('| pair | baseline | candidate | change |', '|---|--:|--:|--:|');
+      for (const p of cfg.topChanges) L.push(`| ${mdCell(p.dataset)}/${mdCell(p.pair)} | ${fmtNum(p.base)} | ${fmtNum(p.cand)} | ${fmtNum(p.change, true)} |`);
+      L.push('');
+    }
+    L.push('<details><summary>All figures</summary>', '', ...deltaTable(allRows(cfg), c.level), '', '</details>', '');
+  }
+  L.push(
+    `<sub>change = mean over pairs of candidate − baseline (for |bias|: of the magnitudes); ${Math.round(c.level * 100)} % BCa bootstrap intervals, ${c.resamples} resamples of pairs (or groups); p = two-sided paired sign-flip permutation test; "n.s." = p ≥ 0.05. Rates and coverage in percentage points.</sub>`,
+  );
+  return L.join('\n') + '\n';
+}
+
+/** Plain-text table for the terminal (same figures, aligned columns). */
+export function compareConsole(c: Comparison, gates: readonly GateOutcome[], all: boolean): string {
+  const L: string[] = [];
+  const pad = (rows: string[][]): string[] => {
+    const w = rows[0]!.map((_, i) => Math.max(...rows.map((r) => r[i]!.length)));
+    return rows.map((r) => r.map((s, i) => (i < 2 ? s.padEnd(w[i]!) : s.padStart(w[i]!))).join('  ').trimEnd());
+  };
+  for (const x of c.configsOnlyInBase) L.push(`only in baseline:  ${x}`);
+  for (const x of c.configsOnlyInCand) L.push(`only in candidate: ${x}`);
+  if (c.pairsOnlyInBase.length) L.push(`${c.pairsOnlyInBase.length} pair result(s) only in baseline, e.g. ${c.pairsOnlyInBase[0]}`);
+  if (c.pairsOnlyInCand.length) L.push(`${c.pairsOnlyInCand.length} pair result(s) only in candidate, e.g. ${c.pairsOnlyInCand[0]}`);
+  for (const cfg of c.configs) {
+    L.push('', `${cfg.label}  (${cfg.pairs} pairs)`);
+    const rows = [['region', 'metric', 'baseline', 'candidate', 'change', `${Math.round(c.level * 100)}% interval`, 'p', 'pairs']];
+    for (const d of all ? allRows(cfg) : headlineRows(cfg, c.thresholds, gates)) {
+      rows.push([
+        d.region,
+        metricLabel(d.metric),
+        fmtNum(d.base),
+        fmtNum(d.cand),
+        fmtNum(d.change, true),
+        d.changeCi ? `[${fmtNum(d.changeCi.lo, true)}, ${fmtNum(d.changeCi.hi, true)}]` : '–',
+        fmtP(d.p),
+        d.unit === 'group' ? `${d.n}/${d.units}g` : String(d.n),
+      ]);
+    }
+    L.push(...pad(rows).map((s) => `  ${s}`));
+    for (const s of cfg.statusChanges) L.push(`  status changed: ${s.dataset}/${s.pair} ${s.baseStatus} -> ${s.candStatus}`);
+    if (cfg.topChanges.length) {
+      L.push(`  changed most (${c.headline.region}/${c.headline.metric}): ` + cfg.topChanges.map((p) => `${p.dataset}/${p.pair} ${fmtNum(p.change, true)}`).join(', '));
+    }
+  }
+  if (gates.length) {
+    L.push('', 'gates:');
+    for (const g of gates) L.push(`  ${g.pass ? 'pass' : 'FAIL'}  ${g.label}  ${g.gate.region}/${g.gate.metric}:${g.gate.allowance}  ${g.reason}`);
+  }
+  return L.join('\n') + '\n';
+}

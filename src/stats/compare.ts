@@ -1,0 +1,370 @@
+/**
+ * Paired comparison of two runs (baseline and candidate) on the pairs they share,
+ * configuration by configuration (matched by label), and the CI gates on top of it.
+ *
+ * Per (configuration, region, metric), over the pairs where both runs have the figure:
+ *   d_i = candidate_i - baseline_i   (for bias: |candidate_i| - |baseline_i|, so a larger
+ *                                     offset in either direction counts as worse)
+ *   change = mean d_i, with a BCa interval (pairs, or the manifest's groups, resampled)
+ *   p = sign-flip permutation test on the unit sums of d_i (see permutation.ts)
+ *   worsening = change for lower-is-better metrics (errors, rates, quantiles, depth,
+ *               time, memory, |bias|) and -change for coverage (higher is better).
+ * A failed job is all-invalid in its sums and figures (coverage 0, rates 100), so both
+ * runs are scored on the same pairs.
+ */
+import type { JobResult } from '../core/score.js';
+import { REGION_IDS, type RegionId } from '../core/regions.js';
+import { UsageError } from '../core/errors.js';
+import { bcaIntervals, type BootstrapOptions, type Interval, type TotalsStat } from './bootstrap.js';
+import { signFlipTest, type SignFlipOptions } from './permutation.js';
+import { COST_METRICS, figureOf, isKnownMetric, metricDirection, metricNames, pooledFrom, pooledSpec, readSums, sumColumns } from './metrics.js';
+import { cmp, latestJobs, rateMapOf, sortJobs } from './aggregate.js';
+
+/** What compare needs from run.json. */
+export interface RunInfoLike {
+  name?: string;
+  config: {
+    thresholds: number[];
+    regions: Record<string, number>;
+    datasets: { name: string; hash: string }[];
+    matchers?: { label: string }[];
+  };
+}
+
+export interface RunData {
+  dir: string;
+  info: RunInfoLike;
+  results: JobResult[];
+}
+
+/** Reasons two runs cannot be compared (empty = comparable). */
+export function comparabilityProblems(base: RunInfoLike, cand: RunInfoLike): string[] {
+  const out: string[] = [];
+  const tb = base.config.thresholds;
+  const tc = cand.config.thresholds;
+  if (tb.length !== tc.length || tb.some((t, i) => t !== tc[i])) out.push(`thresholds differ (baseline ${tb.join(', ')}; candidate ${tc.join(', ')})`);
+  const keys = [...new Set([...Object.keys(base.config.regions), ...Object.keys(cand.config.regions)])].sort(cmp);
+  for (const k of keys) {
+    if (base.config.regions[k] !== cand.config.regions[k]) out.push(`region parameter ${k} differs (baseline ${String(base.config.regions[k])}; candidate ${String(cand.config.regions[k])})`);
+  }
+  const hb = new Map(base.config.datasets.map((d) => [d.name, d.hash]));
+  const hc = new Map(cand.config.datasets.map((d) => [d.name, d.hash]));
+  for (const [name, h] of hb) {
+    if (!hc.has(name)) out.push(`dataset ${name} is only in the baseline`);
+    else if (hc.get(name) !== h) out.push(`dataset ${name} differs (hash ${h.slice(0, 12)} vs ${hc.get(name)!.slice(0, 12)})`);
+  }
+  for (const name of hc.keys()) if (!hb.has(name)) out.push(`dataset ${name} is only in the candidate`);
+  return out;
+}
+
+export interface MetricDelta {
+  region: RegionId;
+  metric: string;
+  /** Means over the compared pairs. For bias these are mean |bias|. */
+  base: number | null;
+  cand: number | null;
+  /** Mean of d_i (see module comment). */
+  change: number | null;
+  changeCi: Interval | null;
+  /** Worsening (positive = worse) and its interval. */
+  worsening: number | null;
+  worseningCi: { lo: number; hi: number } | null;
+  p: number | null;
+  exactP: boolean;
+  /** Pairs used (both figures present) and resampled units. */
+  n: number;
+  units: number;
+  unit: 'pair' | 'group';
+  /** Pooled figures on the compared pairs (no pooled quantiles or cost). */
+  pooledBase: number | null;
+  pooledCand: number | null;
+}
+
+export interface PairChange {
+  dataset: string;
+  pair: string;
+  base: number | null;
+  cand: number | null;
+  change: number;
+  baseStatus: 'ok' | 'failed';
+  candStatus: 'ok' | 'failed';
+}
+
+export interface ConfigComparison {
+  label: string;
+  pairs: number;
+  deltas: MetricDelta[];
+  /** Pairs that changed most on the headline region/metric, largest |change| first. */
+  topChanges: PairChange[];
+  /** Pairs whose status differs (ok -> failed or back). */
+  statusChanges: PairChange[];
+}
+
+export interface Comparison {
+  thresholds: number[];
+  configs: ConfigComparison[];
+  configsOnlyInBase: string[];
+  configsOnlyInCand: string[];
+  /** `label: dataset/pair` entries present in one run only (configs in common). */
+  pairsOnlyInBase: string[];
+  pairsOnlyInCand: string[];
+  headline: { region: RegionId; metric: string };
+  resamples: number;
+  level: number;
+}
+
+export interface CompareOptions {
+  bootstrap?: BootstrapOptions;
+  permutation?: SignFlipOptions;
+  /** Region and metric for the list of most-changed pairs (default known/epe). */
+  headline?: { region: RegionId; metric: string };
+  /** How many most-changed pairs to list (default 5). */
+  top?: number;
+}
+
+const key = (j: JobResult): string => `${j.dataset}/${j.pair}`;
+
+function byLabel(results: JobResult[]): Map<string, Map<string, JobResult>> {
+  const out = new Map<string, Map<string, JobResult>>();
+  for (const j of sortJobs(latestJobs(results))) {
+    let m = out.get(j.matcher);
+    if (!m) out.set(j.matcher, (m = new Map()));
+    m.set(key(j), j);
+  }
+  return out;
+}
+
+function pairValue(j: JobResult, region: RegionId, metric: string, thresholds: number[], rateMap: number[]): number | null {
+  const s = j.scores[region];
+  const isCost = (COST_METRICS as readonly string[]).includes(metric);
+  if (!isCost && !(s.sums.pixels > 0)) return null;
+  const v = figureOf(s.figures, metric, thresholds, rateMap, { time_ms: j.time_ms, peak_mb: j.peak_mb });
+  if (v === null || !Number.isFinite(v)) return null;
+  return metric === 'bias' ? Math.abs(v) : v;
+}
+
+function compareConfig(label: string, base: Map<string, JobResult>, cand: Map<string, JobResult>, thresholds: number[], opts: CompareOptions): ConfigComparison {
+  const common = [...base.keys()].filter((k) => cand.has(k)).sort(cmp);
+  const pairsB = common.map((k) => base.get(k)!);
+  const pairsC = common.map((k) => cand.get(k)!);
+  const rmB = pairsB.map((j) => rateMapOf(j, thresholds));
+  const rmC = pairsC.map((j) => rateMapOf(j, thresholds));
+  const byGroup = pairsC.some((j) => j.group !== undefined) || pairsB.some((j) => j.group !== undefined);
+  const unitOf: number[] = [];
+  const unitIds = new Map<string, number>();
+  common.forEach((k, i) => {
+    const g = pairsC[i]!.group ?? pairsB[i]!.group;
+    const id = byGroup && g !== undefined ? `group:${g}` : `pair:${k}`;
+    if (!unitIds.has(id)) unitIds.set(id, unitIds.size);
+    unitOf.push(unitIds.get(id)!);
+  });
+  const U = unitIds.size;
+  const metrics = metricNames(thresholds);
+  const M = metrics.length;
+  const nSum = sumColumns(thresholds).length;
+  const deltas: MetricDelta[] = [];
+  const sums = new Float64Array(nSum);
+  for (const region of REGION_IDS) {
+    // Columns per metric: [sum d, count, sum base, sum cand]; then base sums, cand sums.
+    const cols = 4 * M + 2 * nSum;
+    const data = new Float64Array(U * cols);
+    for (let i = 0; i < common.length; i++) {
+      const row = unitOf[i]! * cols;
+      for (let m = 0; m < M; m++) {
+        const b = pairValue(pairsB[i]!, region, metrics[m]!, thresholds, rmB[i]!);
+        const c = pairValue(pairsC[i]!, region, metrics[m]!, thresholds, rmC[i]!);
+        if (b === null || c === null) continue;
+        data[row + 4 * m] += c - b;
+        data[row + 4 * m + 1] += 1;
+        data[row + 4 * m + 2] += b;
+        data[row + 4 * m + 3] += c;
+      }
+      readSums(pairsB[i]!.scores[region].sums, rmB[i]!, sums);
+      for (let k = 0; k < nSum; k++) data[row + 4 * M + k] += sums[k]!;
+      readSums(pairsC[i]!.scores[region].sums, rmC[i]!, sums);
+      for (let k = 0; k < nSum; k++) data[row + 4 * M + nSum + k] += sums[k]!;
+    }
+    const stats: TotalsStat[] = metrics.map((_, m) => (t: Float64Array) => (t[4 * m + 1]! > 0 ? t[4 * m]! / t[4 * m + 1]! : NaN));
+    const cis = bcaIntervals({ units: U, cols, data }, stats, opts.bootstrap ?? {});
+    const tot = new Float64Array(cols);
+    for (let u = 0; u < U; u++) for (let c = 0; c < cols; c++) tot[c] += data[u * cols + c]!;
+    metrics.forEach((metric, m) => {
+      const n = tot[4 * m + 1]!;
+      const unitDiffs: number[] = [];
+      for (let u = 0; u < U; u++) if (data[u * cols + 4 * m + 1]! > 0) unitDiffs.push(data[u * cols + 4 * m]!);
+      const perm = n > 0 ? signFlipTest(unitDiffs, opts.permutation ?? {}) : null;
+      const change = n > 0 ? tot[4 * m]! / n : null;
+      const ci = cis[m] ?? null;
+      const dir = metricDirection(metric);
+      const sign = dir === 'higher-better' ? -1 : 1;
+      const spec = pooledSpec(metric, thresholds);
+      deltas.push({
+        region,
+        metric,
+        base: n > 0 ? tot[4 * m + 2]! / n : null,
+        cand: n > 0 ? tot[4 * m + 3]! / n : null,
+        change,
+        changeCi: ci,
+        worsening: change === null ? null : sign * change + 0,
+        worseningCi: ci === null ? null : sign > 0 ? { lo: ci.lo, hi: ci.hi } : { lo: -ci.hi + 0, hi: -ci.lo + 0 },
+        p: perm ? perm.p : null,
+        exactP: perm ? perm.exact : true,
+        n,
+        units: unitDiffs.length,
+        unit: byGroup ? 'group' : 'pair',
+        pooledBase: spec ? pooledFrom(spec, tot[4 * M + spec.num]!, tot[4 * M + spec.den]!) : null,
+        pooledCand: spec ? pooledFrom(spec, tot[4 * M + nSum + spec.num]!, tot[4 * M + nSum + spec.den]!) : null,
+      });
+    });
+  }
+  const hl = opts.headline ?? { region: 'known' as RegionId, metric: 'epe' };
+  const changes: PairChange[] = [];
+  const statusChanges: PairChange[] = [];
+  for (let i = 0; i < common.length; i++) {
+    const b = pairValue(pairsB[i]!, hl.region, hl.metric, thresholds, rmB[i]!);
+    const c = pairValue(pairsC[i]!, hl.region, hl.metric, thresholds, rmC[i]!);
+    const pc: PairChange = {
+      dataset: pairsB[i]!.dataset,
+      pair: pairsB[i]!.pair,
+      base: b,
+      cand: c,
+      change: b !== null && c !== null ? c - b : NaN,
+      baseStatus: pairsB[i]!.status,
+      candStatus: pairsC[i]!.status,
+    };
+    if (pc.baseStatus !== pc.candStatus) statusChanges.push(pc);
+    if (Number.isFinite(pc.change) && pc.change !== 0) changes.push(pc);
+  }
+  const sign = metricDirection(hl.metric) === 'higher-better' ? -1 : 1;
+  // Largest worsening first, then largest improvement; ties by pair key.
+  changes.sort((x, y) => Math.abs(y.change) - Math.abs(x.change) || sign * (y.change - x.change) || cmp(`${x.dataset}/${x.pair}`, `${y.dataset}/${y.pair}`));
+  return { label, pairs: common.length, deltas, topChanges: changes.slice(0, opts.top ?? 5), statusChanges };
+}
+
+export function compareRuns(base: RunData, cand: RunData, opts: CompareOptions = {}): Comparison {
+  const thresholds = [...cand.info.config.thresholds];
+  const lb = byLabel(base.results);
+  const lc = byLabel(cand.results);
+  const labels = [...lb.keys()].filter((l) => lc.has(l)).sort(cmp);
+  const configsOnlyInBase = [...lb.keys()].filter((l) => !lc.has(l)).sort(cmp);
+  const configsOnlyInCand = [...lc.keys()].filter((l) => !lb.has(l)).sort(cmp);
+  const pairsOnlyInBase: string[] = [];
+  const pairsOnlyInCand: string[] = [];
+  for (const l of labels) {
+    for (const k of lb.get(l)!.keys()) if (!lc.get(l)!.has(k)) pairsOnlyInBase.push(`${l}: ${k}`);
+    for (const k of lc.get(l)!.keys()) if (!lb.get(l)!.has(k)) pairsOnlyInCand.push(`${l}: ${k}`);
+  }
+  const configs = labels.map((l) => compareConfig(l, lb.get(l)!, lc.get(l)!, thresholds, opts));
+  return {
+    thresholds,
+    configs,
+    configsOnlyInBase,
+    configsOnlyInCand,
+    pairsOnlyInBase,
+    pairsOnlyInCand,
+    headline: opts.headline ?? { region: 'known', metric: 'epe' },
+    resamples: opts.bootstrap?.resamples ?? 2000,
+    level: opts.bootstrap?.level ?? 0.95,
+  };
+}
+
+// ---------------------------------------------------------------- gates
+
+export interface Gate {
+  region: RegionId;
+  metric: string;
+  /** Allowed worsening in the metric's unit (percentage points for % metrics). */
+  allowance: number;
+  /** Where the gate came from (for messages). */
+  source: string;
+}
+
+/** Parse `region/metric:allowance`; unknown region or metric is a UsageError naming `option`. */
+export function parseGate(text: string, thresholds: readonly number[], option = '--gate'): Gate {
+  const m = /^([^/\s]+)\/([^:\s]+):([^\s]+)$/.exec(text.trim());
+  if (!m) throw new UsageError(option, `"${text}" is not region/metric:allowance (e.g. visible/over2px:0.5)`);
+  const [, region, metric, allow] = m as unknown as [string, string, string, string];
+  if (!(REGION_IDS as readonly string[]).includes(region)) {
+    throw new UsageError(option, `unknown region "${region}" in "${text}" (regions: ${REGION_IDS.join(', ')})`);
+  }
+  if (!isKnownMetric(metric, thresholds)) {
+    throw new UsageError(option, `unknown metric "${metric}" in "${text}" (metrics: ${metricNames(thresholds).join(', ')})`);
+  }
+  const allowance = Number(allow);
+  if (!Number.isFinite(allowance) || allowance < 0) throw new UsageError(option, `allowance in "${text}" must be a number >= 0`);
+  return { region: region as RegionId, metric, allowance, source: option };
+}
+
+/**
+ * A gate file: JSON `{ "gates": [ "visible/over2px:0.5", { "region": "known", "metric": "epe", "allowance": 0.05 } ] }`
+ * or a bare array of the same entries.
+ */
+export function parseGateFile(text: string, file: string, thresholds: readonly number[]): Gate[] {
+  let json: unknown;
+  try {
+    json = JSON.parse(text);
+  } catch {
+    throw new UsageError('--gate-file', `${file} is not valid JSON`);
+  }
+  const list = Array.isArray(json) ? json : (json as { gates?: unknown })?.gates;
+  if (!Array.isArray(list)) throw new UsageError('--gate-file', `${file} must hold an array of gates or { "gates": [...] }`);
+  return list.map((g, i) => {
+    const where = `--gate-file ${file} [${i}]`;
+    if (typeof g === 'string') return parseGate(g, thresholds, where);
+    if (g && typeof g === 'object') {
+      const o = g as { region?: unknown; metric?: unknown; allowance?: unknown };
+      return parseGate(`${String(o.region)}/${String(o.metric)}:${String(o.allowance)}`, thresholds, where);
+    }
+    throw new UsageError(where, 'a gate is a string region/metric:allowance or an object { region, metric, allowance }');
+  });
+}
+
+export interface GateOutcome {
+  gate: Gate;
+  label: string;
+  pass: boolean;
+  worsening: number | null;
+  /** Upper bound of the worsening's interval (strict mode judges this). */
+  upper: number | null;
+  reason: string;
+}
+
+/**
+ * Judge gates on every compared configuration.
+ * Default: fail when the mean worsening exceeds the allowance.
+ * Strict (non-inferiority): fail unless the interval's upper bound of the worsening is
+ * within the allowance. No figure on any common pair -> fail (nothing shows it holds).
+ */
+export function evaluateGates(c: Comparison, gates: readonly Gate[], strict: boolean): GateOutcome[] {
+  const out: GateOutcome[] = [];
+  for (const cfg of c.configs) {
+    for (const g of gates) {
+      const d = cfg.deltas.find((x) => x.region === g.region && x.metric === g.metric)!;
+      const w = d.worsening;
+      const upper = d.worseningCi ? d.worseningCi.hi : null;
+      let pass: boolean;
+      let reason: string;
+      if (w === null) {
+        pass = false;
+        reason = 'no pair has this figure in both runs';
+      } else if (strict) {
+        if (upper === null) {
+          pass = false;
+          reason = `no interval (${d.units} ${d.unit}${d.units === 1 ? '' : 's'}), non-inferiority cannot be shown`;
+        } else {
+          pass = upper <= g.allowance;
+          reason = `upper bound of worsening ${fmt(upper)} ${pass ? '<=' : '>'} allowance ${fmt(g.allowance)}`;
+        }
+      } else {
+        pass = w <= g.allowance;
+        reason = `worsening ${fmt(w)} ${pass ? '<=' : '>'} allowance ${fmt(g.allowance)}`;
+      }
+      out.push({ gate: g, label: cfg.label, pass, worsening: w, upper, reason });
+    }
+  }
+  return out;
+}
+
+function fmt(x: number): string {
+  return Number.isInteger(x) ? String(x) : x.toPrecision(4).replace(/\.?0+$/, '');
+}
