@@ -115,7 +115,7 @@ export async function loadModulePlugin(
     const why = e instanceof Error ? e.message : String(e);
     throw new UsageError(option, `cannot load module ${quote(shownAs)}: ${why.split('\n')[0]}`);
   }
-  const candidate = isPluginLike(mod.default) ? mod.default : isPluginLike(mod.matcher) ? mod.matcher : mod;
+  const candidate = [mod.default, mod.matcher, mod].find(isPluginLike) ?? mod.default ?? mod.matcher ?? mod;
   const plugin = checkPluginExport(candidate, `module ${quote(shownAs)}`, option);
   const h = createHash('sha256');
   h.update(`module\0${plugin.id}\0${plugin.version}\0`);

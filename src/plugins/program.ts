@@ -83,7 +83,26 @@ function expandArg(arg: string, vars: Readonly<Record<string, string>>, params: 
   });
 }
 
-/** sha256 over the definition and the bytes of every command argument that names an existing file. */
+const fileHashCache = new Map<string, string>();
+
+/** sha256 of a file's bytes, cached by path, size and modification time. */
+function fileHash(p: string, size: number, mtimeMs: number): string {
+  const key = `${p}\0${size}\0${mtimeMs}`;
+  let h = fileHashCache.get(key);
+  if (!h) {
+    h = createHash('sha256').update(readFileSync(p)).digest('hex');
+    fileHashCache.set(key, h);
+  }
+  return h;
+}
+
+/** Files above this size (e.g. an interpreter binary) count by name only in the code hash. */
+const HASHED_FILE_MAX_BYTES = 16 * 1024 * 1024;
+
+/**
+ * sha256 over the definition and the bytes of every command argument that names an
+ * existing file of at most 16 MB (the script; small program binaries).
+ */
 export function programCodeHash(defIn: ProgramMatcherDef | ProgramMatcherDefInput, baseDir: string): string {
   const def = parseProgramMatcherDef(defIn);
   const cwd = resolve(baseDir, def.cwd ?? '.');
@@ -108,10 +127,7 @@ export function programCodeHash(defIn: ProgramMatcherDef | ProgramMatcherDefInpu
     const p = isAbsolute(arg) ? arg : resolve(cwd, arg);
     try {
       const st = statSync(p);
-      if (st.isFile() && st.size <= 256 * 1024 * 1024) {
-        h.update(`\0file:${arg}\0`);
-        h.update(readFileSync(p));
-      }
+      if (st.isFile() && st.size <= HASHED_FILE_MAX_BYTES) h.update(`\0file:${arg}\0${fileHash(p, st.size, st.mtimeMs)}`);
     } catch {
       // not a file: only the text counts
     }
