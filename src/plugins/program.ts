@@ -162,18 +162,22 @@ async function runPerPair(
         if (err) rejectP(err);
         else resolveP();
       };
-      const onAbort = () => {
-        void killGroup(child.pid, graceMs).then(() => finish(new AbortedError()));
+      // Once a timeout or an abort starts killing, the exit it causes is not the outcome.
+      let killing = false;
+      const killThen = (make: () => Error) => {
+        if (killing || settled) return;
+        killing = true;
+        void killGroup(child.pid, graceMs).then(() => finish(make()));
       };
-      const timer = setTimeout(() => {
-        void killGroup(child.pid, graceMs).then(() =>
-          finish(withTail(`${label}: timed out after ${timeoutMs} ms (process group killed)`, tail)),
-        );
-      }, timeoutMs);
+      const onAbort = () => killThen(() => new AbortedError());
+      const timer = setTimeout(
+        () => killThen(() => withTail(`${label}: timed out after ${timeoutMs} ms (process group killed)`, tail)),
+        timeoutMs,
+      );
       signal.addEventListener('abort', onAbort, { once: true });
       child.once('error', (e) => finish(withTail(`${label}: cannot start ${JSON.stringify(argv[0])}: ${e.message}`, tail)));
       child.once('exit', (code, sig) => {
-        if (settled) return;
+        if (settled || killing) return;
         // Leftover children of the program die with it.
         signalGroup(child.pid, 'SIGKILL');
         // Let the pipes drain so the stderr tail is complete (bounded wait).
