@@ -25,5 +25,6 @@ function cellText(v: CsvCell): string {
 export function csvText(header: string[], rows: CsvCell[][]): string {
   const records: string[][] = [header.map(cellText)];
   for (const r of rows) records.push(r.map(cellText));
-  return stringify(records, { record_delimiter: 'unix' });
+  // A lone CR in a field is quoted too (csv-stringify quotes only delimiters, quotes and LF).
+  return stringify(records, { record_delimiter: 'unix', quoted_match: /\r/ });
 }

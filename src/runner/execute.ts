@@ -28,7 +28,8 @@ export function oneLineError(e: unknown): string {
 export function validateOutput(out: unknown, width: number, height: number): Float32Array {
   const arr = out instanceof Float32Array ? out : (out as { disparity?: unknown } | null)?.disparity;
   if (!(arr instanceof Float32Array)) {
-    const what = arr === undefined ? typeof out : Object.prototype.toString.call(arr).slice(8, -1);
+    const v = arr === undefined ? out : arr;
+    const what = v === null || v === undefined ? String(v) : typeof v === 'object' ? Object.prototype.toString.call(v).slice(8, -1) : typeof v;
     throw new Error(`returned ${what}, expected a Float32Array of ${width}x${height} values`);
   }
   if (arr.length !== width * height) {

@@ -7,6 +7,7 @@ import { join } from 'node:path';
 import type { JobResult } from '../core/score.js';
 import { writeFileAtomic } from '../io/files.js';
 import { pairsCsvText } from '../report/pairs-csv.js';
+import { summaryCsvText } from '../report/summary-csv.js';
 import { aggregate, latestJobs, type SummaryRow } from '../stats/aggregate.js';
 import { optionalModule } from './optional.js';
 
@@ -14,7 +15,6 @@ export const PAIRS_CSV = 'pairs.csv';
 export const SUMMARY_CSV = 'summary.csv';
 export const REPORT_HTML = 'index.html';
 
-type SummaryCsvModule = { summaryCsvText(rows: SummaryRow[], thresholds: number[]): string };
 type HtmlModule = { writeHtmlReport(runDir: string): Promise<unknown> };
 
 export interface WrittenOutputs {
@@ -22,7 +22,7 @@ export interface WrittenOutputs {
   summary: SummaryRow[];
 }
 
-/** Write pairs.csv, summary.csv and index.html (where those writers exist in this build). */
+/** Write pairs.csv, summary.csv and index.html (when the HTML writer is part of this build). */
 export async function writeRunOutputs(runDir: string, results: readonly JobResult[], thresholds: readonly number[]): Promise<WrittenOutputs> {
   const jobs = latestJobs(results);
   const th = [...thresholds];
@@ -30,11 +30,8 @@ export async function writeRunOutputs(runDir: string, results: readonly JobResul
   await writeFileAtomic(join(runDir, PAIRS_CSV), pairsCsvText(jobs, th));
   files.push(PAIRS_CSV);
   const summary = aggregate(jobs, { thresholds: th });
-  const sc = await optionalModule<SummaryCsvModule>('../report/summary-csv.js');
-  if (sc) {
-    await writeFileAtomic(join(runDir, SUMMARY_CSV), sc.summaryCsvText(summary, th));
-    files.push(SUMMARY_CSV);
-  }
+  await writeFileAtomic(join(runDir, SUMMARY_CSV), summaryCsvText(summary, th));
+  files.push(SUMMARY_CSV);
   const html = await optionalModule<HtmlModule>('../report/html.js');
   if (html) {
     await html.writeHtmlReport(runDir);

@@ -17,7 +17,7 @@ import { writeFileAtomic } from '../io/files.js';
 import { runJob } from './execute.js';
 import { groupByPair } from './jobs.js';
 import { appendResult, JOURNAL_FILE, readJournal, startJournal } from './journal.js';
-import { optionalModule } from './optional.js';
+import { writePreview } from '../report/preview.js';
 import { writeRunOutputs, type WrittenOutputs } from './outputs.js';
 import type { RunConfig, RunPlan } from './plan.js';
 import { RUN_INFO_FILE, runInfo, type RunInfo } from './provenance.js';
@@ -38,10 +38,6 @@ export interface RunOutcome {
   aborted: boolean;
 }
 
-type PreviewModule = {
-  writePreview(runDir: string, label: string, dataset: string, pair: string, disparity: { width: number; height: number; data: Float32Array }): Promise<unknown> | unknown;
-};
-
 /** Regions of a loaded pair: the manifest's occlusion mask, or one derived from the truth. */
 export function pairRegions(pair: LoadedPair, plan: Pick<RunPlan, 'regions'>): RegionMap {
   // buildRegions derives the occlusion from the truth when the mask is undefined.
@@ -60,7 +56,6 @@ export async function executeRun(plan: RunPlan, hooks: RunHooks = {}): Promise<R
   const info = runInfo(plan, new Date());
   await writeInfo(plan.runDir, info);
   startJournal(journal);
-  const preview = await optionalModule<PreviewModule>('../report/preview.js');
 
   const manifests = new Map<string, Manifest>(plan.datasets.map((d) => [d.manifest.name, d.manifest]));
   const configs = new Map<string, RunConfig>(plan.configs.map((c) => [c.label, c]));
@@ -84,8 +79,8 @@ export async function executeRun(plan: RunPlan, hooks: RunHooks = {}): Promise<R
         if (result.status === 'ok') info.jobs.ok++;
         else info.jobs.failed++;
         done++;
-        if (preview && disparity) {
-          await preview.writePreview(plan.runDir, cfg.label, pair.dataset, pair.id, { width: pair.width, height: pair.height, data: disparity });
+        if (disparity) {
+          await writePreview(plan.runDir, cfg.label, pair.dataset, pair.id, { width: pair.width, height: pair.height, data: disparity });
         }
         hooks.onJob?.(result, done, total);
       }
