@@ -12,6 +12,7 @@ import type { DecodeOptions } from './limits.js';
 import { decodeNpy } from './npy.js';
 import { decodePfm } from './pfm.js';
 import { decodePng, decodePngDisparity } from './png.js';
+import { quote } from './text.js';
 
 /** A binary mask: 1 where the file's pixel is non-zero, else 0. */
 export interface MaskImage {
@@ -64,7 +65,7 @@ export async function readFileBytes(path: string): Promise<Buffer> {
 /** Reads a PNG image at full bit depth. */
 export async function readImageFile(path: string, opts?: DecodeOptions): Promise<RasterImage> {
   const ext = extname(path).toLowerCase();
-  if (ext !== '.png') throw new InputError(path, `images must be PNG files (got "${ext || 'no extension'}")`);
+  if (ext !== '.png') throw new InputError(path, `images must be PNG files (got ${ext ? quote(ext) : 'no extension'})`);
   const buf = await readFileBytes(path);
   return decodePng(buf, path, opts);
 }
@@ -82,7 +83,7 @@ export async function readDisparityFile(path: string, opts?: DisparityReadOption
     const enc = opts.pngInvalid !== undefined ? { scale: opts.pngScale, invalid: opts.pngInvalid } : { scale: opts.pngScale };
     return decodePngDisparity(await readFileBytes(path), path, enc, dec);
   }
-  throw new InputError(path, `disparity files must be .pfm, .png or .npy (got "${ext || 'no extension'}")`);
+  throw new InputError(path, `disparity files must be .pfm, .png or .npy (got ${ext ? quote(ext) : 'no extension'})`);
 }
 
 /**
@@ -91,7 +92,7 @@ export async function readDisparityFile(path: string, opts?: DisparityReadOption
  */
 export async function readMaskFile(path: string, opts?: DecodeOptions): Promise<MaskImage> {
   const ext = extname(path).toLowerCase();
-  if (ext !== '.png') throw new InputError(path, `masks must be PNG files (got "${ext || 'no extension'}")`);
+  if (ext !== '.png') throw new InputError(path, `masks must be PNG files (got ${ext ? quote(ext) : 'no extension'})`);
   const img = decodePng(await readFileBytes(path), path, opts);
   return maskFromRaster(img);
 }

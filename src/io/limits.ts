@@ -29,14 +29,12 @@ export function pixelLimit(opts?: DecodeOptions): number {
  * not positive integers, or more pixels than the limit.
  */
 export function checkImageSize(name: string, width: number, height: number, maxPixels: number): void {
-  if (!Number.isSafeInteger(width) || !Number.isSafeInteger(height) || width < 1 || height < 1) {
+  if (!Number.isInteger(width) || !Number.isInteger(height) || width < 1 || height < 1) {
     throw new InputError(name, `image size ${String(width)}x${String(height)} is not a positive size`);
   }
-  if (width * height > maxPixels) {
-    throw new InputError(
-      name,
-      `image size ${width}x${height} (${width * height} pixels) is above the limit of ${maxPixels} pixels`,
-    );
+  const pixels = width * height;
+  if (!Number.isSafeInteger(pixels) || pixels > maxPixels) {
+    throw new InputError(name, `image size ${width}x${height} (${pixels} pixels) is above the limit of ${maxPixels} pixels`);
   }
 }
 

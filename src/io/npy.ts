@@ -20,6 +20,7 @@ import { InputError } from '../core/errors.js';
 import type { FloatImage } from '../core/image.js';
 import { checkImageSize, HOST_LITTLE_ENDIAN, nonFiniteToNaN, pixelLimit, type DecodeOptions } from './limits.js';
 import { assertFloatImage } from './pfm.js';
+import { quote } from './text.js';
 
 const MAGIC = [0x93, 0x4e, 0x55, 0x4d, 0x50, 0x59]; // \x93NUMPY
 
@@ -119,7 +120,7 @@ class HeaderParser {
       if (c !== "'" && c !== '"') this.fail('expected a key string');
       const key = this.str();
       this.expect(':');
-      if (out.has(key)) this.fail(`key "${key}" repeated`);
+      if (out.has(key)) this.fail(`key ${quote(key)} repeated`);
       out.set(key, this.value());
       if (out.size > 16) this.fail('too many keys');
       this.ws();
@@ -146,7 +147,7 @@ function parseDtype(descr: string, name: string): Dtype {
   if (!m || !ACCEPTED.has(m[2]! + m[3]!) || (m[1] === '|') !== (m[3] === '1')) {
     throw new InputError(
       name,
-      `.npy dtype "${descr}" is not supported (use float32 or float64: <f4 >f4 <f8 >f8; 8-32 bit integers and float16 are also read)`,
+      `.npy dtype ${quote(descr)} is not supported (use float32 or float64: <f4 >f4 <f8 >f8; 8-32 bit integers and float16 are also read)`,
     );
   }
   return { kind: m[2] as Dtype['kind'], size: Number(m[3]) as Dtype['size'], little: m[1] !== '>' };

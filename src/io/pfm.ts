@@ -20,6 +20,7 @@
  */
 import { InputError } from '../core/errors.js';
 import type { FloatImage } from '../core/image.js';
+import { quote } from './text.js';
 import { checkImageSize, HOST_LITTLE_ENDIAN, nonFiniteToNaN, pixelLimit, type DecodeOptions } from './limits.js';
 
 const MAX_TOKEN = 40;
@@ -52,7 +53,7 @@ function skipSpace(buf: Uint8Array, pos: number, name: string, what: string): nu
 }
 
 function parseDim(text: string, name: string, what: string): number {
-  if (!INT_RE.test(text)) throw new InputError(name, `PFM header: ${what} "${text}" is not a positive integer`);
+  if (!INT_RE.test(text)) throw new InputError(name, `PFM header: ${what} ${quote(text)} is not a positive integer`);
   const v = Number(text);
   if (v === 0) throw new InputError(name, `PFM header: ${what} is zero`);
   return v;
@@ -75,10 +76,10 @@ export function decodePfm(buf: Uint8Array, name: string, opts?: DecodeOptions): 
   const s = readToken(buf, pos, name, 'scale');
   const width = parseDim(w.text, name, 'width');
   const height = parseDim(h.text, name, 'height');
-  if (!NUM_RE.test(s.text)) throw new InputError(name, `PFM header: scale "${s.text}" is not a number`);
+  if (!NUM_RE.test(s.text)) throw new InputError(name, `PFM header: scale ${quote(s.text)} is not a number`);
   const scale = Number(s.text);
   if (!Number.isFinite(scale) || scale === 0) {
-    throw new InputError(name, `PFM header: scale ${s.text} gives no byte order (must be non-zero)`);
+    throw new InputError(name, `PFM header: scale ${quote(s.text)} gives no byte order (must be non-zero)`);
   }
   checkImageSize(name, width, height, maxPixels);
   const little = scale < 0;

@@ -165,7 +165,7 @@ function inflatedSize(h: PngHeader): number {
 
 function oneLine(e: unknown): string {
   const m = e instanceof Error ? e.message : String(e);
-  return m.replace(/\s+/g, ' ').slice(0, 200);
+  return m.replace(/\s+/g, ' ').replace(/[^\x20-\x7e]/g, '?').slice(0, 200);
 }
 
 /** Reads only the IHDR of a PNG (size and format), with the same structural checks on the first chunk. */
