@@ -49,7 +49,7 @@ export async function buildParser(argv: string[]): Promise<Argv> {
     .help()
     .alias('h', 'help')
     .strict()
-    .demandCommand(1, 'give a command (see parallax --help)')
+    .demandCommand(1, 'give a command')
     .wrap(Math.min(110, process.stdout.columns || 100))
     .fail((msg, err) => {
       if (err) throw err;

@@ -77,7 +77,7 @@ export const synthCommand: CommandModule<object, SynthArgs> = {
 };
 
 export const datasetCommand: CommandModule = {
-  command: 'dataset <action>',
+  command: 'dataset',
   describe: 'Dataset tools: check, synth',
   builder: (y) => y.command(checkCommand).command(synthCommand).demandCommand(1, 'give an action: check or synth'),
   handler: () => undefined,

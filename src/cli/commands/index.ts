@@ -11,4 +11,6 @@ export const COMMAND_MODULES: readonly (() => Promise<Record<string, unknown>>)[
   () => import('./demo.js'),
   () => import('./matchers.js'),
   () => import('./compare.js'),
+  () => import('./matchers.js'),
+  () => import('./compare.js'),
 ];
