@@ -70,6 +70,16 @@ export interface SgmLayout {
   readonly rows: readonly [number, number];
   /** Two groups of 4 minima buffers each (W uint16). */
   readonly mins: readonly [number, number];
+  /** Census words per pixel of bitsL / bitsR. */
+  readonly words: number;
+  /** Left and right luminance (W * H float32), census strings (W * H * words uint32),
+   *  left and right disparity (W * H float32): used by the WebAssembly pipeline. */
+  readonly imgL: number;
+  readonly imgR: number;
+  readonly bitsL: number;
+  readonly bitsR: number;
+  readonly dispL: number;
+  readonly dispR: number;
   /** Total bytes. */
   readonly bytes: number;
 }
@@ -81,7 +91,7 @@ function align16(n: number): number {
   return (n + 15) & ~15;
 }
 
-export function sgmLayout(width: number, height: number, levels: number): SgmLayout {
+export function sgmLayout(width: number, height: number, levels: number, words = 2): SgmLayout {
   const stride = paddedLevels(levels);
   const vol = width * height * stride * 2;
   const row = width * stride * 2;
@@ -100,7 +110,27 @@ export function sgmLayout(width: number, height: number, levels: number): SgmLay
   at = align16(at + 4 * width * 2);
   const minsB = at;
   at = align16(at + 4 * width * 2);
+  const n = width * height;
+  const imgL = at;
+  at = align16(at + n * 4);
+  const imgR = at;
+  at = align16(at + n * 4);
+  const bitsL = at;
+  at = align16(at + n * words * 4);
+  const bitsR = at;
+  at = align16(at + n * words * 4);
+  const dispL = at;
+  at = align16(at + n * 4);
+  const dispR = at;
+  at = align16(at + n * 4);
   return {
+    words,
+    imgL,
+    imgR,
+    bitsL,
+    bitsR,
+    dispL,
+    dispR,
     width,
     height,
     levels,

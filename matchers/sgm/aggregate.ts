@@ -34,6 +34,25 @@ type PathRowFn = (
   accumulate: number,
 ) => void;
 
+/** The other exports of the WebAssembly module (see matchers/sgm/assembly/sgm.ts). */
+export interface SgmWasmStages {
+  censusRow(img: number, bits: number, width: number, height: number, y: number, winW: number, winH: number, words: number): void;
+  censusCostRow(
+    bitsL: number,
+    bitsR: number,
+    costRow: number,
+    width: number,
+    y: number,
+    levels: number,
+    stride: number,
+    minD: number,
+    words: number,
+    outside: number,
+  ): void;
+  wtaRow(sumRow: number, out: number, width: number, levels: number, stride: number, minD: number, subpix: number, uniq: number): void;
+  wtaRightRow(sumRow: number, out: number, width: number, levels: number, stride: number, minD: number, subpix: number): void;
+}
+
 export interface SgmArena {
   readonly layout: SgmLayout;
   /** The kernel actually used. */
@@ -47,6 +66,8 @@ export interface SgmArena {
   readonly sum: Uint16Array;
   readonly gray: Uint8Array;
   readonly pathRow: PathRowFn;
+  /** The wasm module's other stages, when kernel = 'wasm'. */
+  readonly stages: SgmWasmStages | null;
 }
 
 export interface SgmAggregateOptions {
@@ -71,11 +92,13 @@ export async function createArena(
   height: number,
   levels: number,
   choice: KernelChoice,
+  words = 2,
 ): Promise<SgmArena> {
-  const layout = sgmLayout(width, height, levels);
+  const layout = sgmLayout(width, height, levels, words);
   let kernel: 'ts' | 'wasm' = 'ts';
   let buffer: ArrayBuffer | null = null;
   let wasmFn: PathRowFn | null = null;
+  let stages: SgmWasmStages | null = null;
   if (choice !== 'ts') {
     const mod = await loadWasmModule('sgm');
     if (!mod) {
@@ -87,6 +110,7 @@ export async function createArena(
       const inst = await instantiateKernel(mod, layout.bytes);
       buffer = inst.memory.buffer;
       wasmFn = inst.exports.pathRow as PathRowFn;
+      stages = inst.exports as unknown as SgmWasmStages;
       kernel = 'wasm';
     }
   }
@@ -101,7 +125,7 @@ export async function createArena(
     wasmFn ??
     ((c, s, g, gp, w, l, st, step, pr, cr, pm, cm, hp, dm, p1, p2, k, acc) =>
       pathRowTs(u16, u8, c, s, g, gp, w, l, st, step, pr, cr, pm, cm, hp, dm, p1, p2, k, acc));
-  return { layout, kernel, buffer, u8, u16, cost, sum, gray, pathRow };
+  return { layout, kernel, buffer, u8, u16, cost, sum, gray, pathRow, stages };
 }
 
 function checkAbort(signal: AbortSignal | undefined): void {

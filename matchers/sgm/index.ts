@@ -14,7 +14,7 @@
 import { AbortedError, UsageError } from '../../src/core/errors.js';
 import type { MatcherPlugin, MatchInput, ParamSpec, ParamValues } from '../../src/plugins/contract.js';
 import { btExtremes, btPair } from '../kernels/bt.js';
-import { censusTransform } from '../kernels/census.js';
+import { censusTransform, censusWords } from '../kernels/census.js';
 import { applyPostprocess, POSTPROCESS_PARAMS, readPostprocess } from '../kernels/postprocess.js';
 import { checkInputSizes, disparityLevels } from '../kernels/range.js';
 import { SGM_MAX_COST, SGM_MAX_P2 } from '../kernels/sgm.js';
@@ -213,14 +213,7 @@ function validLevels(x: number, width: number, minD: number, levels: number): [n
 function compactSum(arena: SgmArena, minD: number): Uint16Array {
   const { width, height, levels, stride } = arena.layout;
   const sum = arena.sum;
-  for (let x = 0; x < width; x++) {
-    const [lo, hi] = validLevels(x, width, minD, levels);
-    if (lo === 0 && hi === levels - 1) continue;
-    for (let y = 0; y < height; y++) {
-      const base = (y * width + x) * stride;
-      for (let k = 0; k < levels; k++) if (k < lo || k > hi) sum[base + k] = EXCLUDED_U16;
-    }
-  }
+  markExcluded(arena, minD);
   if (stride === levels) return sum;
   const out = new Uint16Array(width * height * levels);
   for (let p = 0, n = width * height; p < n; p++) {
@@ -230,6 +223,23 @@ function compactSum(arena: SgmArena, minD: number): Uint16Array {
   }
   return out;
 }
+
+/** Sets S of candidates with x - d outside the right image to EXCLUDED_U16. */
+function markExcluded(arena: SgmArena, minD: number): void {
+  const { width, height, levels, stride } = arena.layout;
+  const sum = arena.sum;
+  for (let x = 0; x < width; x++) {
+    const [lo, hi] = validLevels(x, width, minD, levels);
+    if (lo === 0 && hi === levels - 1) continue;
+    for (let y = 0; y < height; y++) {
+      const base = (y * width + x) * stride;
+      for (let k = 0; k < levels; k++) if (k < lo || k > hi) sum[base + k] = EXCLUDED_U16;
+    }
+  }
+}
+
+/** Wall time (ms) of each stage of the last sgm match in this thread, for the benchmark. */
+export const sgmStageTimes: Record<string, number> = {};
 
 /** Parameters with every missing one set to its default (no validation). */
 function withSgmDefaults(params: ParamValues): ParamValues {
@@ -246,15 +256,71 @@ export async function sgmMatch(input: MatchInput, params: ParamValues, signal?: 
   const full = withSgmDefaults(params);
   const o = readSgmOptions(full);
   const post = readPostprocess(full);
-  const arena = await createArena(width, height, levels, o.kernel);
+  let t = performance.now();
+  const lap = (name: string): void => {
+    const now = performance.now();
+    sgmStageTimes[name] = now - t;
+    t = now;
+  };
+  const words = o.cost === 'census' ? censusWords(o.censusW, o.censusH) : 1;
+  const arena = await createArena(width, height, levels, o.kernel, words);
   fillGray(input.left, arena.gray);
+  lap('setup');
+  const st = arena.stages;
+  if (st) {
+    // WebAssembly pipeline: census, costs, aggregation, WTA in the module's memory
+    const L = arena.layout;
+    new Float32Array(arena.buffer, L.imgL, width * height).set(input.left);
+    new Float32Array(arena.buffer, L.imgR, width * height).set(input.right);
+    const rowVol = width * L.stride * 2;
+    if (o.cost === 'census') {
+      for (let y = 0; y < height; y++) {
+        if (signal?.aborted) checkAbortThrow();
+        st.censusRow(L.imgL, L.bitsL, width, height, y, o.censusW, o.censusH, words);
+        st.censusRow(L.imgR, L.bitsR, width, height, y, o.censusW, o.censusH, words);
+      }
+      const outside = Math.min(o.censusW * o.censusH - 1, SGM_MAX_COST);
+      for (let y = 0; y < height; y++) {
+        if (signal?.aborted) checkAbortThrow();
+        st.censusCostRow(L.bitsL, L.bitsR, L.cost + y * rowVol, width, y, levels, L.stride, minDisparity, words, outside);
+      }
+    } else fillBtCost(arena, input, minDisparity, signal);
+    lap('cost');
+    aggregatePaths(arena, { p1: o.p1, p2: o.p2, edgeK: o.p2edge, paths: o.paths }, signal);
+    lap('aggregate');
+    markExcluded(arena, minDisparity);
+    for (let y = 0; y < height; y++) {
+      if (signal?.aborted) checkAbortThrow();
+      st.wtaRow(L.sum + y * rowVol, L.dispL + y * width * 4, width, levels, L.stride, minDisparity, post.subpix ? 1 : 0, post.uniq);
+    }
+    const dispL = new Float32Array(arena.buffer, L.dispL, width * height).slice();
+    lap('wta');
+    let dispR: Float32Array | null = null;
+    if (post.lr > 0) {
+      for (let y = 0; y < height; y++) {
+        if (signal?.aborted) checkAbortThrow();
+        st.wtaRightRow(L.sum + y * rowVol, L.dispR + y * width * 4, width, levels, L.stride, minDisparity, post.subpix ? 1 : 0);
+      }
+      dispR = new Float32Array(arena.buffer, L.dispR, width * height).slice();
+    }
+    lap('wtaRight');
+    applyPostprocess(dispL, dispR, width, height, post);
+    lap('post');
+    return dispL;
+  }
+  // TypeScript pipeline
   if (o.cost === 'census') fillCensusCost(arena, input, minDisparity, o, signal);
   else fillBtCost(arena, input, minDisparity, signal);
+  lap('cost');
   aggregatePaths(arena, { p1: o.p1, p2: o.p2, edgeK: o.p2edge, paths: o.paths }, signal);
+  lap('aggregate');
   const vol = compactSum(arena, minDisparity);
   const dispL = wta(vol, width, height, levels, minDisparity, { subpix: post.subpix, uniqueness: post.uniq });
+  lap('wta');
   const dispR = post.lr > 0 ? wtaRight(vol, width, height, levels, minDisparity, { subpix: post.subpix }) : null;
+  lap('wtaRight');
   applyPostprocess(dispL, dispR, width, height, post);
+  lap('post');
   return dispL;
 }
 

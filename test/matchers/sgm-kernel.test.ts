@@ -8,6 +8,9 @@ import { describe, expect, it } from 'vitest';
 import { aggregatePaths, createArena, type SgmArena } from '../../matchers/sgm/aggregate.js';
 import { pathRowTs, SGM_MAX_COST, SGM_MAX_P2, SGM_PAD, sgmLayout } from '../../matchers/kernels/sgm.js';
 import { wasmPath } from '../../matchers/sgm/wasm.js';
+import { sgmMatch } from '../../matchers/sgm/index.js';
+import { censusTransform } from '../../matchers/kernels/census.js';
+import { EXCLUDED_U16, wta, wtaRight } from '../../matchers/kernels/wta.js';
 
 /** mulberry32, a small seeded PRNG (common practice for reproducible test data). */
 function prng(seed: number): () => number {
@@ -269,5 +272,64 @@ describe('SGM arena layout', () => {
     }
     expect(L.bytes).toBeGreaterThanOrEqual(spans[spans.length - 1][0] + spans[spans.length - 1][1]);
     void pathRowTs;
+  });
+});
+
+describe('SGM WebAssembly pipeline stages', () => {
+  it('census rows equal censusTransform (kernels/census.ts) bit for bit', async () => {
+    const r = prng(4242);
+    for (const [cw, ch] of [[9, 7], [5, 5], [11, 11], [3, 1]] as const) {
+      const W = 23, H = 17;
+      // integer and fractional luminance with ties (equal values give 0 bits)
+      const img = Float32Array.from({ length: W * H }, () => (r() < 0.3 ? 100 : Math.floor(r() * 64) / 4));
+      const want = censusTransform(img, W, H, cw, ch);
+      const arena = await createArena(W, H, 8, 'wasm', want.words);
+      const L = arena.layout;
+      new Float32Array(arena.buffer, L.imgL, W * H).set(img);
+      for (let y = 0; y < H; y++) arena.stages!.censusRow(L.imgL, L.bitsL, W, H, y, cw, ch, want.words);
+      const got = new Uint32Array(arena.buffer, L.bitsL, W * H * want.words);
+      expect(Array.from(got), `${cw}x${ch}`).toEqual(Array.from(want.bits));
+    }
+  });
+
+  it('WTA rows equal wta() and wtaRight() (kernels/wta.ts) on random sums', async () => {
+    const r = prng(777);
+    for (let t = 0; t < 6; t++) {
+      const W = 5 + Math.floor(r() * 30), H = 3, D = 1 + Math.floor(r() * 30), minD = Math.floor(r() * 9) - 4;
+      const arena = await createArena(W, H, D, 'wasm');
+      const L = arena.layout;
+      const compact = new Uint16Array(W * H * D);
+      for (let p = 0; p < W * H; p++)
+        for (let k = 0; k < D; k++) {
+          // few distinct values so ties and the uniqueness margin both occur
+          const v = r() < 0.05 ? EXCLUDED_U16 : 100 + Math.floor(r() * 12) * 7;
+          compact[p * D + k] = v;
+          arena.sum[p * L.stride + k] = v;
+        }
+      const uniq = t % 2 === 0 ? 0 : 10;
+      const rowVol = W * L.stride * 2;
+      for (let y = 0; y < H; y++) {
+        arena.stages!.wtaRow(L.sum + y * rowVol, L.dispL + y * W * 4, W, D, L.stride, minD, 1, uniq);
+        arena.stages!.wtaRightRow(L.sum + y * rowVol, L.dispR + y * W * 4, W, D, L.stride, minD, 1);
+      }
+      const wantL = wta(compact, W, H, D, minD, { subpix: true, uniqueness: uniq });
+      const wantR = wtaRight(compact, W, H, D, minD, { subpix: true });
+      expect(Array.from(new Float32Array(arena.buffer, L.dispL, W * H))).toEqual(Array.from(wantL));
+      expect(Array.from(new Float32Array(arena.buffer, L.dispR, W * H))).toEqual(Array.from(wantR));
+    }
+  });
+
+  it('the whole sgm match gives the same map with the wasm and the TypeScript kernels', async () => {
+    const r = prng(31337);
+    const W = 61, H = 29;
+    const left = Float32Array.from({ length: W * H }, () => r() * 255);
+    const right = new Float32Array(W * H);
+    for (let y = 0; y < H; y++) for (let x = 0; x < W; x++) right[y * W + x] = left[y * W + Math.min(W - 1, x + 5)] + (r() - 0.5) * 20;
+    for (const params of [{}, { cost: 'bt', paths: '4', p2edge: 20 }, { censusW: 5, censusH: 5, uniq: 0, lr: 0 }]) {
+      const input = { width: W, height: H, left, right, minDisparity: -3, maxDisparity: 13 };
+      const a = await sgmMatch(input, { ...params, kernel: 'wasm' });
+      const b = await sgmMatch(input, { ...params, kernel: 'ts' });
+      expect(Array.from(a), JSON.stringify(params)).toEqual(Array.from(b));
+    }
   });
 });

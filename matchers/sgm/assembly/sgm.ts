@@ -147,3 +147,180 @@ export function pathRow(
     }
   }
 }
+
+// ---------------------------------------------------------------------------
+// Census transform of one image row (same bit order, comparison and borders as
+// censusTransform in matchers/kernels/census.ts: neighbours in row-major order
+// skipping the centre, bit k of word k/32 set when neighbour < centre, coordinates
+// clamped at the borders). img: f32 per pixel; bits: `words` u32 per pixel.
+export function censusRow(img: usize, bits: usize, width: i32, height: i32, y: i32, winW: i32, winH: i32, words: i32): void {
+  const rw = (winW - 1) >> 1;
+  const rh = (winH - 1) >> 1;
+  const xmax = width - 1;
+  const ymax = height - 1;
+  for (let x = 0; x < width; x++) {
+    const c = load<f32>(img + (<usize>(y * width + x) << 2));
+    const base = bits + (<usize>((y * width + x) * words) << 2);
+    let word: u32 = 0;
+    let bit: i32 = 0;
+    let w: i32 = 0;
+    for (let dy = -rh; dy <= rh; dy++) {
+      let yy = y + dy;
+      yy = yy < 0 ? 0 : yy > ymax ? ymax : yy;
+      const rowPtr = img + (<usize>(yy * width) << 2);
+      for (let dx = -rw; dx <= rw; dx++) {
+        if (dx == 0 && dy == 0) continue;
+        let xx = x + dx;
+        xx = xx < 0 ? 0 : xx > xmax ? xmax : xx;
+        const v = load<f32>(rowPtr + (<usize>xx << 2));
+        if (v < c) word |= (<u32>1) << <u32>bit;
+        bit++;
+        if (bit == 32) {
+          store<u32>(base + (<usize>w << 2), word);
+          w++;
+          word = 0;
+          bit = 0;
+        }
+      }
+    }
+    if (bit > 0) store<u32>(base + (<usize>w << 2), word);
+  }
+}
+
+// Census Hamming costs of one row into the cost volume (stride levels per pixel),
+// clamped to 255; candidates with x - d outside the row get `outside`.
+export function censusCostRow(
+  bitsL: usize,
+  bitsR: usize,
+  costRow: usize,
+  width: i32,
+  y: i32,
+  levels: i32,
+  stride: i32,
+  minD: i32,
+  words: i32,
+  outside: i32,
+): void {
+  const row = y * width;
+  for (let x = 0; x < width; x++) {
+    const base = costRow + (<usize>(x * stride) << 1);
+    let kLo = x - width + 1 - minD;
+    if (kLo < 0) kLo = 0;
+    let kHi = x - minD;
+    if (kHi > levels - 1) kHi = levels - 1;
+    for (let k = 0; k < levels; k++) {
+      if (k < kLo || k > kHi) store<u16>(base + (<usize>k << 1), <u16>outside);
+    }
+    if (words == 2) {
+      const pl = bitsL + (<usize>((row + x) * 2) << 2);
+      const a0 = load<u32>(pl);
+      const a1 = load<u32>(pl + 4);
+      for (let k = kLo; k <= kHi; k++) {
+        const pr = bitsR + (<usize>((row + x - minD - k) * 2) << 2);
+        let h = <i32>popcnt<u32>(a0 ^ load<u32>(pr)) + <i32>popcnt<u32>(a1 ^ load<u32>(pr + 4));
+        if (h > 255) h = 255;
+        store<u16>(base + (<usize>k << 1), <u16>h);
+      }
+    } else {
+      const pl = bitsL + (<usize>((row + x) * words) << 2);
+      for (let k = kLo; k <= kHi; k++) {
+        const pr = bitsR + (<usize>((row + x - minD - k) * words) << 2);
+        let h: i32 = 0;
+        for (let j = 0; j < words; j++) h += <i32>popcnt<u32>(load<u32>(pl + (<usize>j << 2)) ^ load<u32>(pr + (<usize>j << 2)));
+        if (h > 255) h = 255;
+        store<u16>(base + (<usize>k << 1), <u16>h);
+      }
+    }
+  }
+}
+
+// Parabola vertex offset, as subpixelParabola in matchers/kernels/postprocess.ts.
+@inline
+function parabola(cm: f64, c0: f64, cp: f64): f64 {
+  const den = cm - 2 * c0 + cp;
+  if (!(den > 0)) return 0;
+  const off = (cm - cp) / (2 * den);
+  return off > 0.5 ? 0.5 : off < -0.5 ? -0.5 : off;
+}
+
+const EXCLUDED: i32 = 65535;
+
+// Left-view winner-take-all of one row over S (stride levels per pixel), as wta() in
+// matchers/kernels/wta.ts: lowest level wins ties, EXCLUDED entries never win,
+// uniqueness (uniq > 0): NaN when a level more than 1 away costs <= best * (1 + uniq/100),
+// subpixel parabola at interior winners whose neighbours are not excluded.
+export function wtaRow(sumRow: usize, out: usize, width: i32, levels: i32, stride: i32, minD: i32, subpix: i32, uniq: f64): void {
+  const factor = 1 + uniq / 100;
+  for (let x = 0; x < width; x++) {
+    const base = sumRow + (<usize>(x * stride) << 1);
+    let best: i32 = EXCLUDED;
+    let bl: i32 = -1;
+    for (let l = 0; l < levels; l++) {
+      const c = <i32>load<u16>(base + (<usize>l << 1));
+      if (c < best) {
+        best = c;
+        bl = l;
+      }
+    }
+    const o = out + (<usize>x << 2);
+    if (bl < 0) {
+      store<f32>(o, NaN);
+      continue;
+    }
+    if (uniq > 0) {
+      const lim = <f64>best * factor;
+      let fail = false;
+      for (let l = 0; l < levels; l++) {
+        if (l >= bl - 1 && l <= bl + 1) continue;
+        const c = <i32>load<u16>(base + (<usize>l << 1));
+        if (c != EXCLUDED && <f64>c <= lim) {
+          fail = true;
+          break;
+        }
+      }
+      if (fail) {
+        store<f32>(o, NaN);
+        continue;
+      }
+    }
+    let d = <f64>(minD + bl);
+    if (subpix != 0 && bl > 0 && bl < levels - 1) {
+      const cm = <i32>load<u16>(base + (<usize>(bl - 1) << 1));
+      const cp = <i32>load<u16>(base + (<usize>(bl + 1) << 1));
+      if (cm != EXCLUDED && cp != EXCLUDED) d += parabola(<f64>cm, <f64>best, <f64>cp);
+    }
+    store<f32>(o, <f32>d);
+  }
+}
+
+// Right-view winner-take-all of one row from the left S, as wtaRight() in wta.ts:
+// dR(xr) = argmin_d S(xr + d, d) over 0 <= xr + d < width.
+export function wtaRightRow(sumRow: usize, out: usize, width: i32, levels: i32, stride: i32, minD: i32, subpix: i32): void {
+  for (let xr = 0; xr < width; xr++) {
+    let best: i32 = EXCLUDED;
+    let bl: i32 = -1;
+    for (let l = 0; l < levels; l++) {
+      const x = xr + minD + l;
+      if (x < 0) continue;
+      if (x >= width) break;
+      const c = <i32>load<u16>(sumRow + (<usize>(x * stride + l) << 1));
+      if (c < best) {
+        best = c;
+        bl = l;
+      }
+    }
+    const o = out + (<usize>xr << 2);
+    if (bl < 0) {
+      store<f32>(o, NaN);
+      continue;
+    }
+    let d = <f64>(minD + bl);
+    const x = xr + minD + bl;
+    if (subpix != 0 && bl > 0 && bl < levels - 1 && x > 0 && x < width - 1) {
+      const cm = <i32>load<u16>(sumRow + (<usize>((x - 1) * stride + bl - 1) << 1));
+      const cp = <i32>load<u16>(sumRow + (<usize>((x + 1) * stride + bl + 1) << 1));
+      if (cm != EXCLUDED && cp != EXCLUDED) d += parabola(<f64>cm, <f64>best, <f64>cp);
+    }
+    store<f32>(o, <f32>d);
+  }
+}
