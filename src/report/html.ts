@@ -1,0 +1,356 @@
+/**
+ * The HTML report of a run folder: one self-contained index.html (inline CSS, script
+ * and SVG; images as data: URIs of small PNGs), which opens offline from file:// and
+ * makes no network request (a Content-Security-Policy forbids every fetch but data:
+ * images, and allows only the report's own script by its hash).
+ *
+ * Everything taken from the run (labels, parameters, pair ids, error text) is
+ * HTML-escaped where the server writes it, and set with textContent in the browser;
+ * the embedded JSON escapes < > & U+2028 U+2029.
+ */
+import { createHash } from 'node:crypto';
+import { join } from 'node:path';
+import type { FloatImage, RasterImage } from '../core/image.js';
+import { toLuminance } from '../core/image.js';
+import type { JobResult, RegionFigures } from '../core/score.js';
+import { DEFAULT_REGION_PARAMS, REGION_IDS, type RegionParams } from '../core/regions.js';
+import { encodePng } from '../io/png.js';
+import { readDisparityFile, readImageFile, readMaskFile, writeFileAtomic } from '../io/files.js';
+import { loadManifest, type Manifest } from '../dataset/manifest.js';
+import { truthReadOptions } from '../dataset/load.js';
+import { buildRegions } from '../dataset/regions.js';
+import { aggregate, cmp, latestJobs, sortJobs, type SummaryRow } from '../stats/aggregate.js';
+import { DEFAULT_LEVEL } from '../stats/bootstrap.js';
+import { metricDirection, metricNames, metricUnit, pooledSpec } from '../stats/metrics.js';
+import { thresholdName } from '../metrics/types.js';
+import { colorHex } from './colormaps.js';
+import { REPORT_CSS } from './html-style.js';
+import { REPORT_JS } from './html-client.js';
+import { readPreview, previewFactor } from './preview.js';
+import { readRunFolder, type RunInfoView } from './run-folder.js';
+import { downscaleNanMean } from './preview.js';
+import {
+  ERROR_CLIP_PX,
+  REGION_COLORS,
+  colorizeDisparity,
+  colorizeError,
+  colorizeRegions,
+  downscaleRaster,
+  finiteRange,
+  regionsToThumb,
+  thumbFactor,
+  toThumbGrid,
+} from './thumbs.js';
+
+export const REPORT_FILE = 'index.html';
+
+export const SAFETY_CAUTION =
+  'Accuracy on a dataset does not make a perception system safe; defer to the applicable functional-safety standards and qualified assessment.';
+
+/** Escape text for HTML element content and quoted attribute values. */
+export function escapeHtml(s: unknown): string {
+  return String(s).replace(/&/g, '&amp;').replace(/</g, '&lt;').replace(/>/g, '&gt;').replace(/"/g, '&quot;').replace(/'/g, '&#39;');
+}
+
+/** JSON that is safe inside a <script> element: < > & and the JS line separators escaped. */
+export function scriptSafeJson(value: unknown): string {
+  return JSON.stringify(value)
+    .replace(/</g, '\\u003c')
+    .replace(/>/g, '\\u003e')
+    .replace(/&/g, '\\u0026')
+    .replace(/\u2028/g, '\\u2028')
+    .replace(/\u2029/g, '\\u2029');
+}
+
+function pngUri(img: RasterImage): string {
+  return `data:image/png;base64,${encodePng(img).toString('base64')}`;
+}
+
+interface PairJobView {
+  label: string;
+  status: 'ok' | 'failed';
+  error: string | null;
+  time_ms: number | null;
+  disp: string | null;
+  err: string | null;
+  fig: Record<'known' | 'visible', { coverage: number | null; epe: number | null; rates: (number | null)[] }>;
+}
+
+interface PairView {
+  dataset: string;
+  pair: string;
+  scale: [number, number] | null;
+  left: string | null;
+  truth: string | null;
+  regions: string | null;
+  note: string | null;
+  jobs: PairJobView[];
+}
+
+function figView(f: RegionFigures, rateMap: number[]): { coverage: number | null; epe: number | null; rates: (number | null)[] } {
+  return { coverage: f.coverage, epe: f.epe, rates: rateMap.map((k) => (k >= 0 ? (f.rates[k] ?? null) : null)) };
+}
+
+/** Region parameters of a run (defaults for anything run.json lacks). */
+function regionParamsOf(info: RunInfoView): RegionParams {
+  const p: RegionParams = { ...DEFAULT_REGION_PARAMS };
+  for (const k of Object.keys(p) as (keyof RegionParams)[]) {
+    const v = info.config.regions[k];
+    if (typeof v === 'number') p[k] = v;
+  }
+  return p;
+}
+
+async function pairView(runDir: string, info: RunInfoView, manifest: Manifest | null, manifestProblem: string | null, dataset: string, pair: string, jobs: JobResult[], thresholds: number[]): Promise<PairView> {
+  const view: PairView = { dataset, pair, scale: null, left: null, truth: null, regions: null, note: null, jobs: [] };
+  let truthPreviewGrid: { img: FloatImage; factor: number; width: number; height: number; f: number } | null = null;
+  const entry = manifest?.pairs.find((p) => p.id === pair);
+  if (!manifest) view.note = `Dataset images not shown: ${manifestProblem ?? 'manifest not found'}`;
+  else if (!entry) view.note = `Pair ${pair} is no longer in the dataset manifest.`;
+  else {
+    try {
+      const left = await readImageFile(entry.left);
+      const truth = await readDisparityFile(entry.truth, truthReadOptions(manifest));
+      const W = truth.width;
+      const H = truth.height;
+      const f = thumbFactor(W);
+      const pf = previewFactor(W);
+      view.left = pngUri(downscaleRaster(left, f));
+      const tPrev = downscaleNanMean(truth, pf);
+      const tThumb = toThumbGrid(tPrev, pf, W, H, f);
+      const [lo, hi] = finiteRange(tThumb.data);
+      if (Number.isFinite(lo)) view.scale = [lo, hi];
+      view.truth = pngUri(colorizeDisparity(tThumb, lo, hi));
+      let occ: Uint8Array | undefined;
+      if (entry.occlusion) {
+        const m = await readMaskFile(entry.occlusion);
+        occ = m.data;
+      }
+      const regions = buildRegions(truth.data, toLuminance(left), occ, W, H, regionParamsOf(info));
+      const rThumb = regionsToThumb(regions.bits, W, H, f);
+      view.regions = pngUri(colorizeRegions(rThumb, tThumb.width, tThumb.height));
+      truthPreviewGrid = { img: tThumb, factor: pf, width: W, height: H, f };
+    } catch (e) {
+      view.note = `Dataset images not shown: ${(e as Error).message}`;
+    }
+  }
+  for (const j of jobs) {
+    const rateMap = thresholds.map((t) => j.thresholds.indexOf(t));
+    const jv: PairJobView = {
+      label: j.matcher,
+      status: j.status,
+      error: j.error ?? null,
+      time_ms: j.time_ms,
+      disp: null,
+      err: null,
+      fig: { known: figView(j.scores.known.figures, rateMap), visible: figView(j.scores.visible.figures, rateMap) },
+    };
+    if (truthPreviewGrid && j.status === 'ok') {
+      const prev = await readPreview(runDir, j.matcher, dataset, pair).catch(() => null);
+      if (prev) {
+        const g = truthPreviewGrid;
+        const pThumb = toThumbGrid(prev, g.factor, g.width, g.height, g.f);
+        if (pThumb.width === g.img.width && pThumb.height === g.img.height) {
+          jv.disp = pngUri(colorizeDisparity(pThumb, view.scale ? view.scale[0] : 0, view.scale ? view.scale[1] : 1));
+          jv.err = pngUri(colorizeError(pThumb, g.img, ERROR_CLIP_PX));
+        }
+      }
+    }
+    view.jobs.push(jv);
+  }
+  return view;
+}
+
+function summaryView(rows: SummaryRow[], thresholds: number[]): Record<string, Record<string, unknown[]>> {
+  const out: Record<string, Record<string, unknown[]>> = {};
+  const names = metricNames(thresholds);
+  for (const r of rows) {
+    if (r.tag !== null) continue;
+    const ds = (out[r.dataset] ??= {});
+    const list = (ds[r.region] ??= []);
+    const m: Record<string, (number | null)[]> = {};
+    for (const n of names) {
+      const s = r.metrics[n]!;
+      m[n] = [s.mean, s.meanCi?.lo ?? null, s.meanCi?.hi ?? null, s.n, s.pooled, s.pooledCi?.lo ?? null, s.pooledCi?.hi ?? null];
+    }
+    list.push({ label: r.matcher, n_pairs: r.n_pairs, n_units: r.n_units, unit: r.unit, n_failed: r.n_failed, m });
+  }
+  return out;
+}
+
+function provenanceHtml(info: RunInfoView, jobs: JobResult[]): string {
+  const dl: [string, string][] = [];
+  const add = (k: string, v: unknown): void => {
+    if (v !== undefined && v !== null && v !== '') dl.push([k, escapeHtml(v)]);
+  };
+  add('run', info.name);
+  add('status', info.status);
+  add('started', info.started);
+  add('ended', info.ended);
+  add('tool', info.tool ? `${info.tool.name ?? 'parallax'} ${info.tool.version ?? ''}` : undefined);
+  add('tool commit', info.tool?.git ? `${info.tool.git.commit}${info.tool.git.dirty ? ' (with uncommitted changes)' : ''}` : 'unknown');
+  add('node', info.environment?.node);
+  add('cpu', info.environment?.cpu ? `${info.environment.cpu.model ?? ''} × ${info.environment.cpu.count ?? '?'}` : undefined);
+  add('os', info.environment?.os ? `${info.environment.os.platform ?? ''} ${info.environment.os.release ?? ''} ${info.environment.os.arch ?? ''}` : undefined);
+  add('memory', info.environment?.memoryMb !== undefined ? `${info.environment.memoryMb} MiB` : undefined);
+  add('thresholds', info.config.thresholds.map((t) => `${t} px`).join(', '));
+  add('region parameters', Object.entries(info.config.regions).map(([k, v]) => `${k}=${v}`).join(', '));
+  add('jobs', info.jobs ? `${info.jobs.total} (${info.jobs.ok} ok, ${info.jobs.failed} failed)` : `${jobs.length}`);
+  for (const [k, v] of Object.entries(info.notes ?? {})) add(k, v);
+  const ds = info.config.datasets
+    .map((d) => `<tr><td>${escapeHtml(d.name)}</td><td><code>${escapeHtml(d.hash)}</code></td><td>${escapeHtml(d.pairs ?? '')}</td><td>${escapeHtml(d.manifest ?? d.path ?? '')}</td></tr>`)
+    .join('');
+  const ms = (info.config.matchers ?? [])
+    .map(
+      (m) =>
+        `<tr><td>${escapeHtml(m.label)}</td><td>${escapeHtml(m.matcherId ?? '')}</td><td>${escapeHtml(m.kind ?? '')}</td><td>${escapeHtml(m.version ?? '')}</td><td><code>${escapeHtml(JSON.stringify(m.params ?? {}))}</code></td><td><code>${escapeHtml((m.codeHash ?? '').slice(0, 16))}</code></td></tr>`,
+    )
+    .join('');
+  return `<dl>${dl.map(([k, v]) => `<dt>${escapeHtml(k)}</dt><dd>${v}</dd>`).join('')}</dl>
+<h3>Datasets</h3><table><thead><tr><th>name</th><th>hash</th><th>pairs</th><th>manifest</th></tr></thead><tbody>${ds}</tbody></table>
+<h3>Configurations</h3><table><thead><tr><th>label</th><th>matcher</th><th>kind</th><th>version</th><th>parameters</th><th>code hash</th></tr></thead><tbody>${ms}</tbody></table>`;
+}
+
+export interface HtmlReportOptions {
+  /** Bootstrap resamples for the intervals (default that of bootstrap.ts). */
+  resamples?: number;
+}
+
+/** Build the report HTML of a run folder (does not write it). */
+export async function buildHtmlReport(runDir: string, opts: HtmlReportOptions = {}): Promise<string> {
+  const run = await readRunFolder(runDir);
+  const info = run.info;
+  const thresholds = [...info.config.thresholds];
+  const jobs = sortJobs(latestJobs(run.results));
+  const rows = aggregate(jobs, { thresholds, ci: opts.resamples ? { resamples: opts.resamples } : {} });
+  const labels = [...new Set(jobs.map((j) => j.matcher))].sort(cmp);
+  const datasets = [...new Set(jobs.map((j) => j.dataset))].sort(cmp);
+
+  // Manifests of the datasets, for left images, truth and region masks.
+  const manifests = new Map<string, { m: Manifest | null; problem: string | null }>();
+  for (const d of info.config.datasets) {
+    const where = d.manifest ?? d.path;
+    if (!where) {
+      manifests.set(d.name, { m: null, problem: 'run.json names no manifest' });
+      continue;
+    }
+    try {
+      manifests.set(d.name, { m: loadManifest(where), problem: null });
+    } catch (e) {
+      manifests.set(d.name, { m: null, problem: (e as Error).message });
+    }
+  }
+  const byPair = new Map<string, JobResult[]>();
+  for (const j of jobs) {
+    const k = `${j.dataset}\u0000${j.pair}`;
+    let l = byPair.get(k);
+    if (!l) byPair.set(k, (l = []));
+    l.push(j);
+  }
+  const pairKeys = [...byPair.keys()].sort(cmp);
+  const pairs: PairView[] = [];
+  for (const k of pairKeys) {
+    const list = byPair.get(k)!;
+    const { dataset, pair } = list[0]!;
+    const man = manifests.get(dataset) ?? { m: null, problem: `dataset ${dataset} is not in run.json` };
+    pairs.push(await pairView(runDir, info, man.m, man.problem, dataset, pair, list, thresholds));
+  }
+
+  const names = metricNames(thresholds);
+  const data = {
+    thresholds,
+    rateNames: thresholds.map(thresholdName),
+    regions: [...REGION_IDS],
+    metrics: names,
+    units: Object.fromEntries(names.map((n) => [n, metricUnit(n)])),
+    better: Object.fromEntries(names.map((n) => [n, metricDirection(n) === 'higher-better' ? 'higher' : metricDirection(n) === 'abs-lower-better' ? 'abs' : 'lower'])),
+    pooled: Object.fromEntries(names.map((n) => [n, pooledSpec(n, thresholds) !== null])),
+    level: DEFAULT_LEVEL,
+    datasets,
+    configs: labels,
+    summary: summaryView(rows, thresholds),
+    viridis: Array.from({ length: 17 }, (_, i) => colorHex('viridis', i / 16)),
+    magma: Array.from({ length: 17 }, (_, i) => colorHex('magma', i / 16)),
+    errorClip: ERROR_CLIP_PX,
+    pairs,
+  };
+
+  const scriptHash = createHash('sha256').update(REPORT_JS, 'utf8').digest('base64');
+  const csp = `default-src 'none'; img-src data:; style-src 'unsafe-inline'; script-src 'sha256-${scriptHash}'; base-uri 'none'; form-action 'none'`;
+  const title = info.name ? `parallax report: ${info.name}` : 'parallax report';
+  const failedJobs = jobs.filter((j) => j.status === 'failed').length;
+  const pairList = pairs
+    .map((p, i) => {
+      const failed = p.jobs.filter((j) => j.status === 'failed').length;
+      const st = failed ? `${failed} of ${p.jobs.length} failed` : `${p.jobs.length} configuration${p.jobs.length === 1 ? '' : 's'}`;
+      return `<details class="pair" data-index="${i}"><summary>${escapeHtml(p.dataset)} / ${escapeHtml(p.pair)}<span class="st">${escapeHtml(st)}</span></summary><div class="pairbody"></div></details>`;
+    })
+    .join('\n');
+  const opt = (v: string, label = v): string => `<option value="${escapeHtml(v)}">${escapeHtml(label)}</option>`;
+  const swatch = (rgb: readonly number[], label: string): string => `<span><span class="swatch" style="background:rgb(${rgb.join(',')})"></span>${escapeHtml(label)}</span>`;
+
+  return `<!doctype html>
+<html lang="en">
+<head>
+<meta charset="utf-8">
+<meta http-equiv="Content-Security-Policy" content="${escapeHtml(csp)}">
+<meta name="viewport" content="width=device-width, initial-scale=1">
+<meta name="referrer" content="no-referrer">
+<title>${escapeHtml(title)}</title>
+<style>${REPORT_CSS}</style>
+</head>
+<body>
+<header class="top">
+<h1>${escapeHtml(title)}</h1>
+<div class="sub">${escapeHtml(labels.length)} configuration${labels.length === 1 ? '' : 's'} · ${escapeHtml(pairs.length)} pair${pairs.length === 1 ? '' : 's'} · ${escapeHtml(datasets.join(', '))} · ${escapeHtml(jobs.length)} jobs${failedJobs ? `, ${escapeHtml(failedJobs)} failed` : ''}${info.started ? ` · started ${escapeHtml(info.started)}` : ''}</div>
+</header>
+<main>
+<section class="caution" aria-label="safety caution"><strong>Caution.</strong> ${escapeHtml(SAFETY_CAUTION)}</section>
+<section aria-labelledby="h-rank">
+<h2 id="h-rank">Ranking</h2>
+<div class="controls">
+<label>dataset<select id="sel-dataset">${datasets.map((d) => opt(d)).join('')}</select></label>
+<label>region<select id="sel-region">${REGION_IDS.map((r) => opt(r)).join('')}</select></label>
+<label>statistic<select id="sel-stat">${opt('mean', 'mean over pairs')}${opt('pooled', 'pooled over pixels')}</select></label>
+</div>
+<p class="ci">Each cell: the figure, below it its ${Math.round(DEFAULT_LEVEL * 100)} % BCa bootstrap interval (pairs, or the manifest's groups, resampled) and n = pairs the figure rests on. Rates and coverage in %; sorted by known/epe, lowest first, until you pick a column. Failed jobs count as all-invalid.</p>
+<div class="rank"><table id="rank-table"><thead></thead><tbody></tbody></table></div>
+<noscript><p>The ranking, charts and pair views need JavaScript; summary.csv holds the same figures.</p></noscript>
+</section>
+<section aria-labelledby="h-charts">
+<h2 id="h-charts">Accuracy, cost and thresholds</h2>
+<div class="charts">
+<figure><div id="scatter"></div><figcaption id="scatter-caption"></figcaption></figure>
+<figure><div id="curves"></div><figcaption>Bad-pixel rate (% of the region's pixels with |error| above the threshold or no prediction) against the threshold, one line per configuration.</figcaption></figure>
+</div>
+</section>
+<section aria-labelledby="h-pairs">
+<h2 id="h-pairs">Pairs</h2>
+<div class="legend-row" id="error-legend">
+<span>|error| colours, linear, clipped at ${escapeHtml(ERROR_CLIP_PX)} px (brightest = ${escapeHtml(ERROR_CLIP_PX)} px or more)</span>
+<span><span class="swatch hatch"></span>no prediction</span>
+<span><span class="swatch" style="background:rgb(150,158,166)"></span>no truth</span>
+</div>
+<div class="legend-row">regions: ${swatch(REGION_COLORS.visible, 'visible')} ${swatch(REGION_COLORS.occluded, 'occluded')} ${swatch(REGION_COLORS.flat, 'flat')} ${swatch(REGION_COLORS.jump, 'jump')} ${swatch(REGION_COLORS.unknown, 'no truth')}</div>
+<p class="ci">Thumbnails are downscaled (block means of valid pixels); the error images compare the downscaled output with the downscaled truth. The figures beside them are the exact per-pair scores.</p>
+${pairList}
+</section>
+<section class="prov" aria-labelledby="h-prov">
+<h2 id="h-prov">Provenance</h2>
+${provenanceHtml(info, jobs)}
+</section>
+</main>
+<script type="application/json" id="plx-data">${scriptSafeJson(data)}</script>
+<script>${REPORT_JS}</script>
+</body>
+</html>
+`;
+}
+
+/** Write `<runDir>/index.html` and return its path. */
+export async function writeHtmlReport(runDir: string, opts: HtmlReportOptions = {}): Promise<string> {
+  const html = await buildHtmlReport(runDir, opts);
+  const path = join(runDir, REPORT_FILE);
+  await writeFileAtomic(path, html);
+  return path;
+}

@@ -1,0 +1,62 @@
+import { mkdtemp, readFile, rm } from 'node:fs/promises';
+import { tmpdir } from 'node:os';
+import { join } from 'node:path';
+import { afterAll, beforeAll, describe, expect, it } from 'vitest';
+import { escapeHtml, scriptSafeJson, writeHtmlReport } from '../../src/report/html.js';
+import { buildSyntheticRun } from './synthetic-run.js';
+
+const EVIL_LABEL = '<img src=x onerror=alert(1)>';
+const EVIL_SCRIPT = 'sgm</script><script>alert(2)</script>';
+const EVIL_PAIR = '<img src=x onerror=alert(3)>';
+
+let root = '';
+let html = '';
+beforeAll(async () => {
+  root = await mkdtemp(join(tmpdir(), 'plx-html-'));
+  const { runDir } = await buildSyntheticRun({
+    root,
+    pairs: 3,
+    width: 96,
+    height: 64,
+    configs: [
+      { label: EVIL_LABEL, noise: 0.4, holes: 0.05, timeMs: 20 },
+      { label: EVIL_SCRIPT, noise: 1.5, holes: 0.1, timeMs: 5, failEvery: 3, error: '</script><b onmouseover=alert(4)>boom' },
+    ],
+    resultPairIds: ['p000', EVIL_PAIR, 'p002\u2028x'],
+  });
+  html = await readFile(await writeHtmlReport(runDir, { resamples: 200 }), 'utf8');
+});
+afterAll(async () => {
+  await rm(root, { recursive: true, force: true });
+});
+
+describe('HTML report (text checks)', () => {
+  it('escapes HTML special characters (OWASP XSS prevention rule 1)', () => {
+    expect(escapeHtml(`<a href="x" onclick='y'>&</a>`)).toBe('&lt;a href=&quot;x&quot; onclick=&#39;y&#39;&gt;&amp;&lt;/a&gt;');
+  });
+
+  it('embeds JSON that cannot close the script element (OWASP: JSON in script blocks)', () => {
+    const s = scriptSafeJson({ a: '</script><!--', b: '\u2028\u2029&' });
+    expect(s).not.toMatch(/[<>&\u2028\u2029]/);
+    // Still the same value when parsed (JSON escapes are standard, RFC 8259).
+    expect(JSON.parse(s)).toEqual({ a: '</script><!--', b: '\u2028\u2029&' });
+  });
+
+  it('never contains the hostile names raw, only escaped', () => {
+    expect(html).not.toContain(EVIL_LABEL);
+    expect(html).not.toContain(EVIL_PAIR);
+    expect(html).not.toContain('<script>alert');
+    expect(html).not.toContain('<b onmouseover');
+    // Exactly our two script elements close.
+    expect(html.split('</script>').length - 1).toBe(2);
+    // The pair list (server-rendered) shows the escaped pair id.
+    expect(html).toContain('&lt;img src=x onerror=alert(3)&gt;');
+  });
+
+  it('is self-contained: no external URL in src/href, a CSP that forbids fetching, the safety caution', () => {
+    expect(html).not.toMatch(/\s(src|href)=["']?(https?:|\/\/)/i);
+    expect(html).not.toMatch(/url\((?!#)/i);
+    expect(html).toMatch(/Content-Security-Policy" content="default-src &#39;none&#39;; img-src data:/);
+    expect(html).toContain('Accuracy on a dataset does not make a perception system safe; defer to the applicable functional-safety standards and qualified assessment.');
+  });
+});
