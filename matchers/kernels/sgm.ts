@@ -233,35 +233,43 @@ export function pathRowTs(
           if (p2e < p1) p2e = p1;
         }
         const t2 = mp + p2e;
-        for (let k = 0; k < stride; k++) {
-          if (k >= levels) {
-            u16[out + k] = SGM_PAD;
-            continue;
-          }
-          let m = u16[prev + k];
-          const lm = k > 0 ? u16[prev + k - 1] : SGM_PAD;
-          const lp = k + 1 < stride ? u16[prev + k + 1] : SGM_PAD;
-          let nb = lm < lp ? lm : lp;
-          nb = nb + p1;
+        // real levels; padded levels of `prev` hold SGM_PAD, so L(d+1) past the last
+        // real level reads as SGM_PAD, as in the SIMD kernel
+        let before = SGM_PAD; // L'(d - 1)
+        let here = u16[prev]; // L'(d)
+        const cb = cBase;
+        for (let k = 0; k < levels; k++) {
+          const after = k + 1 < levels ? u16[prev + k + 1] : SGM_PAD; // L'(d + 1)
+          let nb = (before < after ? before : after) + p1;
           if (nb > SGM_PAD) nb = SGM_PAD; // saturating add, as i16x8.add_sat_u
-          if (nb < m) m = nb;
+          let m = here < nb ? here : nb;
           if (t2 < m) m = t2;
-          const v = (u16[cBase + k] + m - mp) & 0xffff;
+          const v = (u16[cb + k] + m - mp) & 0xffff;
           u16[out + k] = v;
           if (v < mn) mn = v;
+          before = here;
+          here = after;
         }
+        for (let k = levels; k < stride; k++) u16[out + k] = SGM_PAD;
       }
       u16[cm0 + dir * width + x] = mn;
     }
-    // S at this pixel
+    // S at this pixel (wrapping 16-bit adds, as i16x8.add; real levels never wrap)
     const sBase = s0 + x * stride;
-    for (let k = 0; k < stride; k++) {
-      let acc = accumulate !== 0 ? u16[sBase + k] : 0;
-      for (let dir = 0; dir < 4; dir++) {
-        if ((dirMask & (1 << dir)) === 0) continue;
-        acc += u16[cr0 + dir * rowLen + x * stride + k];
+    const lBase = cr0 + x * stride;
+    const keep = accumulate !== 0 ? 0xffff : 0;
+    if (dirMask === 15) {
+      const o1 = lBase + rowLen;
+      const o2 = o1 + rowLen;
+      const o3 = o2 + rowLen;
+      for (let k = 0; k < stride; k++)
+        u16[sBase + k] = (u16[sBase + k] & keep) + u16[lBase + k] + u16[o1 + k] + u16[o2 + k] + u16[o3 + k];
+    } else {
+      for (let k = 0; k < stride; k++) {
+        let acc = u16[sBase + k] & keep;
+        for (let dir = 0; dir < 4; dir++) if ((dirMask & (1 << dir)) !== 0) acc += u16[lBase + dir * rowLen + k];
+        u16[sBase + k] = acc;
       }
-      u16[sBase + k] = acc & 0xffff;
     }
   }
 }
