@@ -1,0 +1,123 @@
+/**
+ * End to end: the built CLI (bin/parallax.js) on small datasets written here.
+ * `npm test` builds dist/ first; when running vitest alone, run `npm run build` before.
+ */
+import { mkdtempSync, readFileSync, rmSync, writeFileSync, mkdirSync, existsSync } from 'node:fs';
+import { tmpdir } from 'node:os';
+import { join } from 'node:path';
+import { afterAll, beforeAll, describe, expect, it } from 'vitest';
+import { encodeNpy } from '../../src/io/npy.js';
+import { encodePfm } from '../../src/io/pfm.js';
+import { encodePngDisparity } from '../../src/io/png.js';
+import { writeDataset, type WrittenDataset } from '../dataset/fixture.js';
+import { builtCliExists, expectOneLineError, parallax, readCsv } from './helpers.js';
+
+const root = mkdtempSync(join(tmpdir(), 'parallax-e2e-'));
+afterAll(() => rmSync(root, { recursive: true, force: true }));
+
+const PAIRS_COLUMNS =
+  'matcher,dataset,pair,region,status,pixels,coverage,epe,rmse,bias,over0.25px,over0.5px,over1px,over2px,over3px,q50,q75,q90,q99,depth_relerr,depth_rmse_m,time_ms,peak_mb';
+
+beforeAll(() => {
+  if (!builtCliExists()) throw new Error('dist/ is missing: run `npm run build` (npm test does it)');
+});
+
+describe('parallax demo (on a small dataset)', () => {
+  it('writes run.json, results.jsonl (one line per pair x configuration), pairs.csv, summary.csv', () => {
+    const ds = writeDataset(join(root, 'demo-data'), { ids: ['crates-01', 'crates-02'] });
+    const out = join(root, 'demo-report');
+    const r = parallax(['demo', '--data', ds.dir, '--out', out], root);
+    expect(r.stderr).toBe('');
+    expect(r.code).toBe(0);
+    expect(r.stdout).toMatch(/Demo done in [\d.]+ s/);
+    const info = JSON.parse(readFileSync(join(out, 'run.json'), 'utf8'));
+    expect(info.status).toBe('complete');
+    const n = info.config.matchers.length;
+    expect(n).toBeGreaterThanOrEqual(3); // block, census, sgm at least are built in
+    const lines = readFileSync(join(out, 'results.jsonl'), 'utf8').trim().split('\n');
+    expect(lines).toHaveLength(2 * n);
+    const pairs = readFileSync(join(out, 'pairs.csv'), 'utf8');
+    expect(pairs.split('\n')[0]).toBe(PAIRS_COLUMNS);
+    // one row per configuration, pair and region (5 regions, DESIGN.md)
+    expect(readCsv(pairs).rows).toHaveLength(2 * n * 5);
+    expect(existsSync(join(out, 'summary.csv'))).toBe(true);
+    const summary = readCsv(readFileSync(join(out, 'summary.csv'), 'utf8'));
+    expect(summary.rows.length).toBe(n * 5);
+  });
+});
+
+describe('scoring predictions made elsewhere', () => {
+  let ds: WrittenDataset;
+  let preds: string;
+  beforeAll(() => {
+    ds = writeDataset(join(root, 'pred-data'), { ids: ['bay-a', 'bay-b', 'bay-c', 'bay-d'] });
+    preds = join(root, 'preds');
+    mkdirSync(preds, { recursive: true });
+    const [a, b, c] = ds.pairs;
+    // bay-a: PFM, exactly the truth. bay-b: NPY float32, truth + 0.75 everywhere.
+    // bay-c: 16-bit PNG with scale 32, exactly the truth. bay-d: no file.
+    writeFileSync(join(preds, 'bay-a.pfm'), encodePfm({ width: 64, height: 48, data: a!.truth }));
+    writeFileSync(join(preds, 'bay-b.npy'), encodeNpy({ width: 64, height: 48, data: b!.truth.map((d) => d + 0.75) }));
+    writeFileSync(join(preds, 'bay-c.png'), encodePngDisparity({ width: 64, height: 48, data: c!.truth }, { scale: 32, bitDepth: 16 }));
+  });
+
+  it('scores each file, records the missing one as failed, and the run goes on', () => {
+    const out = join(root, 'pred-report');
+    const r = parallax(['run', '-d', ds.dir, '--predictions', preds, '--label', 'net-v2', '--prediction-scale', '32', '--out', out, '--quiet'], root);
+    expect(r.code).toBe(0);
+    const rows = readCsv(readFileSync(join(out, 'pairs.csv'), 'utf8')).rows.filter((x) => x.region === 'known');
+    const by = new Map(rows.map((x) => [x.pair, x]));
+    for (const id of ['bay-a', 'bay-c']) {
+      // A perfect prediction: |e| = 0 everywhere, so epe = 0 and over0.25px = 0 % (DESIGN.md definitions).
+      expect(by.get(id)!.status).toBe('ok');
+      expect(Number(by.get(id)!.epe)).toBe(0);
+      expect(Number(by.get(id)!['over0.25px'])).toBe(0);
+      expect(Number(by.get(id)!.coverage)).toBe(100);
+    }
+    // bay-b: e = +0.75 at every pixel (hand-worked): epe 0.75, bias 0.75, rmse 0.75,
+    // over0.5px = 100 %, over1px = 0 %.
+    const b = by.get('bay-b')!;
+    expect(Number(b.epe)).toBeCloseTo(0.75, 6);
+    expect(Number(b.bias)).toBeCloseTo(0.75, 6);
+    expect(Number(b.rmse)).toBeCloseTo(0.75, 6);
+    expect(Number(b['over0.5px'])).toBe(100);
+    expect(Number(b['over1px'])).toBe(0);
+    // bay-d: missing file -> failed, all-invalid: coverage 0, every rate 100 %, epe empty.
+    const d = by.get('bay-d')!;
+    expect(d.status).toBe('failed');
+    expect(Number(d.coverage)).toBe(0);
+    expect(Number(d['over0.25px'])).toBe(100);
+    expect(d.epe).toBe('');
+    expect(rows.every((x) => x.matcher === 'net-v2')).toBe(true);
+    const results = readFileSync(join(out, 'results.jsonl'), 'utf8').trim().split('\n').map((l) => JSON.parse(l));
+    expect(results.every((x: { matcherId: string }) => x.matcherId === 'predictions')).toBe(true);
+  });
+
+  it('PNG predictions without --prediction-scale are a usage error naming the option', () => {
+    const r = parallax(['run', '-d', ds.dir, '--predictions', preds, '--label', 'net-v2', '--out', join(root, 'x')], root);
+    expect(r.code).toBe(2);
+    expect(expectOneLineError(r)).toMatch(/^parallax: --prediction-scale: /);
+  });
+
+  it('--json prints the summary as JSON on stdout', () => {
+    const r = parallax(['run', '-d', ds.dir, '--predictions', preds, '--label', 'net', '--prediction-scale', '32', '--out', join(root, 'j'), '--json'], root);
+    expect(r.code).toBe(0);
+    const j = JSON.parse(r.stdout);
+    expect(j.jobs).toEqual({ total: 4, ok: 3, failed: 1 });
+    expect(j.summary.length).toBe(5);
+  });
+});
+
+describe('parallax dataset check', () => {
+  it('exits 0 with an OK line on a clean dataset and non-zero listing problems otherwise', () => {
+    const ds = writeDataset(join(root, 'chk'), { ids: ['p1', 'p2'] });
+    const ok = parallax(['dataset', 'check', ds.dir], root);
+    expect(ok.code).toBe(0);
+    expect(ok.stdout).toMatch(/^OK dock-test: 2 pair\(s\)/);
+    rmSync(join(ds.dir, 'p2/left.png'));
+    const bad = parallax(['dataset', 'check', ds.dir], root);
+    expect(bad.code).toBe(1);
+    expect(bad.stdout).toMatch(/p2\/left\.png: missing file/);
+    expect(bad.stdout).toMatch(/1 problem\(s\)/);
+  });
+});
