@@ -11,6 +11,5 @@ export const COMMAND_MODULES: readonly (() => Promise<Record<string, unknown>>)[
   () => import('./demo.js'),
   () => import('./matchers.js'),
   () => import('./compare.js'),
-  () => import('./matchers.js'),
-  () => import('./compare.js'),
+  () => import('./report.js'),
 ];
