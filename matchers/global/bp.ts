@@ -165,7 +165,8 @@ export function iterateScale(
 
 /**
  * Full coarse-to-fine solve. Returns the beliefs b(p, d) = D_p(d) + sum of incoming
- * messages at the finest scale (lower is better), layout [p][level].
+ * messages at the finest scale (lower is better), layout [p][level], written over
+ * `data` (which is returned) to save one volume.
  */
 export function solveBp(
   data: Float32Array,
@@ -193,7 +194,6 @@ export function solveBp(
   }
   const m = msgs!;
   const n = width * height * levels;
-  const belief = new Float32Array(n);
-  for (let i = 0; i < n; i++) belief[i] = data[i] + m.up[i] + m.down[i] + m.left[i] + m.right[i];
-  return belief;
+  for (let i = 0; i < n; i++) data[i] = data[i] + m.up[i] + m.down[i] + m.left[i] + m.right[i];
+  return data;
 }
