@@ -1,0 +1,217 @@
+/**
+ * Procedural textures evaluated at surface coordinates (u, v) in metres. Pure functions of
+ * (material parameters, u, v): the same surface point gets the same value in both views.
+ */
+import { fmix32 } from './prng.js';
+import type { Material, Scene } from './scene.js';
+
+export const PAT_PAINT = 0;
+export const PAT_NOISE = 1;
+export const PAT_SLATS = 2;
+export const PAT_DOTS = 3;
+export const PAT_PLANKS = 4;
+
+/** Float64 parameters per material: kind, colorA(1..3), colorB(4..6), seed(7), s1..s4(8..11). */
+export const MSTRIDE = 12;
+
+export interface CompiledMaterials {
+  readonly count: number;
+  readonly m: Float64Array;
+  /** Per material, a NOISE_SIZE x NOISE_SIZE table of lattice values (a periodic value-noise lattice). */
+  readonly tables: readonly Float32Array[];
+}
+
+/** Side of the periodic noise lattice (cells). */
+export const NOISE_SIZE = 256;
+const NOISE_MASK = NOISE_SIZE - 1;
+
+/** The lattice table of one seed: hash of each (ix, iy) mapped to [0, 1). */
+export function noiseTable(seed: number): Float32Array {
+  const t = new Float32Array(NOISE_SIZE * NOISE_SIZE);
+  for (let iy = 0; iy < NOISE_SIZE; iy++) {
+    for (let ix = 0; ix < NOISE_SIZE; ix++) t[iy * NOISE_SIZE + ix] = lattice(ix, iy, seed);
+  }
+  return t;
+}
+
+export function compileMaterials(scene: Scene): CompiledMaterials {
+  const mats = scene.materials;
+  const m = new Float64Array(Math.max(1, mats.length) * MSTRIDE);
+  for (let i = 0; i < mats.length; i++) {
+    const q: Material = mats[i]!;
+    const o = i * MSTRIDE;
+    m[o + 1] = q.colorA[0];
+    m[o + 2] = q.colorA[1];
+    m[o + 3] = q.colorA[2];
+    m[o + 4] = q.colorB[0];
+    m[o + 5] = q.colorB[1];
+    m[o + 6] = q.colorB[2];
+    m[o + 7] = q.seed >>> 0;
+    const pt = q.pattern;
+    switch (pt.kind) {
+      case 'paint':
+        m[o] = PAT_PAINT;
+        m[o + 8] = pt.amplitude ?? 0.02;
+        m[o + 9] = pt.scale ?? 2;
+        break;
+      case 'noise':
+        m[o] = PAT_NOISE;
+        m[o + 8] = pt.scale;
+        m[o + 9] = pt.octaves ?? 4;
+        m[o + 10] = pt.gain ?? 0.5;
+        break;
+      case 'slats':
+        m[o] = PAT_SLATS;
+        m[o + 8] = pt.period;
+        m[o + 9] = pt.duty ?? 0.5;
+        m[o + 10] = pt.axis === 'v' ? 1 : 0;
+        m[o + 11] = pt.grain ?? 0.15;
+        break;
+      case 'dots':
+        m[o] = PAT_DOTS;
+        m[o + 8] = pt.scale;
+        m[o + 9] = pt.density ?? 0.5;
+        m[o + 10] = Math.min(0.5, pt.radius ?? 0.35);
+        break;
+      case 'planks':
+        m[o] = PAT_PLANKS;
+        m[o + 8] = pt.period;
+        m[o + 9] = pt.grainScale ?? 0.03;
+        break;
+    }
+    for (let s = 8; s < 12; s++) {
+      if (!Number.isFinite(m[o + s]!)) throw new Error(`scene ${scene.name}: material ${i} has a non-finite parameter`);
+    }
+    if (m[o] !== PAT_PAINT && !(m[o + 8]! > 0)) throw new Error(`scene ${scene.name}: material ${i} needs a positive scale/period`);
+  }
+  const tables = mats.map((q) => noiseTable(q.seed >>> 0));
+  return { count: mats.length, m, tables };
+}
+
+/** Uniform [0, 1) value at an integer lattice point. */
+function lattice(ix: number, iy: number, seed: number): number {
+  return fmix32((seed ^ Math.imul(ix, 0x27d4eb2d) ^ Math.imul(iy, 0x165667b1)) >>> 0) / 4294967296;
+}
+
+/**
+ * 2-D value noise in [0, 1) with smoothstep interpolation on a unit lattice whose values
+ * come from a periodic table (period NOISE_SIZE cells).
+ */
+export function valueNoise(table: Float32Array, x: number, y: number): number {
+  const fx0 = Math.floor(x);
+  const fy0 = Math.floor(y);
+  const fx = x - fx0;
+  const fy = y - fy0;
+  const ix = fx0 & NOISE_MASK;
+  const iy = fy0 & NOISE_MASK;
+  const ix1 = (ix + 1) & NOISE_MASK;
+  const r0 = iy * NOISE_SIZE;
+  const r1 = ((iy + 1) & NOISE_MASK) * NOISE_SIZE;
+  const sx = fx * fx * (3 - 2 * fx);
+  const sy = fy * fy * (3 - 2 * fy);
+  const a = table[r0 + ix]!;
+  const b = table[r0 + ix1]!;
+  const c = table[r1 + ix]!;
+  const d = table[r1 + ix1]!;
+  const top = a + (b - a) * sx;
+  const bot = c + (d - c) * sx;
+  return top + (bot - top) * sy;
+}
+
+/**
+ * Fractal sum of value noise: octaves at doubling frequency with amplitudes gain^k, each
+ * octave shifted by an irrational offset so the octaves' lattices do not line up; [0, 1).
+ */
+export function fractalNoise(table: Float32Array, x: number, y: number, octaves: number, gain: number): number {
+  let sum = 0;
+  let norm = 0;
+  let amp = 1;
+  let f = 1;
+  for (let k = 0; k < octaves; k++) {
+    sum += amp * valueNoise(table, x * f + k * 37.618, y * f + k * 91.414);
+    norm += amp;
+    amp *= gain;
+    f *= 2;
+  }
+  return sum / norm;
+}
+
+function clamp01(t: number): number {
+  return t < 0 ? 0 : t > 1 ? 1 : t;
+}
+
+/** Pattern value in [0, 1] of material index mi at (u, v). */
+export function patternAt(cm: CompiledMaterials, mi: number, u: number, v: number): number {
+  PAT_IO[3] = u;
+  PAT_IO[4] = v;
+  patternInto(cm, mi, PAT_IO);
+  return PAT_IO[5]!;
+}
+const PAT_IO = new Float64Array(6);
+
+/**
+ * patternAt for the renderer's hot loop: reads (u, v) from io[3], io[4] and writes the value
+ * to io[5] (doubles passed as arguments or returned from a call that is not inlined are boxed).
+ */
+export function patternInto(cm: CompiledMaterials, mi: number, io: Float64Array): void {
+  const u = io[3]!;
+  const v = io[4]!;
+  const m = cm.m;
+  const o = mi * MSTRIDE;
+  const kind = m[o];
+  const seed = m[o + 7]!;
+  const table = cm.tables[mi]!;
+  if (kind === PAT_NOISE) {
+    const s = m[o + 8]!;
+    const n = fractalNoise(table, u / s, v / s, m[o + 9]!, m[o + 10]!);
+    io[5] = clamp01(0.5 + (n - 0.5) * 2.2);
+    return;
+  }
+  if (kind === PAT_PAINT) {
+    const s = m[o + 9]!;
+    io[5] = clamp01(0.5 + m[o + 8]! * 2 * (valueNoise(table, u / s, v / s) - 0.5));
+    return;
+  }
+  if (kind === PAT_SLATS) {
+    const period = m[o + 8]!;
+    const c = m[o + 10]! === 1 ? v : u;
+    const f = c / period - Math.floor(c / period);
+    const stripe = f < m[o + 9]! ? 1 : 0;
+    const grain = m[o + 11]!;
+    const ns = period * 0.7;
+    io[5] = clamp01(stripe * (1 - grain) + grain * valueNoise(table, u / ns, v / ns));
+    return;
+  }
+  if (kind === PAT_DOTS) {
+    const s = m[o + 8]!;
+    const x = u / s;
+    const y = v / s;
+    const ix = Math.floor(x);
+    const iy = Math.floor(y);
+    if (lattice(ix, iy, seed) >= m[o + 9]!) {
+      io[5] = 0;
+      return;
+    }
+    const r = m[o + 10]!;
+    const slack = 0.5 - r;
+    const jx = (lattice(ix, iy, (seed ^ 0x68bc21eb) >>> 0) - 0.5) * 2 * slack;
+    const jy = (lattice(ix, iy, (seed ^ 0x02e5be93) >>> 0) - 0.5) * 2 * slack;
+    const ex = x - ix - 0.5 - jx;
+    const ey = y - iy - 0.5 - jy;
+    io[5] = ex * ex + ey * ey <= r * r ? 1 : 0;
+    return;
+  }
+  // planks: boards of `period` along v, gaps between them, tint per board, grain along u
+  const period = m[o + 8]!;
+  const gs = m[o + 9]!;
+  const bv = v / period;
+  const board = Math.floor(bv);
+  const f = bv - board;
+  if (f < 0.06) {
+    io[5] = 0;
+    return;
+  }
+  const tint = lattice(board, 7, seed);
+  const grain = valueNoise(table, u / (gs * 8) + 101.3, v / gs + 57.9);
+  io[5] = clamp01(0.2 + 0.45 * tint + 0.35 * grain);
+}
