@@ -7,7 +7,7 @@
 type Section = { name: string; load: () => Promise<{ default: () => Promise<void> }> };
 
 const SECTIONS: Section[] = [
-  // { name: 'scoring', load: () => import('./scoring.js') },
+  { name: 'scoring', load: () => import('./scoring.js') },
   { name: 'report', load: () => import('./report.js') },
 ];
 

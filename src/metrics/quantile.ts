@@ -128,3 +128,4 @@ function swap(a: Buf, i: number, j: number): void {
   a[i] = a[j];
   a[j] = t;
 }
+

@@ -28,26 +28,25 @@
  * - Empty region (pixels = 0): every figure null, rates included. pixels > 0 and no valid
  *   prediction: coverage 0, rates 100, error figures and quantiles null.
  *
- * Implementation: a region byte has at most 256 values ("patterns"); the hot loop
- * accumulates per pattern (one set of additions per pixel, however many regions it is in)
- * and the region sums are the sums over the patterns that contain the region's bit.
- * Bad counts: thresholds are sorted once; per pixel the number k of thresholds that |e|
- * exceeds is counted (a prefix of the sorted list) and a histogram over k is kept, from
- * which bad[t] follows. |e| of valid predictions is written into a buffer partitioned
- * by pattern (counting-sort layout from a first pass over the region bytes) and gathered
- * per region into a scratch buffer for selection. Both buffers are float64 (|e| exact
- * as numpy computes it) and reused between calls (module-level, grown on demand).
+ * Implementation: a region byte has at most 256 values ("patterns"). Pass 1 counts the
+ * pixels of each pattern (a counting-sort layout). Pass 2, the one pass over the maps,
+ * writes the signed error e of every valid prediction into its pattern's partition of a
+ * float64 buffer (e exactly as numpy computes it) and, with a camera, accumulates the
+ * depth sums per pattern. Each region is then the union of the partitions of the
+ * patterns that contain its bit: segmentStats reads those partitions in place (sums,
+ * exact threshold counts and exact quantiles via a radix histogram plus selection in
+ * the few buckets that matter). bad = invalid + (|e| > t). The buffer is reused between
+ * calls (module-level, grown on demand). Measured in bench/scoring.ts.
  */
 import { REGION_BIT, REGION_IDS, type RegionMap } from '../core/regions.js';
 import type { PairScore, RegionFigures, RegionSums } from '../core/score.js';
 import { QUANTILES, type ScoreOptions } from './types.js';
-import { quantilesLinear } from './quantile.js';
+import { segmentStats } from './segment-stats.js';
 
 /** Default opts.depthEps (px): truth with d + cxShift <= this is left out of depth. */
 export const DEFAULT_DEPTH_EPS = 1e-6;
 
 let valsBuf = new Float64Array(0);
-let scratchBuf = new Float64Array(0);
 
 export function scorePair(
   pred: Float32Array | null,
@@ -66,14 +65,8 @@ export function scorePair(
   for (const t of thresholds) {
     if (!Number.isFinite(t)) throw new RangeError(`scorePair: threshold ${t} is not finite`);
   }
-  const T = thresholds.length;
-  const T1 = T + 1;
-  // Sorted thresholds (ascending) and, for each original position, its sorted position.
-  const order = thresholds.map((_, i) => i).sort((a, b) => thresholds[a] - thresholds[b]);
-  const th = new Float64Array(T);
-  for (let j = 0; j < T; j++) th[j] = thresholds[order[j]];
 
-  // Pass 1: pixels per pattern, and the partition offsets of the |e| buffer.
+  // Pass 1: pixels per pattern, and the partition offsets of the error buffer.
   const count = new Float64Array(256);
   for (let i = 0; i < n; i++) count[bits[i]]++;
   const start = new Int32Array(256);
@@ -87,17 +80,14 @@ export function scorePair(
   if (valsBuf.length < total) valsBuf = new Float64Array(total);
   const vals = valsBuf;
 
-  const sumAbs = new Float64Array(256);
-  const sumSq = new Float64Array(256);
-  const sumErr = new Float64Array(256);
-  const hist = new Float64Array(256 * T1);
   const dCount = new Float64Array(256);
   const dRel = new Float64Array(256);
   const dSq = new Float64Array(256);
   const dFail = new Float64Array(256);
 
+  // Pass 2: signed errors of valid predictions into their pattern's partition.
   if (pred === null) {
-    for (let b = 1; b < 256; b++) hist[b * T1 + T] = count[b];
+    // failed job: nothing valid
   } else if (opts.camera) {
     const cam = opts.camera;
     const fb = cam.focalPx * cam.baselineM;
@@ -105,69 +95,51 @@ export function scorePair(
       throw new RangeError('scorePair: camera needs focalPx * baselineM > 0 and a finite cxShiftPx');
     }
     const eps = opts.depthEps ?? DEFAULT_DEPTH_EPS;
-    accumulateWithDepth(pred, truth, bits, th, T, vals, pos, sumAbs, sumSq, sumErr, hist, fb, cam.cxShiftPx, eps, dCount, dRel, dSq, dFail);
+    collectWithDepth(pred, truth, bits, vals, pos, fb, cam.cxShiftPx, eps, dCount, dRel, dSq, dFail);
   } else {
-    accumulate(pred, truth, bits, th, T, vals, pos, sumAbs, sumSq, sumErr, hist);
+    collect(pred, truth, bits, vals, pos);
   }
 
+  // Per region: the partitions of the patterns that contain its bit.
+  const segStart = new Int32Array(256);
+  const segEnd = new Int32Array(256);
   const out = {} as PairScore;
   for (const id of REGION_IDS) {
     const bit = REGION_BIT[id];
-    const s: RegionSums = {
-      pixels: 0,
-      valid: 0,
-      sumAbs: 0,
-      sumSq: 0,
-      sumErr: 0,
-      bad: new Array<number>(T).fill(0),
-      depthCount: 0,
-      depthSumRel: 0,
-      depthSumSq: 0,
-      depthFail: 0,
-    };
-    const kHist = new Float64Array(T1);
-    let nv = 0;
+    let pixels = 0;
+    let nSegs = 0;
+    let depthCount = 0;
+    let depthSumRel = 0;
+    let depthSumSq = 0;
+    let depthFail = 0;
     for (let b = 1; b < 256; b++) {
       if ((b & bit) === 0 || count[b] === 0) continue;
-      s.pixels += count[b];
-      const v = pos[b] - start[b];
-      nv += v;
-      s.sumAbs += sumAbs[b];
-      s.sumSq += sumSq[b];
-      s.sumErr += sumErr[b];
-      for (let k = 0; k < T1; k++) kHist[k] += hist[b * T1 + k];
-      s.depthCount += dCount[b];
-      s.depthSumRel += dRel[b];
-      s.depthSumSq += dSq[b];
-      s.depthFail! += dFail[b];
-    }
-    s.valid = nv;
-    // bad for sorted threshold j = pixels exceeding more than j thresholds.
-    let above = 0;
-    const badSorted = new Array<number>(T);
-    for (let j = T - 1; j >= 0; j--) {
-      above += kHist[j + 1];
-      badSorted[j] = above;
-    }
-    for (let j = 0; j < T; j++) s.bad[order[j]] = badSorted[j];
-
-    let qs: number[] | null = null;
-    if (nv > 0) {
-      if (scratchBuf.length < nv) scratchBuf = new Float64Array(Math.max(nv, total));
-      const scratch = scratchBuf;
-      let w = 0;
-      for (let b = 1; b < 256; b++) {
-        if ((b & bit) === 0) continue;
-        const a = start[b];
-        const e = pos[b];
-        if (e > a) {
-          scratch.set(vals.subarray(a, e), w);
-          w += e - a;
-        }
+      pixels += count[b];
+      depthCount += dCount[b];
+      depthSumRel += dRel[b];
+      depthSumSq += dSq[b];
+      depthFail += dFail[b];
+      if (pos[b] > start[b]) {
+        segStart[nSegs] = start[b];
+        segEnd[nSegs] = pos[b];
+        nSegs++;
       }
-      qs = quantilesLinear(scratch, nv, QUANTILES);
     }
-    out[id] = { sums: s, figures: figuresFromSums(s, thresholds, qs) };
+    const st = segmentStats(vals, segStart, segEnd, nSegs, thresholds, QUANTILES);
+    const invalid = pixels - st.count;
+    const s: RegionSums = {
+      pixels,
+      valid: st.count,
+      sumAbs: st.sumAbs,
+      sumSq: st.sumSq,
+      sumErr: st.sum,
+      bad: st.above.map((c) => c + invalid),
+      depthCount,
+      depthSumRel,
+      depthSumSq,
+      depthFail,
+    };
+    out[id] = { sums: s, figures: figuresFromSums(s, thresholds, st.quantiles) };
   }
   return out;
 }
@@ -242,52 +214,22 @@ export function addSums(a: RegionSums, b: RegionSums): RegionSums {
   };
 }
 
-function accumulate(
-  pred: Float32Array,
-  truth: Float32Array,
-  bits: Uint8Array,
-  th: Float64Array,
-  T: number,
-  vals: Float64Array,
-  pos: Int32Array,
-  sumAbs: Float64Array,
-  sumSq: Float64Array,
-  sumErr: Float64Array,
-  hist: Float64Array,
-): void {
+function collect(pred: Float32Array, truth: Float32Array, bits: Uint8Array, vals: Float64Array, pos: Int32Array): void {
   const n = bits.length;
-  const T1 = T + 1;
   for (let i = 0; i < n; i++) {
     const b = bits[i];
     if (b === 0) continue;
     const e = pred[i] - truth[i];
-    if (e - e === 0) {
-      const a = e < 0 ? -e : e;
-      sumAbs[b] += a;
-      sumSq[b] += e * e;
-      sumErr[b] += e;
-      let k = 0;
-      while (k < T && a > th[k]) k++;
-      hist[b * T1 + k]++;
-      vals[pos[b]++] = a;
-    } else {
-      hist[b * T1 + T]++;
-    }
+    if (e - e === 0) vals[pos[b]++] = e;
   }
 }
 
-function accumulateWithDepth(
+function collectWithDepth(
   pred: Float32Array,
   truth: Float32Array,
   bits: Uint8Array,
-  th: Float64Array,
-  T: number,
   vals: Float64Array,
   pos: Int32Array,
-  sumAbs: Float64Array,
-  sumSq: Float64Array,
-  sumErr: Float64Array,
-  hist: Float64Array,
   fb: number,
   shift: number,
   eps: number,
@@ -297,7 +239,6 @@ function accumulateWithDepth(
   dFail: Float64Array,
 ): void {
   const n = bits.length;
-  const T1 = T + 1;
   for (let i = 0; i < n; i++) {
     const b = bits[i];
     if (b === 0) continue;
@@ -305,14 +246,7 @@ function accumulateWithDepth(
     const t = truth[i];
     const e = p - t;
     if (e - e === 0) {
-      const a = e < 0 ? -e : e;
-      sumAbs[b] += a;
-      sumSq[b] += e * e;
-      sumErr[b] += e;
-      let k = 0;
-      while (k < T && a > th[k]) k++;
-      hist[b * T1 + k]++;
-      vals[pos[b]++] = a;
+      vals[pos[b]++] = e;
       const dt = t + shift;
       if (dt > eps) {
         const dp = p + shift;
@@ -326,8 +260,6 @@ function accumulateWithDepth(
           dFail[b]++;
         }
       }
-    } else {
-      hist[b * T1 + T]++;
     }
   }
 }
