@@ -6,23 +6,21 @@
 import { join } from 'node:path';
 import type { JobResult } from '../core/score.js';
 import { writeFileAtomic } from '../io/files.js';
+import { writeHtmlReport } from '../report/html.js';
 import { pairsCsvText } from '../report/pairs-csv.js';
 import { summaryCsvText } from '../report/summary-csv.js';
 import { aggregate, latestJobs, type SummaryRow } from '../stats/aggregate.js';
-import { optionalModule } from './optional.js';
 
 export const PAIRS_CSV = 'pairs.csv';
 export const SUMMARY_CSV = 'summary.csv';
 export const REPORT_HTML = 'index.html';
-
-type HtmlModule = { writeHtmlReport(runDir: string): Promise<unknown> };
 
 export interface WrittenOutputs {
   files: string[];
   summary: SummaryRow[];
 }
 
-/** Write pairs.csv, summary.csv and index.html (when the HTML writer is part of this build). */
+/** Write pairs.csv, summary.csv and index.html (the report reads run.json: write it first). */
 export async function writeRunOutputs(runDir: string, results: readonly JobResult[], thresholds: readonly number[]): Promise<WrittenOutputs> {
   const jobs = latestJobs(results);
   const th = [...thresholds];
@@ -32,10 +30,7 @@ export async function writeRunOutputs(runDir: string, results: readonly JobResul
   const summary = aggregate(jobs, { thresholds: th });
   await writeFileAtomic(join(runDir, SUMMARY_CSV), summaryCsvText(summary, th));
   files.push(SUMMARY_CSV);
-  const html = await optionalModule<HtmlModule>('../report/html.js');
-  if (html) {
-    await html.writeHtmlReport(runDir);
-    files.push(REPORT_HTML);
-  }
+  await writeHtmlReport(runDir);
+  files.push(REPORT_HTML);
   return { files, summary };
 }

@@ -104,12 +104,12 @@ export async function executeRun(plan: RunPlan, hooks: RunHooks = {}): Promise<R
       }
     }
   }
-  // Tables from the journal alone.
-  const results = readJournal(journal);
-  const outputs = await writeRunOutputs(plan.runDir, results, plan.thresholds);
   info.status = aborted ? 'aborted' : 'complete';
   info.ended = new Date().toISOString();
   await writeInfo(plan.runDir, info);
+  // Tables and report from the journal alone (and run.json, for the report).
+  const results = readJournal(journal);
+  const outputs = await writeRunOutputs(plan.runDir, results, plan.thresholds);
   return { runDir: plan.runDir, results, outputs, info, aborted };
 }
 

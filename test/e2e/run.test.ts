@@ -43,6 +43,8 @@ describe('parallax demo (on a small dataset)', () => {
     expect(existsSync(join(out, 'summary.csv'))).toBe(true);
     const summary = readCsv(readFileSync(join(out, 'summary.csv'), 'utf8'));
     expect(summary.rows.length).toBe(n * 5);
+    // The self-contained HTML report.
+    expect(readFileSync(join(out, 'index.html'), 'utf8')).toMatch(/^<!DOCTYPE html>/i);
   });
 });
 
