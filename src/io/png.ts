@@ -3,9 +3,11 @@
  *
  * Decoding: the chunk layout is walked here first (signature, IHDR first, chunk
  * lengths inside the file, CRCs, IEND), the IHDR size is checked against the pixel
- * limit, and only then does pngjs inflate and unfilter the pixels, with
- * `skipRescale: true` so that 16-bit samples stay 16-bit. pngjs always hands back
- * RGBA; it is reduced here to the file's own channels:
+ * limit, and the image data are inflated with the IHDR's size as the output bound and
+ * must be exactly that long. Non-interlaced files (nearly all) are then unfiltered and
+ * unpacked here with typed-array loops; Adam7-interlaced files go to pngjs with
+ * `skipRescale: true` (so 16-bit samples stay 16-bit), whose RGBA output is reduced to
+ * the file's own channels. Either way:
  *   gray -> 1, gray+alpha -> 2, RGB -> 3, RGBA -> 4, palette -> 3 (4 with a tRNS chunk).
  * Choices (documented in DEVELOPERS.md):
  * - Gray images of 1, 2 or 4 bits are widened to 8 bits by the exact factor
@@ -59,7 +61,10 @@ interface Walked {
   /** The file as pngjs should see it (trailing bytes and ignored tRNS removed). */
   clean: Buffer;
   idat: Buffer[];
-  hasTrns: boolean;
+  /** PLTE body (palette images). */
+  plte: Buffer | undefined;
+  /** tRNS body of a palette image (alpha per entry); undefined otherwise. */
+  trns: Buffer | undefined;
 }
 
 function asBuffer(buf: Uint8Array): Buffer {
@@ -79,8 +84,8 @@ function walk(b: Buffer, name: string, maxPixels: number): Walked {
   let header: PngHeader | undefined;
   const keep: Buffer[] = [b.subarray(0, 8)];
   const idat: Buffer[] = [];
-  let hasTrns = false;
-  let hasPlte = false;
+  let trns: Buffer | undefined;
+  let plte: Buffer | undefined;
   for (;;) {
     if (pos + 12 > b.length) throw new InputError(name, 'PNG is truncated (no IEND chunk)');
     const len = b.readUInt32BE(pos);
@@ -108,17 +113,23 @@ function walk(b: Buffer, name: string, maxPixels: number): Walked {
       break;
     }
     if (type === T_IDAT) idat.push(body);
-    if (type === T_PLTE) hasPlte = true;
+    if (type === T_PLTE) {
+      if (plte) throw new InputError(name, 'PNG has a second PLTE chunk');
+      if (len === 0 || len % 3 !== 0 || len > 768) throw new InputError(name, `PNG palette has an invalid length (${len} bytes)`);
+      plte = body;
+    }
     if (type === T_TRNS) {
       if (header.colorType !== 3) continue; // key colour ignored (see top of file)
-      hasTrns = true;
+      if (!plte || idat.length > 0) throw new InputError(name, 'PNG tRNS chunk must come after PLTE and before the image data');
+      if (len > plte.length / 3) throw new InputError(name, 'PNG tRNS chunk has more entries than the palette');
+      trns = body;
     }
     keep.push(whole);
   }
   if (!header) throw new InputError(name, 'PNG has no IHDR chunk');
   if (idat.length === 0) throw new InputError(name, 'PNG has no image data (IDAT)');
-  if (header.colorType === 3 && !hasPlte) throw new InputError(name, 'palette PNG has no PLTE chunk');
-  return { header, clean: Buffer.concat(keep), idat, hasTrns };
+  if (header.colorType === 3 && !plte) throw new InputError(name, 'palette PNG has no PLTE chunk');
+  return { header, clean: header.interlaced ? Buffer.concat(keep) : b.subarray(0, 0), idat, plte, trns };
 }
 
 function parseIhdr(d: Buffer, name: string): PngHeader {
@@ -187,14 +198,14 @@ export function readPngHeader(buf: Uint8Array, name: string): PngHeader {
 export function decodePng(buf: Uint8Array, name: string, opts?: DecodeOptions): RasterImage {
   const maxPixels = pixelLimit(opts);
   const b = asBuffer(buf);
-  const { header, clean, idat, hasTrns } = walk(b, name, maxPixels);
+  const walked = walk(b, name, maxPixels);
+  const { header } = walked;
   const expected = inflatedSize(header);
-  // pngjs fills missing rows with zeros and inflates interlaced data without an
-  // output limit: inflate here first, bounded by the size the IHDR declares, and
-  // check that the data are exactly that long.
+  // Inflate bounded by the size the IHDR declares, and check that the data are
+  // exactly that long (pngjs would fill missing rows with zeros).
   let inflated: Buffer;
   try {
-    inflated = inflateSync(Buffer.concat(idat), { maxOutputLength: expected });
+    inflated = inflateSync(Buffer.concat(walked.idat), { maxOutputLength: expected });
   } catch (e) {
     const code = (e as { code?: string }).code;
     if (code === 'ERR_BUFFER_TOO_LARGE') {
@@ -208,14 +219,130 @@ export function decodePng(buf: Uint8Array, name: string, opts?: DecodeOptions): 
       `PNG image data are truncated: ${inflated.length} of ${expected} bytes for the ${header.width}x${header.height} image the IHDR declares`,
     );
   }
+  if (header.interlaced) return decodeWithPngjs(walked, name);
+  return decodeRows(inflated, header, walked.plte, walked.trns, name);
+}
+
+/**
+ * Reverses the per-row filters (PNG spec, "Filter algorithms": None, Sub, Up, Average,
+ * Paeth) into rows without filter bytes. `bpp` = bytes per complete pixel, at least 1.
+ */
+export function unfilterRows(src: Uint8Array, height: number, rowBytes: number, bpp: number, name: string): Uint8Array {
+  const out = new Uint8Array(rowBytes * height);
+  for (let y = 0; y < height; y++) {
+    const s = y * (rowBytes + 1) + 1;
+    const d = y * rowBytes;
+    const p = d - rowBytes;
+    const type = src[s - 1]!;
+    if (type === 0 || (type === 2 && y === 0)) {
+      out.set(src.subarray(s, s + rowBytes), d);
+    } else if (type === 1) {
+      for (let i = 0; i < bpp && i < rowBytes; i++) out[d + i] = src[s + i]!;
+      for (let i = bpp; i < rowBytes; i++) out[d + i] = src[s + i]! + out[d + i - bpp]!;
+    } else if (type === 2) {
+      for (let i = 0; i < rowBytes; i++) out[d + i] = src[s + i]! + out[p + i]!;
+    } else if (type === 3) {
+      if (y === 0) {
+        for (let i = 0; i < bpp && i < rowBytes; i++) out[d + i] = src[s + i]!;
+        for (let i = bpp; i < rowBytes; i++) out[d + i] = src[s + i]! + (out[d + i - bpp]! >>> 1);
+      } else {
+        for (let i = 0; i < bpp && i < rowBytes; i++) out[d + i] = src[s + i]! + (out[p + i]! >>> 1);
+        for (let i = bpp; i < rowBytes; i++) out[d + i] = src[s + i]! + ((out[d + i - bpp]! + out[p + i]!) >>> 1);
+      }
+    } else if (type === 4) {
+      if (y === 0) {
+        // with no row above, Paeth picks the left byte (b = c = 0)
+        for (let i = 0; i < bpp && i < rowBytes; i++) out[d + i] = src[s + i]!;
+        for (let i = bpp; i < rowBytes; i++) out[d + i] = src[s + i]! + out[d + i - bpp]!;
+      } else {
+        for (let i = 0; i < bpp && i < rowBytes; i++) out[d + i] = src[s + i]! + out[p + i]!;
+        for (let i = bpp; i < rowBytes; i++) {
+          const a = out[d + i - bpp]!;
+          const b = out[p + i]!;
+          const c = out[p + i - bpp]!;
+          const pa = Math.abs(b - c);
+          const pb = Math.abs(a - c);
+          const pc = Math.abs(a + b - 2 * c);
+          out[d + i] = src[s + i]! + (pa <= pb && pa <= pc ? a : pb <= pc ? b : c);
+        }
+      }
+    } else {
+      throw new InputError(name, `PNG row ${y} has an unknown filter type ${type}`);
+    }
+  }
+  return out;
+}
+
+/** Samples of a non-interlaced image from its inflated data. */
+function decodeRows(inflated: Uint8Array, h: PngHeader, plte: Buffer | undefined, trns: Buffer | undefined, name: string): RasterImage {
+  const { width, height, bitDepth, colorType } = h;
+  const n = width * height;
+  const samples = SAMPLES[colorType]!;
+  const bitsPerPixel = samples * bitDepth;
+  const rowBytes = Math.ceil((width * bitsPerPixel) / 8);
+  const raw = unfilterRows(inflated, height, rowBytes, Math.max(1, bitsPerPixel >> 3), name);
+  if (colorType === 3) return expandPalette(raw, h, rowBytes, plte!, trns, name);
+  const channels = samples as 1 | 2 | 3 | 4;
+  if (bitDepth === 8) return { width, height, channels, bitDepth: 8, data: raw };
+  if (bitDepth === 16) {
+    const m = n * channels;
+    const out = new Uint16Array(m);
+    for (let i = 0, j = 0; i < m; i++, j += 2) out[i] = (raw[j]! << 8) | raw[j + 1]!;
+    return { width, height, channels, bitDepth: 16, data: out };
+  }
+  // gray below 8 bits: samples packed from the high bit; widen by the exact factor
+  const out = new Uint8Array(n);
+  const mask = (1 << bitDepth) - 1;
+  const k = 255 / mask;
+  for (let y = 0; y < height; y++) {
+    const r = y * rowBytes;
+    const o = y * width;
+    for (let x = 0; x < width; x++) {
+      const bit = x * bitDepth;
+      out[o + x] = ((raw[r + (bit >>> 3)]! >>> (8 - bitDepth - (bit & 7))) & mask) * k;
+    }
+  }
+  return { width, height, channels: 1, bitDepth: 8, data: out };
+}
+
+function expandPalette(raw: Uint8Array, h: PngHeader, rowBytes: number, plte: Buffer, trns: Buffer | undefined, name: string): RasterImage {
+  const { width, height, bitDepth } = h;
+  const entries = plte.length / 3;
+  const channels = trns ? 4 : 3;
+  const out = new Uint8Array(width * height * channels);
+  const mask = (1 << bitDepth) - 1;
+  const nAlpha = trns ? trns.length : 0;
+  for (let y = 0; y < height; y++) {
+    const r = y * rowBytes;
+    let o = y * width * channels;
+    for (let x = 0; x < width; x++) {
+      let idx: number;
+      if (bitDepth === 8) idx = raw[r + x]!;
+      else {
+        const bit = x * bitDepth;
+        idx = (raw[r + (bit >>> 3)]! >>> (8 - bitDepth - (bit & 7))) & mask;
+      }
+      if (idx >= entries) throw new InputError(name, `PNG palette index ${idx} at (x ${x}, y ${y}) is beyond the ${entries}-entry palette`);
+      out[o] = plte[3 * idx]!;
+      out[o + 1] = plte[3 * idx + 1]!;
+      out[o + 2] = plte[3 * idx + 2]!;
+      if (channels === 4) out[o + 3] = idx < nAlpha ? trns![idx]! : 255;
+      o += channels;
+    }
+  }
+  return { width, height, channels, bitDepth: 8, data: out };
+}
+
+/** Interlaced (Adam7) files: pngjs deinterlaces, with skipRescale so 16-bit stays 16-bit. */
+function decodeWithPngjs(walked: Walked, name: string): RasterImage {
   let rgba: Uint8Array | Uint16Array;
   try {
-    const parsed = pngjs.PNG.sync.read(clean, { skipRescale: true, checkCRC: false });
+    const parsed = pngjs.PNG.sync.read(walked.clean, { skipRescale: true, checkCRC: false });
     rgba = parsed.data as unknown as Uint8Array | Uint16Array;
   } catch (e) {
     throw new InputError(name, `PNG image data are corrupt (${oneLine(e)})`);
   }
-  const { width, height, colorType, bitDepth } = header;
+  const { width, height, colorType, bitDepth } = walked.header;
   const n = width * height;
   if (rgba.length !== n * 4) throw new InputError(name, 'PNG image data are corrupt (wrong decoded size)');
   let channels: 1 | 2 | 3 | 4;
@@ -223,7 +350,7 @@ export function decodePng(buf: Uint8Array, name: string, opts?: DecodeOptions): 
   else if (colorType === 4) channels = 2;
   else if (colorType === 2) channels = 3;
   else if (colorType === 6) channels = 4;
-  else channels = hasTrns ? 4 : 3;
+  else channels = walked.trns ? 4 : 3;
   const depth: 8 | 16 = bitDepth === 16 ? 16 : 8;
   const out = depth === 16 ? new Uint16Array(n * channels) : new Uint8Array(n * channels);
   // sub-8-bit gray: widen exactly to 8 bits (palette indices were already expanded by pngjs)
@@ -273,45 +400,68 @@ function sampleBytes(img: RasterImage): Uint8Array {
   return out;
 }
 
+/** |v| of a filtered byte taken as signed (PNG spec, "Filter selection" heuristic). */
+function sabs(v: number): number {
+  const u = v & 0xff;
+  return u < 128 ? u : 256 - u;
+}
+
+function paeth(a: number, b: number, c: number): number {
+  const pa = Math.abs(b - c);
+  const pb = Math.abs(a - c);
+  const pc = Math.abs(a + b - 2 * c);
+  return pa <= pb && pa <= pc ? a : pb <= pc ? b : c;
+}
+
 /**
- * Filters every row (types 0-4), choosing per row the filter with the smallest sum
- * of absolute values of the filtered bytes taken as signed (PNG spec, "Filter selection").
+ * Filters every row, choosing per row the filter type (0-4) with the smallest sum of
+ * absolute values of the filtered bytes taken as signed (PNG spec, "Filter selection").
+ * One pass scores all five filters, a second writes the chosen one.
  */
 function filterRows(raw: Uint8Array, rowBytes: number, height: number, bpp: number): Uint8Array {
   const out = new Uint8Array((rowBytes + 1) * height);
-  const cand = new Uint8Array(rowBytes);
   for (let y = 0; y < height; y++) {
     const cur = y * rowBytes;
     const prev = cur - rowBytes;
-    const dst = y * (rowBytes + 1);
-    let bestSum = Infinity;
-    for (let t = 0; t <= 4; t++) {
-      let sum = 0;
-      for (let i = 0; i < rowBytes; i++) {
-        const x = raw[cur + i]!;
-        const a = i >= bpp ? raw[cur + i - bpp]! : 0;
-        const b = y > 0 ? raw[prev + i]! : 0;
-        const c = i >= bpp && y > 0 ? raw[prev + i - bpp]! : 0;
-        let p: number;
-        if (t === 0) p = 0;
-        else if (t === 1) p = a;
-        else if (t === 2) p = b;
-        else if (t === 3) p = (a + b) >>> 1;
-        else {
-          const pa = Math.abs(b - c);
-          const pb = Math.abs(a - c);
-          const pc = Math.abs(a + b - 2 * c);
-          p = pa <= pb && pa <= pc ? a : pb <= pc ? b : c;
-        }
-        const v = (x - p) & 0xff;
-        cand[i] = v;
-        sum += v < 128 ? v : 256 - v;
-      }
-      if (sum < bestSum) {
-        bestSum = sum;
-        out[dst] = t;
-        out.set(cand, dst + 1);
-      }
+    const dst = y * (rowBytes + 1) + 1;
+    const up = y > 0;
+    let s0 = 0;
+    let s1 = 0;
+    let s2 = 0;
+    let s3 = 0;
+    let s4 = 0;
+    for (let i = 0; i < rowBytes; i++) {
+      const x = raw[cur + i]!;
+      const a = i >= bpp ? raw[cur + i - bpp]! : 0;
+      const b = up ? raw[prev + i]! : 0;
+      const c = up && i >= bpp ? raw[prev + i - bpp]! : 0;
+      s0 += sabs(x);
+      s1 += sabs(x - a);
+      s2 += sabs(x - b);
+      s3 += sabs(x - ((a + b) >>> 1));
+      s4 += sabs(x - paeth(a, b, c));
+    }
+    let t = 0;
+    let best = s0;
+    if (s1 < best) (t = 1), (best = s1);
+    if (s2 < best) (t = 2), (best = s2);
+    if (s3 < best) (t = 3), (best = s3);
+    if (s4 < best) t = 4;
+    out[dst - 1] = t;
+    if (t === 0) {
+      out.set(raw.subarray(cur, cur + rowBytes), dst);
+      continue;
+    }
+    for (let i = 0; i < rowBytes; i++) {
+      const x = raw[cur + i]!;
+      const a = i >= bpp ? raw[cur + i - bpp]! : 0;
+      const b = up ? raw[prev + i]! : 0;
+      let p: number;
+      if (t === 1) p = a;
+      else if (t === 2) p = b;
+      else if (t === 3) p = (a + b) >>> 1;
+      else p = paeth(a, b, up && i >= bpp ? raw[prev + i - bpp]! : 0);
+      out[dst + i] = x - p;
     }
   }
   return out;

@@ -160,6 +160,22 @@ describe('PNG errors', () => {
     const broken = concat([PNG_SIGNATURE, ihdr(1, 1, 8, 0), pngChunk('IDAT', Uint8Array.of(0x78, 0x9c, 0x07, 0x00)), pngChunk('IEND', new Uint8Array(0))]);
     expectInputError(() => decodePng(broken, 'z.png'), 'z.png', /corrupt/);
   });
+  it('palette index beyond the palette, palette of a bad length, tRNS longer than the palette', () => {
+    const plte2 = pngChunk('PLTE', Uint8Array.of(1, 2, 3, 4, 5, 6)); // 2 entries
+    const row = unfilteredScanlines([Uint8Array.of(0, 1, 2)]); // index 2 is beyond
+    expectInputError(() => decodePng(buildPng(ihdr(3, 1, 8, 3), row, [plte2]), 'pal.png'), 'pal.png', /palette index 2 at \(x 2, y 0\) is beyond the 2-entry palette/);
+    expectInputError(() => decodePng(buildPng(ihdr(3, 1, 8, 3), row, [pngChunk('PLTE', Uint8Array.of(1, 2))]), 'pl.png'), 'pl.png', /palette has an invalid length \(2 bytes\)/);
+    expectInputError(
+      () => decodePng(buildPng(ihdr(3, 1, 8, 3), row, [plte2, pngChunk('tRNS', Uint8Array.of(1, 2, 3))]), 'tr.png'),
+      'tr.png',
+      /tRNS chunk has more entries than the palette/,
+    );
+    expectInputError(() => decodePng(buildPng(ihdr(3, 1, 8, 3), row), 'np.png'), 'np.png', /no PLTE/);
+  });
+  it('unknown filter type', () => {
+    const file = buildPng(ihdr(2, 1, 8, 0), Uint8Array.of(5, 1, 2));
+    expectInputError(() => decodePng(file, 'f.png'), 'f.png', /row 0 has an unknown filter type 5/);
+  });
   it('disparity PNG must be gray 8/16 bit; scale and invalid code are checked', () => {
     const rgb = encodePng({ width: 1, height: 1, channels: 3, bitDepth: 8, data: Uint8Array.of(1, 2, 3) });
     expectInputError(() => decodePngDisparity(rgb, 'rgb.png', { scale: 1 }), 'rgb.png', /8- or 16-bit gray/);

@@ -73,7 +73,7 @@ const mutation: fc.Arbitrary<Mutation> = fc.oneof(
 );
 
 function mutate(src: Uint8Array, muts: Mutation[]): Uint8Array {
-  let b = src.slice();
+  let b: Uint8Array = src.slice();
   for (const m of muts) {
     if (b.length === 0) break;
     const at = m.at % b.length;

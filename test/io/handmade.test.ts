@@ -2,6 +2,8 @@
  * Files built byte by byte from the format descriptions, then decoded by src/io.
  * Each expected value comes from the bytes written in the test itself.
  */
+import pngjs from 'pngjs';
+import { deflateSync } from 'node:zlib';
 import { describe, expect, it } from 'vitest';
 import { decodeNpy, decodePfm, decodePng, encodeNpy, encodePfm, encodePng } from '../../src/io/index.js';
 import {
@@ -9,6 +11,7 @@ import {
   be16,
   buildPng,
   concat,
+  filteredScanlines,
   ihdr,
   pngChunk,
   specCrc32,
@@ -91,6 +94,63 @@ describe('PNG built by hand (ISO/IEC 15948 / W3C PNG: IHDR, IDAT zlib stream, IE
     const img = decodePng(buildPng(ihdr(1, 2, 8, 2), unfilteredScanlines([Uint8Array.from(rgb.slice(0, 3)), Uint8Array.from(rgb.slice(3))])), 'rgb8.png');
     expect([img.width, img.height, img.channels, img.bitDepth]).toEqual([1, 2, 3, 8]);
     expect(Array.from(img.data)).toEqual(rgb);
+  });
+
+  it('every filter type (None, Sub, Up, Average, Paeth) reverses to the original rows; pngjs agrees', () => {
+    // Rows filtered in the test with the spec formulas (helpers.filteredScanlines);
+    // pngjs (a general-purpose decoder, skipRescale) decodes the same bytes as a second opinion.
+    const cases = [
+      { depth: 8, colorType: 2, channels: 3, bytesPerSample: 1 },
+      { depth: 16, colorType: 4, channels: 2, bytesPerSample: 2 },
+      { depth: 8, colorType: 0, channels: 1, bytesPerSample: 1 },
+    ];
+    for (const c of cases) {
+      const w = 7;
+      const h = 10; // two rounds of the five filter types
+      const rowLen = w * c.channels * c.bytesPerSample;
+      // half the rows vary widely, half take only 6 values (many Paeth ties between a, b and c)
+      const rows = Array.from({ length: h }, (_, y) =>
+        Uint8Array.from({ length: rowLen }, (_, i) => (y % 4 < 2 ? (y * 37 + i * 11 + ((i * y) % 7) * 29) & 0xff : ((i * 7 + y * 3) % 11) % 6)),
+      );
+      const file = concat([PNG_SIGNATURE, ihdr(w, h, c.depth, c.colorType), pngChunk('IDAT', deflateSync(filteredScanlines(rows, c.channels * c.bytesPerSample, [0, 1, 2, 3, 4]))), pngChunk('IEND', new Uint8Array(0))]);
+      const img = decodePng(file, 'filters.png');
+      const want: number[] = [];
+      for (const r of rows) {
+        if (c.bytesPerSample === 1) want.push(...r);
+        else for (let i = 0; i < r.length; i += 2) want.push((r[i]! << 8) | r[i + 1]!);
+      }
+      expect(Array.from(img.data)).toEqual(want);
+      const ref = pngjs.PNG.sync.read(Buffer.from(file), { skipRescale: true });
+      const refData = ref.data as unknown as ArrayLike<number>;
+      const fromRef: number[] = [];
+      for (let p = 0; p < w * h; p++) {
+        if (c.channels === 1) fromRef.push(refData[4 * p]!);
+        else if (c.channels === 2) fromRef.push(refData[4 * p]!, refData[4 * p + 3]!);
+        else fromRef.push(refData[4 * p]!, refData[4 * p + 1]!, refData[4 * p + 2]!);
+      }
+      expect(fromRef).toEqual(want);
+    }
+  });
+
+  it('Paeth tie-break order a, b, c (PNG spec PaethPredictor), worked by hand', () => {
+    // Row 0 = [2, 4] unfiltered; row 1 = [1, 9] with Paeth. At x = 1: a = 1, b = 4, c = 2,
+    // p = a + b - c = 3, pa = 2, pb = 1, pc = 1 -> tie pb = pc resolves to b = 4, so the
+    // filtered byte is 9 - 4 = 5. At x = 0: a = c = 0 and b = 2 (the byte above), so the
+    // predictor is b and the filtered byte is 1 - 2 = 255 (mod 256).
+    const lines = Uint8Array.of(0, 2, 4, 4, 255, 5);
+    const img = decodePng(concat([PNG_SIGNATURE, ihdr(2, 2, 8, 0), pngChunk('IDAT', deflateSync(lines)), pngChunk('IEND', new Uint8Array(0))]), 'paeth.png');
+    expect(Array.from(img.data)).toEqual([2, 4, 1, 9]);
+  });
+
+  it('2-bit gray rows with every filter type (filter unit is one byte below 8 bits per pixel)', () => {
+    // 8 pixels of 2 bits = 2 bytes per row; bpp rounds up to 1 (PNG spec).
+    const rows = [Uint8Array.of(0x1b, 0xe4), Uint8Array.of(0xff, 0x00), Uint8Array.of(0x55, 0xaa), Uint8Array.of(0x0f, 0xf0), Uint8Array.of(0x36, 0xc9)];
+    const file = concat([PNG_SIGNATURE, ihdr(8, 5, 2, 0), pngChunk('IDAT', deflateSync(filteredScanlines(rows, 1, [0, 1, 2, 3, 4]))), pngChunk('IEND', new Uint8Array(0))]);
+    const img = decodePng(file, 'g2.png');
+    // unpack by hand: each byte holds 4 samples, high bits first; 2-bit v widens to v * 85
+    const want: number[] = [];
+    for (const r of rows) for (const byte of r) for (let s = 6; s >= 0; s -= 2) want.push(((byte >> s) & 3) * 85);
+    expect(Array.from(img.data)).toEqual(want);
   });
 
   it('palette images expand to RGB, or RGBA with a tRNS chunk; 2-bit indices unpacked', () => {

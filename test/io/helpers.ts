@@ -130,3 +130,38 @@ export function runPython(script: string, cwd: string): string {
   if (r.status !== 0) throw new Error(`python failed (${String(r.status)}): ${r.stderr}`);
   return r.stdout;
 }
+
+/**
+ * Filtered scanlines with filter type `types[y % types.length]` on row y, computed
+ * from the formulas in the PNG spec ("Filter algorithms"): Filt(x) = Orig(x) - predictor,
+ * predictors None 0, Sub a, Up b, Average floor((a + b) / 2), Paeth PaethPredictor(a, b, c).
+ * `bpp` = bytes per complete pixel (at least 1).
+ */
+export function filteredScanlines(rows: Uint8Array[], bpp: number, types: number[]): Uint8Array {
+  const parts: Uint8Array[] = [];
+  rows.forEach((row, y) => {
+    const t = types[y % types.length]!;
+    const prev = y > 0 ? rows[y - 1]! : new Uint8Array(row.length);
+    const out = new Uint8Array(row.length + 1);
+    out[0] = t;
+    for (let i = 0; i < row.length; i++) {
+      const a = i >= bpp ? row[i - bpp]! : 0;
+      const b = prev[i]!;
+      const c = i >= bpp ? prev[i - bpp]! : 0;
+      let pred = 0;
+      if (t === 1) pred = a;
+      else if (t === 2) pred = b;
+      else if (t === 3) pred = Math.floor((a + b) / 2);
+      else if (t === 4) {
+        const p = a + b - c;
+        const pa = Math.abs(p - a);
+        const pb = Math.abs(p - b);
+        const pc = Math.abs(p - c);
+        pred = pa <= pb && pa <= pc ? a : pb <= pc ? b : c;
+      }
+      out[i + 1] = (row[i]! - pred) & 0xff;
+    }
+    parts.push(out);
+  });
+  return concat(parts);
+}
