@@ -167,7 +167,9 @@ export function checkParamValue(matcherId: string, p: ParamSpec, raw: ParamValue
       return fail('is not a boolean');
     }
     case 'enum': {
-      if (typeof raw === 'string' && p.values.includes(raw)) return raw;
+      // JSON lists may give enum values such as "8" as numbers.
+      const text = typeof raw === 'string' ? raw : String(raw);
+      if (p.values.includes(text)) return text;
       return fail('is not allowed');
     }
   }

@@ -111,28 +111,36 @@ function withinOnePx(d: Float32Array): { share: number; n: number } {
   return { share: good / n, n };
 }
 
-/** OpenCV run directly on the same files: raw fixed point -> /16, raw < min*16 -> NaN, saved as .npy. */
-function opencvReference(algo: 'bm' | 'sgbm', block: number): Float32Array {
-  const out = join(tmp, `ref-${algo}.npy`);
-  const code = `
-import cv2, numpy as np, sys
-l = cv2.imread(sys.argv[1], cv2.IMREAD_GRAYSCALE); r = cv2.imread(sys.argv[2], cv2.IMREAD_GRAYSCALE)
-mn, nd, bs = ${MIN_D}, 32, ${block}
-if '${algo}' == 'bm':
-    m = cv2.StereoBM_create(numDisparities=nd, blockSize=bs); m.setMinDisparity(mn)
-    m.setUniquenessRatio(10); m.setTextureThreshold(10); m.setPreFilterCap(31)
-    m.setSpeckleWindowSize(0); m.setSpeckleRange(2); m.setDisp12MaxDiff(1)
-else:
-    m = cv2.StereoSGBM_create(minDisparity=mn, numDisparities=nd, blockSize=bs, P1=8*bs*bs, P2=32*bs*bs,
-        disp12MaxDiff=1, preFilterCap=31, uniquenessRatio=10, speckleWindowSize=0, speckleRange=2,
-        mode=cv2.STEREO_SGBM_MODE_HH)
-raw = m.compute(l, r)
-d = raw.astype(np.float32) / 16.0
-d[raw < mn * 16] = np.nan
-np.save(sys.argv[3], d)
+/**
+ * OpenCV run directly on the same files, both algorithms in one Python process:
+ * raw fixed point -> /16, raw < min*16 -> NaN, saved as ref-bm.npy and ref-sgbm.npy.
+ */
+let refCache: Record<'bm' | 'sgbm', Float32Array> | undefined;
+function opencvReference(algo: 'bm' | 'sgbm'): Float32Array {
+  if (!refCache) {
+    const code = `
+import cv2, numpy as np, sys, os
+d = sys.argv[1]
+l = cv2.imread(os.path.join(d, 'left.png'), cv2.IMREAD_GRAYSCALE); r = cv2.imread(os.path.join(d, 'right.png'), cv2.IMREAD_GRAYSCALE)
+mn, nd = ${MIN_D}, 32
+bm = cv2.StereoBM_create(numDisparities=nd, blockSize=9); bm.setMinDisparity(mn)
+bm.setUniquenessRatio(10); bm.setTextureThreshold(10); bm.setPreFilterCap(31)
+bm.setSpeckleWindowSize(0); bm.setSpeckleRange(2); bm.setDisp12MaxDiff(1)
+bs = 5
+sg = cv2.StereoSGBM_create(minDisparity=mn, numDisparities=nd, blockSize=bs, P1=8*bs*bs, P2=32*bs*bs,
+    disp12MaxDiff=1, preFilterCap=31, uniquenessRatio=10, speckleWindowSize=0, speckleRange=2,
+    mode=cv2.STEREO_SGBM_MODE_HH)
+for name, m in (('bm', bm), ('sgbm', sg)):
+    raw = m.compute(l, r)
+    out = raw.astype(np.float32) / 16.0
+    out[raw < mn * 16] = np.nan
+    np.save(os.path.join(d, 'ref-%s.npy' % name), out)
 `;
-  execFileSync(PY, ['-c', code, join(tmp, 'left.png'), join(tmp, 'right.png'), out], { stdio: ['ignore', 'ignore', 'pipe'] });
-  return decodeNpy(readFileSync(out), out).data;
+    execFileSync(PY, ['-c', code, tmp], { stdio: ['ignore', 'ignore', 'pipe'] });
+    const load = (n: string) => decodeNpy(readFileSync(join(tmp, n)), n).data;
+    refCache = { bm: load('ref-bm.npy'), sgbm: load('ref-sgbm.npy') };
+  }
+  return refCache[algo];
 }
 
 async function run(c: MatcherConfig, inp: MatchInput): Promise<MatchOutput> {
@@ -172,7 +180,7 @@ describe('OpenCV example through the program plugin', () => {
     expect(bandNan).toBeGreaterThan(0.9 * (MIN_D + 31) * H);
     expect(nan).toBeGreaterThanOrEqual(bandNan);
     // OpenCV run directly on the same files: identical map (orientation, scaling, NaN).
-    const ref = opencvReference('bm', 9);
+    const ref = opencvReference('bm');
     for (let i = 0; i < W * H; i++) {
       const a = out.disparity[i];
       const b = ref[i];
@@ -194,7 +202,7 @@ describe('OpenCV example through the program plugin', () => {
       expect(share).toBeGreaterThanOrEqual(0.9); // common practice, as above
       for (const v of out.disparity) if (!Number.isNaN(v)) expect(v).toBeGreaterThanOrEqual(MIN_D);
     }
-    const ref = opencvReference('sgbm', 5);
+    const ref = opencvReference('sgbm');
     for (let i = 0; i < W * H; i++) {
       const v = a.disparity[i];
       if (Number.isNaN(ref[i])) expect(Number.isNaN(v), `pixel ${i}`).toBe(true);

@@ -187,6 +187,9 @@ describe('sweeps and labels', () => {
       'matchers[0]: fake: window=4 must be odd; allowed: int 1..31, odd',
     );
     expect(usageMessage(() => expandSweep('fake', SCHEMA, { p1: [] }))).toMatch(/empty list/);
+    // An enum whose values look like numbers accepts JSON numbers (e.g. a path count).
+    const paths: ParamSpec = { name: 'paths', type: 'enum', default: '8', values: ['8', '4'], description: '' };
+    expect(expandSweep('x', [paths], { paths: [4, 8] }).map((p) => p.paths)).toEqual(['4', '8']);
   });
 
   it('refuses sweeps beyond the configuration limit', () => {
