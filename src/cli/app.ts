@@ -62,11 +62,14 @@ export async function buildParser(argv: string[]): Promise<Argv> {
 /** Run the CLI; resolves to the exit code. Never throws. */
 export async function runCli(argv: string[], io: CliIo = defaultIo): Promise<number> {
   const debug = argv.includes('--debug');
+  // Handlers report through process.exitCode; keep the caller's value (in-process tests).
+  const callerExitCode = process.exitCode;
   try {
     process.exitCode = undefined;
     const parser = await buildParser(argv);
     await parser.parseAsync();
-    return typeof process.exitCode === 'number' ? process.exitCode : 0;
+    const code = process.exitCode;
+    return typeof code === 'number' ? code : code === undefined || code === null ? 0 : Number(code) || 1;
   } catch (e) {
     if (e instanceof YargsUsage) {
       io.stderr(`parallax: ${oneLine(e.message)} (see parallax --help)\n`);
@@ -81,5 +84,7 @@ export async function runCli(argv: string[], io: CliIo = defaultIo): Promise<num
     io.stderr(`parallax: unexpected error: ${oneLine(err?.message ?? String(e))}${debug ? '' : ' (run with --debug for details)'}\n`);
     if (debug && err?.stack) io.stderr(err.stack + '\n');
     return 1;
+  } finally {
+    process.exitCode = callerExitCode;
   }
 }
