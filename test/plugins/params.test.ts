@@ -219,6 +219,23 @@ describe('sweeps and labels', () => {
   });
 });
 
+describe('resolveMatchers on the built-ins', () => {
+  it('expands sweeps in spec order, fills defaults, drops exact repeats', async () => {
+    // Expected labels derived by hand from the first built-in's own schema.
+    const m = builtinMatchers()[0];
+    const intParam = m.params.find((p) => p.type === 'int' && p.odd && p.max !== undefined && p.max >= p.default + 4);
+    if (!intParam || intParam.type !== 'int') throw new Error('fixture: need an odd int parameter on the first built-in');
+    const a = intParam.default + 2;
+    const b = intParam.default + 4;
+    const configs = await resolveMatchers([`${m.id}:${intParam.name}=[${a},${b}]`, m.id, m.id]);
+    expect(configs.map((c) => c.label)).toEqual([`${m.id}:${intParam.name}=${a}`, `${m.id}:${intParam.name}=${b}`, m.id]);
+    expect(configs[0].params[intParam.name]).toBe(a);
+    expect(Object.keys(configs[2].params)).toEqual(m.params.map((p) => p.name));
+    expect(new Set(configs.map((c) => c.codeHash)).size).toBe(1);
+    expect(configs[0].source).toEqual({ kind: 'builtin', id: m.id });
+  });
+});
+
 describe('parser contract (fast-check)', () => {
   it('any --matcher string either parses or throws a one-line UsageError, never anything else', () => {
     // Property of the parser contract; 2,000 of the team's 10,000 generated cases.
