@@ -54,17 +54,21 @@ export interface ProgramMatcherPlugin extends MatcherPlugin {
 }
 
 const liveGroups = new Set<number>();
+const liveTmpDirs = new Set<string>();
 let exitHookInstalled = false;
+/** Safety net: never leave program groups or temporary folders behind when this process ends. */
+function installExitHook(): void {
+  if (exitHookInstalled) return;
+  exitHookInstalled = true;
+  process.once('exit', () => {
+    for (const g of liveGroups) signalGroup(g, 'SIGKILL');
+    for (const d of liveTmpDirs) rmSync(d, { recursive: true, force: true });
+  });
+}
 function trackGroup(pid: number | undefined): void {
   if (pid === undefined) return;
   liveGroups.add(pid);
-  if (!exitHookInstalled) {
-    exitHookInstalled = true;
-    // Safety net: never leave program groups behind when this process ends.
-    process.once('exit', () => {
-      for (const g of liveGroups) signalGroup(g, 'SIGKILL');
-    });
-  }
+  installExitHook();
 }
 
 function withTail(message: string, tail: StreamTail): MatcherFailure {
@@ -415,7 +419,11 @@ export function programMatcher(
   const outExt = def.output.format;
 
   const ensureTmp = (): string => {
-    if (!tmpDir) tmpDir = mkdtempSync(join(opts.tmpRoot ?? tmpdir(), `parallax-${sanitizeForPath(def.id)}-`));
+    if (!tmpDir) {
+      tmpDir = mkdtempSync(join(opts.tmpRoot ?? tmpdir(), `parallax-${sanitizeForPath(def.id)}-`));
+      liveTmpDirs.add(tmpDir);
+      installExitHook();
+    }
     return tmpDir;
   };
 
@@ -502,6 +510,7 @@ export function programMatcher(
       await server?.stop();
       if (tmpDir) {
         rmSync(tmpDir, { recursive: true, force: true });
+        liveTmpDirs.delete(tmpDir);
         tmpDir = undefined;
       }
     },
