@@ -55,7 +55,7 @@ export const SGM_PARAMS: readonly ParamSpec[] = [
   {
     name: 'p2edge',
     type: 'int',
-    default: 0,
+    default: 16,
     min: 0,
     max: 255,
     description: 'lower p2 across intensity edges: p2 * k / (k + |dI|), never below p1 (0 = constant p2)',
@@ -86,7 +86,7 @@ export function readSgmOptions(params: ParamValues): SgmOptions {
   const opts: SgmOptions = {
     p1: n('p1', 8),
     p2: n('p2', 96),
-    p2edge: n('p2edge', 0),
+    p2edge: n('p2edge', 16),
     paths: s('paths', '8') === '4' ? 4 : 8,
     cost: s('cost', 'census') === 'bt' ? 'bt' : 'census',
     censusW: n('censusW', 9),
