@@ -112,6 +112,10 @@ function walk(b: Buffer, name: string, maxPixels: number): Walked {
       keep.push(whole);
       break;
     }
+    const critical = ((type >>> 24) & 0x20) === 0; // uppercase first letter (PNG spec, chunk naming)
+    if (critical && type !== T_IDAT && type !== T_PLTE) {
+      throw new InputError(name, `PNG has an unknown critical chunk ${chunkName(type)}`);
+    }
     if (type === T_IDAT) idat.push(body);
     if (type === T_PLTE) {
       if (plte) throw new InputError(name, 'PNG has a second PLTE chunk');

@@ -172,6 +172,13 @@ describe('PNG errors', () => {
     );
     expectInputError(() => decodePng(buildPng(ihdr(3, 1, 8, 3), row), 'np.png'), 'np.png', /no PLTE/);
   });
+  it('an unknown critical chunk is refused (PNG spec: critical = uppercase first letter)', () => {
+    const file = buildPng(ihdr(1, 1, 8, 0), unfilteredScanlines([Uint8Array.of(1)]), [pngChunk('ZZZZ', Uint8Array.of(1))]);
+    expectInputError(() => decodePng(file, 'cc.png'), 'cc.png', /unknown critical chunk ZZZZ/);
+    // an ancillary one (lowercase first letter) is skipped
+    const ok = buildPng(ihdr(1, 1, 8, 0), unfilteredScanlines([Uint8Array.of(1)]), [pngChunk('zzZZ', Uint8Array.of(1))]);
+    expect(Array.from(decodePng(ok, 'an.png').data)).toEqual([1]);
+  });
   it('unknown filter type', () => {
     const file = buildPng(ihdr(2, 1, 8, 0), Uint8Array.of(5, 1, 2));
     expectInputError(() => decodePng(file, 'f.png'), 'f.png', /row 0 has an unknown filter type 5/);
