@@ -144,6 +144,17 @@ describe('experiment files', () => {
   });
 });
 
+describe('command list', () => {
+  it('top-level help lists dataset tools under `dataset` only', async () => {
+    const r = await cli(['--help']);
+    expect(r.code).toBe(0);
+    // Our command layout (README CLI reference): check and synth are `dataset` actions.
+    expect(r.out).toMatch(/parallax dataset\s/);
+    expect(r.out).not.toMatch(/parallax (check|synth)\s/);
+    for (const c of ['run', 'demo']) expect(r.out).toContain(`parallax ${c}`);
+  });
+});
+
 describe('exit codes and messages', () => {
   it('usage errors from yargs: one line, exit 2', async () => {
     for (const args of [['run', '--nope'], ['frobnicate'], []]) {

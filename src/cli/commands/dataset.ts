@@ -21,7 +21,7 @@ interface SynthArgs {
   quiet: boolean;
 }
 
-export const checkCommand: CommandModule<object, CheckArgs> = {
+const checkCommand: CommandModule<object, CheckArgs> = {
   command: 'check <dir>',
   describe: 'Check a dataset: manifest, files, sizes, truth range, share of invalid truth; one line per problem',
   builder: (y) =>
@@ -52,7 +52,7 @@ function intOption(name: string, v: number | undefined, min: number, max: number
   return v;
 }
 
-export const synthCommand: CommandModule<object, SynthArgs> = {
+const synthCommand: CommandModule<object, SynthArgs> = {
   command: 'synth',
   describe: 'Render the synthetic loading-dock dataset (images, truth, occlusion masks, dataset.json)',
   builder: (y) =>
@@ -82,3 +82,5 @@ export const datasetCommand: CommandModule = {
   builder: (y) => y.command(checkCommand).command(synthCommand).demandCommand(1, 'give an action: check or synth'),
   handler: () => undefined,
 };
+
+export default datasetCommand;
