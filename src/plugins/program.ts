@@ -20,7 +20,7 @@ import { mkdir, rm, writeFile } from 'node:fs/promises';
 import { tmpdir } from 'node:os';
 import { isAbsolute, join, resolve } from 'node:path';
 import type { ChildProcess } from 'node:child_process';
-import { AbortedError, MatcherFailure, isParallaxError } from '../core/errors.js';
+import { AbortedError, MatcherFailure, UsageError, isParallaxError } from '../core/errors.js';
 import { readDisparityFile } from '../io/files.js';
 import type { MatchInput, MatchOutput, MatcherPlugin, ParamValue, ParamValues } from './contract.js';
 import { formatParamValue } from './params.js';
@@ -412,6 +412,9 @@ export function programMatcher(
   const def = parseProgramMatcherDef(defIn);
   const graceMs = opts.killGraceMs ?? 2000;
   const cwd = resolve(baseDir, def.cwd ?? '.');
+  if (!existsSync(cwd) || !statSync(cwd).isDirectory()) {
+    throw new UsageError(`${def.id}.cwd`, `working folder ${cwd} does not exist`);
+  }
   const env: NodeJS.ProcessEnv = { ...process.env, ...(def.env ?? {}) };
   const server = def.mode === 'long-lived' ? new ProgramServer(def.id, cwd, env, graceMs) : undefined;
   let tmpDir: string | undefined;

@@ -221,6 +221,13 @@ describe('program definitions', () => {
     );
   });
 
+  it('refuse a working folder that does not exist', () => {
+    // Common practice: a setting error surfaces when the run is planned, naming the field.
+    expect(() => programMatcher({ ...perPairDef(), cwd: 'no-such-folder' }, tmp)).toThrow(
+      new UsageError('fake.cwd', `working folder ${join(tmp, 'no-such-folder')} does not exist`),
+    );
+  });
+
   it('hash the program file: the same script hashes the same, an edited one differently', () => {
     // Definition (brief): program file bytes plus the command line.
     const def = perPairDef();
