@@ -97,14 +97,21 @@ export function applySensor(
           g = spare;
           haveSpare = false;
         } else {
-          // splitmix32 step twice, then Box-Muller (1958).
-          state = (state + 0x9e3779b9) >>> 0;
-          const u1 = 1 - fmix32(state) / 4294967296;
-          state = (state + 0x9e3779b9) >>> 0;
-          const u2 = fmix32(state) / 4294967296;
-          const r = Math.sqrt(-2 * Math.log(u1));
-          g = r * Math.cos(2 * Math.PI * u2);
-          spare = r * Math.sin(2 * Math.PI * u2);
+          // Marsaglia & Bray's polar method (1964) on splitmix32 uniforms: exact normals,
+          // no trigonometry.
+          let a = 0;
+          let b = 0;
+          let q = 0;
+          do {
+            state = (state + 0x9e3779b9) >>> 0;
+            a = (fmix32(state) / 4294967296) * 2 - 1;
+            state = (state + 0x9e3779b9) >>> 0;
+            b = (fmix32(state) / 4294967296) * 2 - 1;
+            q = a * a + b * b;
+          } while (q >= 1 || q === 0);
+          const k = Math.sqrt((-2 * Math.log(q)) / q);
+          g = a * k;
+          spare = b * k;
           haveSpare = true;
         }
         e += sigma * g;

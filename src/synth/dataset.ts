@@ -1,0 +1,218 @@
+/**
+ * Writing synthetic datasets to disk in the manifest form of DESIGN.md:
+ *   <outDir>/dataset.json
+ *   <outDir>/<pair id>/left.png, right.png     8-bit RGB (dock) or gray (random dots)
+ *   <outDir>/<pair id>/truth.pfm               float32 left-referenced disparity
+ *   <outDir>/<pair id>/occluded.png            8-bit gray, 255 = not visible in the right view
+ * Pair files are written first and the manifest last (all atomically), so a folder with a
+ * manifest is complete.
+ */
+import { mkdir } from 'node:fs/promises';
+import { join } from 'node:path';
+import type { Camera } from '../core/camera.js';
+import { UsageError } from '../core/errors.js';
+import { encodePfm, encodePng, writeFileAtomic } from '../io/index.js';
+import { DOCK_TAGS, DOCK_VARIANTS, dockScene, type DockVariant } from './dock.js';
+import { randomDotPair } from './dots.js';
+import { hash32, subSeed } from './prng.js';
+import { renderPair, type StereoRender } from './render.js';
+import { cameraOf, rigForScene } from './rig.js';
+
+export const DEMO_NAME = 'dock-demo';
+export const DEMO_WIDTH = 480;
+export const DEMO_HEIGHT = 360;
+/** Largest demo image (the demo must render in seconds). */
+export const DEMO_MAX_WIDTH = 640;
+export const DEMO_MAX_HEIGHT = 480;
+/** Horizontal field of view and baseline of the dock rig. */
+export const DOCK_HFOV_DEG = 64;
+export const DOCK_BASELINE_M = 0.12;
+
+/** One pair of the demo set: a dock variant (with a seed offset) or the random-dot pair. */
+export interface DemoPairSpec {
+  readonly id: string;
+  readonly kind: DockVariant | 'dots';
+  readonly seedOffset: number;
+  readonly group: string;
+}
+
+/** The standard demo list: seven dock pairs and one random-dot pair. */
+export const DEMO_PAIRS: readonly DemoPairSpec[] = [
+  { id: 'crates-01', kind: 'crates', seedOffset: 0, group: 'crates' },
+  { id: 'crates-02', kind: 'crates', seedOffset: 1, group: 'crates' },
+  { id: 'wall-01', kind: 'bare-wall', seedOffset: 2, group: 'wall' },
+  { id: 'ramp-01', kind: 'ramp', seedOffset: 3, group: 'ramp' },
+  { id: 'posts-01', kind: 'posts', seedOffset: 4, group: 'posts' },
+  { id: 'shelving-01', kind: 'shelving', seedOffset: 5, group: 'shelving' },
+  { id: 'mismatch-01', kind: 'mismatch', seedOffset: 6, group: 'mismatch' },
+  { id: 'dots-01', kind: 'dots', seedOffset: 7, group: 'dots' },
+];
+
+export interface DemoOptions {
+  /** Base seed (default 1). */
+  seed?: number;
+  width?: number;
+  height?: number;
+  /**
+   * Number of pairs (default: the standard list of 8). Fewer takes the first ones of the
+   * list; more adds dock pairs of variants drawn from the seed (ids `extra-NN`).
+   */
+  pairs?: number;
+  /** Samples per pixel side (default 3, i.e. 3x3). */
+  samples?: number;
+  onProgress?: (done: number, total: number) => void;
+}
+
+export interface SyntheticOptions {
+  count: number;
+  seed: number;
+  width: number;
+  height: number;
+  name: string;
+  samples?: number;
+  onProgress?: (done: number, total: number) => void;
+}
+
+interface ManifestPair {
+  id: string;
+  left: string;
+  right: string;
+  truth: string;
+  occlusion: string;
+  tags: string[];
+  group: string;
+  camera?: Camera;
+}
+
+function checkSize(width: number, height: number, maxW: number, maxH: number, what: string): void {
+  if (!(Number.isInteger(width) && width >= 16 && width <= maxW)) {
+    throw new UsageError('width', `${what} width must be an integer in 16..${maxW}, got ${width}`);
+  }
+  if (!(Number.isInteger(height) && height >= 16 && height <= maxH)) {
+    throw new UsageError('height', `${what} height must be an integer in 16..${maxH}, got ${height}`);
+  }
+}
+
+/** Write one rendered pair's four files under outDir/id/. */
+async function writePairFiles(outDir: string, id: string, r: StereoRender): Promise<void> {
+  const dir = join(outDir, id);
+  await mkdir(dir, { recursive: true });
+  const occ = new Uint8Array(r.width * r.height);
+  for (let i = 0; i < occ.length; i++) occ[i] = r.occlusion[i] ? 255 : 0;
+  await writeFileAtomic(join(dir, 'left.png'), encodePng(r.left));
+  await writeFileAtomic(join(dir, 'right.png'), encodePng(r.right));
+  await writeFileAtomic(join(dir, 'truth.pfm'), encodePfm({ width: r.width, height: r.height, data: r.truth }));
+  await writeFileAtomic(join(dir, 'occluded.png'), encodePng({ width: r.width, height: r.height, channels: 1, bitDepth: 8, data: occ }));
+}
+
+function pairEntry(id: string, tags: readonly string[], group: string, camera?: Camera): ManifestPair {
+  const e: ManifestPair = {
+    id,
+    left: `${id}/left.png`,
+    right: `${id}/right.png`,
+    truth: `${id}/truth.pfm`,
+    occlusion: `${id}/occluded.png`,
+    tags: [...tags],
+    group,
+  };
+  if (camera) e.camera = camera;
+  return e;
+}
+
+/** Track the truth's extent for the manifest's disparityRange. */
+function extent(truth: Float32Array, acc: { min: number; max: number }): void {
+  for (let i = 0; i < truth.length; i++) {
+    const d = truth[i]!;
+    if (d < acc.min) acc.min = d;
+    if (d > acc.max) acc.max = d;
+  }
+}
+
+/** [min, max] covering all truth: min floored (0 if no truth is negative), max rounded up to a multiple of 16. */
+export function rangeCovering(min: number, max: number): [number, number] {
+  const lo = min >= 0 ? 0 : Math.floor(min);
+  const hi = Math.max(16, Math.ceil((Math.max(max, 0) + 1e-6) / 16) * 16);
+  return [lo, hi];
+}
+
+/** Write the bundled demo dataset (`dock-demo`) into outDir. */
+export async function writeDemoDataset(outDir: string, opts: DemoOptions = {}): Promise<void> {
+  const seed = (opts.seed ?? 1) >>> 0;
+  const width = opts.width ?? DEMO_WIDTH;
+  const height = opts.height ?? DEMO_HEIGHT;
+  checkSize(width, height, DEMO_MAX_WIDTH, DEMO_MAX_HEIGHT, 'demo image');
+  const count = opts.pairs ?? DEMO_PAIRS.length;
+  if (!(Number.isInteger(count) && count >= 1 && count <= 1000)) {
+    throw new UsageError('pairs', `number of demo pairs must be an integer in 1..1000, got ${count}`);
+  }
+  const specs: DemoPairSpec[] = DEMO_PAIRS.slice(0, count);
+  for (let i = DEMO_PAIRS.length; i < count; i++) {
+    const kind = DOCK_VARIANTS[hash32(i, 0, 0, seed) % DOCK_VARIANTS.length]!;
+    specs.push({ id: `extra-${String(i + 1).padStart(2, '0')}`, kind, seedOffset: i, group: kind });
+  }
+  await mkdir(outDir, { recursive: true });
+  const pairs: ManifestPair[] = [];
+  const acc = { min: Infinity, max: -Infinity };
+  let camera: Camera | undefined;
+  const samples = opts.samples ?? 3;
+  for (let i = 0; i < specs.length; i++) {
+    const s = specs[i]!;
+    const pairSeed = subSeed(seed, 1000 + s.seedOffset);
+    let r: StereoRender;
+    if (s.kind === 'dots') {
+      r = randomDotPair({ width, height, seed: pairSeed, noiseSigma: 1 });
+      pairs.push(pairEntry(s.id, ['random-dots'], s.group, r.camera));
+    } else {
+      const scene = dockScene(s.kind, pairSeed);
+      const rig = rigForScene(scene, { width, height, hfovDeg: DOCK_HFOV_DEG, baselineM: DOCK_BASELINE_M });
+      camera = cameraOf(rig);
+      r = renderPair(scene, rig, { seed: subSeed(pairSeed, 9), samples });
+      pairs.push(pairEntry(s.id, DOCK_TAGS[s.kind], s.group));
+    }
+    extent(r.truth, acc);
+    await writePairFiles(outDir, s.id, r);
+    opts.onProgress?.(i + 1, specs.length);
+  }
+  const manifest = {
+    name: DEMO_NAME,
+    description: 'Synthetic loading dock seen by a warehouse vehicle stereo camera, plus a random-dot pair (generated by parallax).',
+    ...(camera ? { camera } : {}),
+    disparityRange: rangeCovering(acc.min, acc.max),
+    pairs,
+  };
+  await writeFileAtomic(join(outDir, 'dataset.json'), JSON.stringify(manifest, null, 2) + '\n');
+}
+
+/** Write `count` dock pairs of variants drawn from the seed (bulk sets, held-out seeds). */
+export async function writeSyntheticDataset(outDir: string, opts: SyntheticOptions): Promise<void> {
+  const { count, width, height, name } = opts;
+  const seed = opts.seed >>> 0;
+  if (!(Number.isInteger(count) && count >= 1)) throw new UsageError('count', `must be a positive integer, got ${count}`);
+  checkSize(width, height, 4096, 4096, 'synthetic image');
+  const digits = Math.max(4, String(count).length);
+  await mkdir(outDir, { recursive: true });
+  const pairs: ManifestPair[] = [];
+  const acc = { min: Infinity, max: -Infinity };
+  let camera: Camera | undefined;
+  for (let i = 0; i < count; i++) {
+    const pairSeed = subSeed(seed, 5000 + i);
+    const variant = DOCK_VARIANTS[hash32(i, 1, 0, seed) % DOCK_VARIANTS.length]!;
+    const scene = dockScene(variant, pairSeed);
+    const rig = rigForScene(scene, { width, height, hfovDeg: DOCK_HFOV_DEG, baselineM: DOCK_BASELINE_M });
+    camera = cameraOf(rig);
+    const r = renderPair(scene, rig, { seed: subSeed(pairSeed, 9), samples: opts.samples ?? 3 });
+    const id = `syn-${String(i).padStart(digits, '0')}`;
+    extent(r.truth, acc);
+    await writePairFiles(outDir, id, r);
+    pairs.push(pairEntry(id, DOCK_TAGS[variant], variant));
+    opts.onProgress?.(i + 1, count);
+  }
+  const manifest = {
+    name,
+    description: `Synthetic loading-dock pairs, seed ${seed} (generated by parallax).`,
+    ...(camera ? { camera } : {}),
+    disparityRange: rangeCovering(acc.min, acc.max),
+    pairs,
+  };
+  await writeFileAtomic(join(outDir, 'dataset.json'), JSON.stringify(manifest, null, 2) + '\n');
+}
