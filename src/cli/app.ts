@@ -49,6 +49,7 @@ export async function buildParser(argv: string[]): Promise<Argv> {
     .help()
     .alias('h', 'help')
     .strict()
+    .exitProcess(false) // main.ts exits once stdout is flushed
     .demandCommand(1, 'give a command')
     .wrap(Math.min(110, process.stdout.columns || 100))
     .fail((msg, err) => {

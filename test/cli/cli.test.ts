@@ -24,11 +24,16 @@ async function cli(args: string[]): Promise<{ code: number; err: string; out: st
     out += String(chunk);
     return true;
   });
+  // yargs prints help through console.log
+  const logSpy = vi.spyOn(console, 'log').mockImplementation((...a: unknown[]) => {
+    out += a.map(String).join(' ') + '\n';
+  });
   try {
     const code = await runCli(args, { stderr: (t) => void (err += t) });
     return { code, err, out };
   } finally {
     spy.mockRestore();
+    logSpy.mockRestore();
   }
 }
 
