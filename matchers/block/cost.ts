@@ -35,6 +35,7 @@ export interface BlockScratch {
   readonly sumJ: Float64Array | null;
   readonly sumJ2: Float64Array | null;
   readonly sumIJ: Float64Array | null;
+  readonly pix2: Float64Array | null;
 }
 
 /** Buffers reused across disparities; for zncc also the left image's box sums. */
@@ -49,7 +50,7 @@ export function createBlockScratch(
   const pix = new Float64Array(n);
   const tmp = new Float64Array(n);
   if (kind !== 'zncc') {
-    return { kind, width, height, radius, pix, tmp, sumI: null, sumI2: null, sumJ: null, sumJ2: null, sumIJ: null };
+    return { kind, width, height, radius, pix, tmp, sumI: null, sumI2: null, sumJ: null, sumJ2: null, sumIJ: null, pix2: null };
   }
   const sumI = new Float64Array(n);
   const sumI2 = new Float64Array(n);
@@ -69,6 +70,7 @@ export function createBlockScratch(
     sumJ: new Float64Array(n),
     sumJ2: new Float64Array(n),
     sumIJ: new Float64Array(n),
+    pix2: new Float64Array(n),
   };
 }
 
@@ -90,6 +92,18 @@ export function blockCostSlice(
   else out.set(s.pix);
 }
 
+/**
+ * Columns of a row at disparity d: [0, lo) match right x < 0 (clamped to 0), [lo, hi)
+ * match inside, [hi, width) match right x > width - 1 (clamped). Splitting the row
+ * keeps index clamping out of the hot loop.
+ */
+function splitRow(width: number, d: number): { lo: number; hi: number } {
+  const lo = d <= 0 ? 0 : d >= width ? width : d;
+  let hi = width + d;
+  hi = hi < lo ? lo : hi > width ? width : hi;
+  return { lo, hi };
+}
+
 function absDiffSlice(
   left: Float32Array,
   right: Float32Array,
@@ -98,14 +112,15 @@ function absDiffSlice(
   d: number,
   pix: Float64Array,
 ): void {
-  const xmax = width - 1;
+  const { lo, hi } = splitRow(width, d);
   for (let y = 0; y < height; y++) {
     const row = y * width;
-    for (let x = 0; x < width; x++) {
-      const xr = x - d;
-      const v = left[row + x] - right[row + (xr < 0 ? 0 : xr > xmax ? xmax : xr)];
-      pix[row + x] = v < 0 ? -v : v;
-    }
+    const r0 = right[row];
+    const r1 = right[row + width - 1];
+    const off = row - d;
+    for (let x = 0; x < lo; x++) pix[row + x] = Math.abs(left[row + x] - r0);
+    for (let x = lo; x < hi; x++) pix[row + x] = Math.abs(left[row + x] - right[off + x]);
+    for (let x = hi; x < width; x++) pix[row + x] = Math.abs(left[row + x] - r1);
   }
 }
 
@@ -117,13 +132,55 @@ function sqDiffSlice(
   d: number,
   pix: Float64Array,
 ): void {
-  const xmax = width - 1;
+  const { lo, hi } = splitRow(width, d);
   for (let y = 0; y < height; y++) {
     const row = y * width;
-    for (let x = 0; x < width; x++) {
-      const xr = x - d;
-      const v = left[row + x] - right[row + (xr < 0 ? 0 : xr > xmax ? xmax : xr)];
+    const r0 = right[row];
+    const r1 = right[row + width - 1];
+    const off = row - d;
+    for (let x = 0; x < lo; x++) {
+      const v = left[row + x] - r0;
       pix[row + x] = v * v;
+    }
+    for (let x = lo; x < hi; x++) {
+      const v = left[row + x] - right[off + x];
+      pix[row + x] = v * v;
+    }
+    for (let x = hi; x < width; x++) {
+      const v = left[row + x] - r1;
+      pix[row + x] = v * v;
+    }
+  }
+}
+
+/** pix = J (the right image shifted by d, clamped), and pix2 = I * J. */
+function shiftedRight(
+  left: Float32Array,
+  right: Float32Array,
+  width: number,
+  height: number,
+  d: number,
+  pix: Float64Array,
+  pix2: Float64Array,
+): void {
+  const { lo, hi } = splitRow(width, d);
+  for (let y = 0; y < height; y++) {
+    const row = y * width;
+    const r0 = right[row];
+    const r1 = right[row + width - 1];
+    const off = row - d;
+    for (let x = 0; x < lo; x++) {
+      pix[row + x] = r0;
+      pix2[row + x] = left[row + x] * r0;
+    }
+    for (let x = lo; x < hi; x++) {
+      const j = right[off + x];
+      pix[row + x] = j;
+      pix2[row + x] = left[row + x] * j;
+    }
+    for (let x = hi; x < width; x++) {
+      pix[row + x] = r1;
+      pix2[row + x] = left[row + x] * r1;
     }
   }
 }
@@ -132,7 +189,6 @@ function znccSlice(s: BlockScratch, left: Float32Array, right: Float32Array, d: 
   const width = s.width;
   const height = s.height;
   const n = width * height;
-  const xmax = width - 1;
   const pix = s.pix;
   const sumJ = s.sumJ!;
   const sumJ2 = s.sumJ2!;
@@ -140,25 +196,12 @@ function znccSlice(s: BlockScratch, left: Float32Array, right: Float32Array, d: 
   const sumI = s.sumI!;
   const sumI2 = s.sumI2!;
   const r = s.radius;
-  // J
-  for (let y = 0; y < height; y++) {
-    const row = y * width;
-    for (let x = 0; x < width; x++) {
-      const xr = x - d;
-      pix[row + x] = right[row + (xr < 0 ? 0 : xr > xmax ? xmax : xr)];
-    }
-  }
+  // J and I*J first; then J^2 in place of J once J's box sum is taken.
+  shiftedRight(left, right, width, height, d, pix, s.pix2!);
   boxSum(pix, sumJ, width, height, r, s.tmp);
+  boxSum(s.pix2!, sumIJ, width, height, r, s.tmp);
   for (let p = 0; p < n; p++) pix[p] = pix[p] * pix[p];
   boxSum(pix, sumJ2, width, height, r, s.tmp);
-  for (let y = 0; y < height; y++) {
-    const row = y * width;
-    for (let x = 0; x < width; x++) {
-      const xr = x - d;
-      pix[row + x] = left[row + x] * right[row + (xr < 0 ? 0 : xr > xmax ? xmax : xr)];
-    }
-  }
-  boxSum(pix, sumIJ, width, height, r, s.tmp);
   const side = 2 * r + 1;
   const N = side * side;
   const flat = FLAT_VARIANCE * N * N;

@@ -7,7 +7,7 @@
 import type { MatcherPlugin, MatchInput, ParamValues } from '../../src/plugins/contract.js';
 import { POSTPROCESS_PARAMS, readPostprocess } from '../kernels/postprocess.js';
 import { checkInputSizes, disparityLevels } from '../kernels/range.js';
-import { matchBySlices } from '../kernels/slices.js';
+import { copyRows, matchBySlices, type SliceFn, type StripSource } from '../kernels/slices.js';
 import { BLOCK_COSTS, blockCostSlice, createBlockScratch, type BlockCostKind } from './cost.js';
 
 export interface BlockOptions {
@@ -25,17 +25,33 @@ export function readBlockOptions(params: ParamValues): BlockOptions {
   };
 }
 
-/** The block matcher as a plain function (the plugin's match). */
-export function blockMatch(input: MatchInput, params: ParamValues, signal?: AbortSignal): Float32Array {
+/** The block matcher as a plain function (the plugin's match); stripRows is for tests (see kernels/slices.ts). */
+export function blockMatch(
+  input: MatchInput,
+  params: ParamValues,
+  signal?: AbortSignal,
+  stripRows?: number,
+): Float32Array {
   const { width, height, left, right } = input;
   checkInputSizes(width, height, left, right);
   const { minDisparity, levels } = disparityLevels(input.minDisparity, input.maxDisparity);
   const opts = readBlockOptions(params);
   const post = readPostprocess(params);
-  const scratch = createBlockScratch(opts.cost, left, width, height, (opts.window - 1) >> 1);
-  return matchBySlices(width, height, minDisparity, levels, post, signal, (d, out) =>
-    blockCostSlice(scratch, left, right, d, out),
-  );
+  const radius = (opts.window - 1) >> 1;
+  return matchBySlices(width, height, minDisparity, levels, post, signal, blockSource(opts.cost, radius, input), stripRows);
+}
+
+/** Strip source for matchBySlices: strip images and scratch buffers, then one cost slice per call. */
+function blockSource(kind: BlockCostKind, radius: number, input: MatchInput): StripSource {
+  return {
+    halo: radius,
+    strip(rows: Int32Array): SliceFn {
+      const sl = copyRows(input.left, input.width, rows);
+      const sr = copyRows(input.right, input.width, rows);
+      const scratch = createBlockScratch(kind, sl, input.width, rows.length, radius);
+      return (d, out) => blockCostSlice(scratch, sl, sr, d, out);
+    },
+  };
 }
 
 export const blockMatcher: MatcherPlugin = {

@@ -9,7 +9,7 @@ import { boxSum } from '../kernels/box.js';
 import { censusTransform, hammingSlice } from '../kernels/census.js';
 import { POSTPROCESS_PARAMS, readPostprocess } from '../kernels/postprocess.js';
 import { checkInputSizes, disparityLevels } from '../kernels/range.js';
-import { matchBySlices } from '../kernels/slices.js';
+import { copyRowsU32, matchBySlices, type SliceFn, type StripSource } from '../kernels/slices.js';
 
 export interface CensusOptions {
   /** Census window width and height (odd). */
@@ -27,8 +27,13 @@ export function readCensusOptions(params: ParamValues): CensusOptions {
   return { censusW: n('censusW', 9), censusH: n('censusH', 7), window: n('window', 5) };
 }
 
-/** The census matcher as a plain function (the plugin's match). */
-export function censusMatch(input: MatchInput, params: ParamValues, signal?: AbortSignal): Float32Array {
+/** The census matcher as a plain function (the plugin's match); stripRows is for tests (see kernels/slices.ts). */
+export function censusMatch(
+  input: MatchInput,
+  params: ParamValues,
+  signal?: AbortSignal,
+  stripRows?: number,
+): Float32Array {
   const { width, height, left, right } = input;
   checkInputSizes(width, height, left, right);
   const { minDisparity, levels } = disparityLevels(input.minDisparity, input.maxDisparity);
@@ -37,17 +42,24 @@ export function censusMatch(input: MatchInput, params: ParamValues, signal?: Abo
   const cl = censusTransform(left, width, height, opts.censusW, opts.censusH);
   const cr = censusTransform(right, width, height, opts.censusW, opts.censusH);
   const radius = (opts.window - 1) >> 1;
-  const n = width * height;
-  const ham = radius > 0 ? new Float64Array(n) : null;
-  const tmp = radius > 0 ? new Float64Array(n) : null;
-  return matchBySlices(width, height, minDisparity, levels, post, signal, (d, out) => {
-    if (ham === null || tmp === null) {
-      hammingSlice(cl.bits, cr.bits, cl.words, width, height, d, out);
-    } else {
-      hammingSlice(cl.bits, cr.bits, cl.words, width, height, d, ham);
-      boxSum(ham, out, width, height, radius, tmp);
-    }
-  });
+  // The census strings of the whole image, once; strips copy their rows (replicated at
+  // the top and bottom), so aggregation over a strip equals aggregation over the image.
+  const source: StripSource = {
+    halo: radius,
+    strip(rows: Int32Array): SliceFn {
+      const sh = rows.length;
+      const bl = copyRowsU32(cl.bits, width, cl.words, rows);
+      const br = copyRowsU32(cr.bits, width, cr.words, rows);
+      if (radius === 0) return (d, out) => hammingSlice(bl, br, cl.words, width, sh, d, out);
+      const ham = new Float64Array(width * sh);
+      const tmp = new Float64Array(width * sh);
+      return (d, out) => {
+        hammingSlice(bl, br, cl.words, width, sh, d, ham);
+        boxSum(ham, out, width, sh, radius, tmp);
+      };
+    },
+  };
+  return matchBySlices(width, height, minDisparity, levels, post, signal, source, stripRows);
 }
 
 export const censusMatcher: MatcherPlugin = {

@@ -29,8 +29,19 @@ export function boxSum(
     let s = 0;
     for (let i = -r; i <= r; i++) s += src[row + (i < 0 ? 0 : i > xmax ? xmax : i)];
     tmp[row] = s;
-    // Interior split: adding index x+r and removing x-r-1, each clamped.
-    for (let x = 1; x < width; x++) {
+    // Step x: add index x + r, remove index x - r - 1, each clamped. The loop is split
+    // so the long middle part needs no clamping (clamps in the hot loop cost ~3x).
+    const first = src[row];
+    let x = 1;
+    for (; x < width && x - r - 1 < 0 && x + r <= xmax; x++) {
+      s += src[row + x + r] - first;
+      tmp[row + x] = s;
+    }
+    for (; x < width && x + r <= xmax; x++) {
+      s += src[row + x + r] - src[row + x - r - 1];
+      tmp[row + x] = s;
+    }
+    for (; x < width; x++) {
       const a = x + r;
       const b = x - r - 1;
       s += src[row + (a > xmax ? xmax : a)] - src[row + (b < 0 ? 0 : b)];

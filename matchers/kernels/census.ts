@@ -138,12 +138,91 @@ export function hammingSlice(
   d: number,
   out: Float64Array,
 ): void {
-  const xmax = width - 1;
+  if (words === 1) hammingSlice1(bitsL, bitsR, width, height, d, out);
+  else if (words === 2) hammingSlice2(bitsL, bitsR, width, height, d, out);
+  else hammingSliceN(bitsL, bitsR, words, width, height, d, out);
+}
+
+/** Columns [0, lo) clamp to right x 0, [lo, hi) are inside, [hi, width) clamp to width - 1. */
+function inside(width: number, d: number): number {
+  return d <= 0 ? 0 : d >= width ? width : d;
+}
+function insideEnd(width: number, d: number, lo: number): number {
+  const hi = width + d;
+  return hi < lo ? lo : hi > width ? width : hi;
+}
+
+// One word per pixel (windows up to 33 pixels, e.g. 5x5): no inner loop.
+function hammingSlice1(
+  bitsL: Uint32Array,
+  bitsR: Uint32Array,
+  width: number,
+  height: number,
+  d: number,
+  out: Float64Array,
+): void {
+  const lo = inside(width, d);
+  const hi = insideEnd(width, d, lo);
+  for (let y = 0; y < height; y++) {
+    const row = y * width;
+    const r0 = bitsR[row];
+    const r1 = bitsR[row + width - 1];
+    for (let x = 0; x < width; x++) {
+      const rv = x < lo ? r0 : x >= hi ? r1 : bitsR[row + x - d];
+      let v = bitsL[row + x] ^ rv;
+      v = v - ((v >>> 1) & 0x55555555);
+      v = (v & 0x33333333) + ((v >>> 2) & 0x33333333);
+      v = (v + (v >>> 4)) & 0x0f0f0f0f;
+      out[row + x] = Math.imul(v, 0x01010101) >>> 24;
+    }
+  }
+}
+
+// Two words per pixel (windows up to 65 pixels, e.g. 7x7 and 9x7).
+function hammingSlice2(
+  bitsL: Uint32Array,
+  bitsR: Uint32Array,
+  width: number,
+  height: number,
+  d: number,
+  out: Float64Array,
+): void {
+  const lo = inside(width, d);
+  const hi = insideEnd(width, d, lo);
   for (let y = 0; y < height; y++) {
     const row = y * width;
     for (let x = 0; x < width; x++) {
-      let xr = x - d;
-      xr = xr < 0 ? 0 : xr > xmax ? xmax : xr;
+      const xr = x < lo ? 0 : x >= hi ? width - 1 : x - d;
+      const pl = (row + x) << 1;
+      const pr = (row + xr) << 1;
+      let v = bitsL[pl] ^ bitsR[pr];
+      v = v - ((v >>> 1) & 0x55555555);
+      v = (v & 0x33333333) + ((v >>> 2) & 0x33333333);
+      v = (v + (v >>> 4)) & 0x0f0f0f0f;
+      let u = bitsL[pl + 1] ^ bitsR[pr + 1];
+      u = u - ((u >>> 1) & 0x55555555);
+      u = (u & 0x33333333) + ((u >>> 2) & 0x33333333);
+      u = (u + (u >>> 4)) & 0x0f0f0f0f;
+      out[row + x] = (Math.imul(v, 0x01010101) >>> 24) + (Math.imul(u, 0x01010101) >>> 24);
+    }
+  }
+}
+
+function hammingSliceN(
+  bitsL: Uint32Array,
+  bitsR: Uint32Array,
+  words: number,
+  width: number,
+  height: number,
+  d: number,
+  out: Float64Array,
+): void {
+  const lo = inside(width, d);
+  const hi = insideEnd(width, d, lo);
+  for (let y = 0; y < height; y++) {
+    const row = y * width;
+    for (let x = 0; x < width; x++) {
+      const xr = x < lo ? 0 : x >= hi ? width - 1 : x - d;
       let pl = (row + x) * words;
       let pr = (row + xr) * words;
       let h = 0;

@@ -27,7 +27,8 @@
  *   Streaming form, for matchers that make one cost slice per disparity and never
  *   hold the volume (block, census):
  *     createSliceWta(width, height, levels, minDisparity, opts: WtaOptions & { right?: boolean }): SliceWta
- *     sliceWtaAdd(state, cost: Float64Array): void     next level's slice, levels in order 0..levels-1
+ *     sliceWtaAdd(state, cost: Float64Array): void     next level's slice, levels in order 0..levels-1;
+                                                     keeps a reference to cost until the next call
  *     sliceWtaFinish(state): { left: Float32Array; right: Float32Array | null }
  *   The slice holds the cost of left pixel p at that level (index y * width + x); values
  *   of excluded pixels (x - d outside the right image) are ignored. Results equal wta()
@@ -270,8 +271,8 @@ export interface SliceWta {
   /** Cost at bestLevel - 1 and bestLevel + 1 (Infinity = none). */
   readonly minus: Float64Array;
   readonly plus: Float64Array;
-  /** Previous slice. */
-  readonly prev: Float64Array;
+  /** Previous slice (a reference to the caller's buffer, not a copy). */
+  prev: Float64Array;
   /** Uniqueness: min over valid levels <= current - 2, and the best non-adjacent cost. */
   readonly lag: Float64Array | null;
   readonly second: Float64Array | null;
@@ -303,7 +304,7 @@ export function createSliceWta(
     bestLevel,
     minus: new Float64Array(n).fill(Infinity),
     plus: new Float64Array(n).fill(Infinity),
-    prev: new Float64Array(n),
+    prev: new Float64Array(0),
     lag: u > 0 ? new Float64Array(n).fill(Infinity) : null,
     second: u > 0 ? new Float64Array(n).fill(Infinity) : null,
     bestR: opts.right ? new Float64Array(n).fill(Infinity) : null,
@@ -311,7 +312,11 @@ export function createSliceWta(
   };
 }
 
-/** Feeds the next level's cost slice (Float64Array, one value per left pixel). */
+/**
+ * Feeds the next level's cost slice (Float64Array, one value per left pixel).
+ * The state keeps a reference to `cost` (no copy) until the next call: alternate two
+ * buffers rather than overwriting this one for the next level.
+ */
 export function sliceWtaAdd(s: SliceWta, cost: Float64Array): void {
   const l = s.level;
   if (l >= s.levels) throw new RangeError('sliceWtaAdd: more slices than levels');
@@ -363,7 +368,7 @@ export function sliceWtaAdd(s: SliceWta, cost: Float64Array): void {
       }
     }
   }
-  prev.set(cost);
+  s.prev = cost;
   s.level = l + 1;
 }
 

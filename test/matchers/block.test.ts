@@ -250,3 +250,16 @@ describe('block matcher: range, excluded candidates, abort, schema', () => {
     }
   });
 });
+
+describe('strips (kernels/slices.ts)', () => {
+  it('give exactly the whole-image result for any strip height (halo rows replicate the image borders)', () => {
+    // Reference: the same matcher run as one strip covering the image (stripRows = height).
+    const s = randomDotStereogram(48, 37, 2, 6, 13);
+    const input = { width: 48, height: 37, left: s.left, right: s.right, minDisparity: -1, maxDisparity: 9 };
+    for (const cost of ['sad', 'zncc'] as const) {
+      const params = { cost, window: 7, uniq: 5, lr: 1 };
+      const whole = list(blockMatch(input, params, undefined, 37));
+      for (const rows of [1, 5, 16, 36]) expect(list(blockMatch(input, params, undefined, rows))).toEqual(whole);
+    }
+  });
+});

@@ -167,8 +167,9 @@ describe('volume and streaming WTA against a naive argmin', () => {
         expect(Array.from(wtaRight(vol16, w, h, levels, minD))).toEqual(Array.from(refR));
         // Streaming: slices carry garbage (-1000) at excluded pixels, which must be ignored.
         const s = createSliceWta(w, h, levels, minD, { subpix: true, uniqueness: uniq, right: true });
-        const slice = new Float64Array(n);
+        const bufs = [new Float64Array(n), new Float64Array(n)];
         for (let l = 0; l < levels; l++) {
+          const slice = bufs[l & 1]; // the state keeps the previous slice by reference
           for (let p = 0; p < n; p++) {
             const xr = (p % w) - (minD + l);
             slice[p] = xr >= 0 && xr < w ? raw[p * levels + l] : -1000;
