@@ -33,7 +33,7 @@ export const DOCK_TAGS: Readonly<Record<DockVariant, readonly string[]>> = {
 /** The default sensor of the dock cameras: display gamma, a little read noise. */
 export const DOCK_SENSOR: SensorModel = { gain: 1, offset: 0, gamma: 2.2, noiseSigma: 1 };
 /** The right camera of the `mismatch` variant: brighter, lifted blacks, other gamma. */
-export const MISMATCH_RIGHT_SENSOR: SensorModel = { gain: 1.3, offset: 0.02, gamma: 1.8, noiseSigma: 1.5 };
+export const MISMATCH_RIGHT_SENSOR: SensorModel = { gain: 1.35, offset: 0.03, gamma: 2.0, noiseSigma: 1.5 };
 
 interface Build {
   readonly rng: Prng;
