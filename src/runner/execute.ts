@@ -44,7 +44,7 @@ export interface JobOutcome {
   disparity: Float32Array | null;
 }
 
-function matchInput(pair: LoadedPair): MatchInput {
+export function matchInput(pair: LoadedPair, threads = 1): MatchInput {
   // Copies: a matcher that writes into its input cannot affect the next one.
   return {
     width: pair.width,
@@ -56,7 +56,7 @@ function matchInput(pair: LoadedPair): MatchInput {
     minDisparity: pair.disparityRange[0],
     maxDisparity: pair.disparityRange[1],
     source: { pairId: pair.id, left: pair.files.left, right: pair.files.right },
-    threads: 1,
+    threads,
   };
 }
 
@@ -64,8 +64,9 @@ async function runMatcher(
   cfg: MatcherRunConfig,
   pair: LoadedPair,
   signal: AbortSignal,
+  threads = 1,
 ): Promise<{ disparity: Float32Array | null; error?: string; timeMs: number | null; peakMb: number | null }> {
-  const input = matchInput(pair);
+  const input = matchInput(pair, threads);
   const sampler = startPeakSampler();
   const t0 = performance.now();
   let out: unknown;
@@ -96,6 +97,7 @@ export async function runJob(
   regions: RegionMap,
   thresholds: readonly number[],
   signal: AbortSignal,
+  threads = 1,
 ): Promise<JobOutcome> {
   if (signal.aborted) throw new AbortedError();
   let disparity: Float32Array | null = null;
@@ -103,7 +105,7 @@ export async function runJob(
   let timeMs: number | null = null;
   let peakMb: number | null = null;
   if (cfg.kind === 'matcher') {
-    const r = await runMatcher(cfg, pair, signal);
+    const r = await runMatcher(cfg, pair, signal, threads);
     disparity = r.disparity;
     error = r.error;
     timeMs = r.timeMs === null ? null : Math.round(r.timeMs * 1000) / 1000;
@@ -115,6 +117,18 @@ export async function runJob(
       error = oneLineError(e);
     }
   }
+  return scoredOutcome(cfg, pair, regions, thresholds, { disparity, ...(error !== undefined ? { error } : {}), timeMs, peakMb });
+}
+
+/** Added: score a matcher's output obtained elsewhere (a worker thread, the result cache). */
+export function scoredOutcome(
+  cfg: RunConfig,
+  pair: LoadedPair,
+  regions: RegionMap,
+  thresholds: readonly number[],
+  got: { disparity: Float32Array | null; error?: string; timeMs: number | null; peakMb: number | null; cached?: boolean },
+): JobOutcome {
+  const { disparity, error, timeMs, peakMb } = got;
   const scores = scorePair(disparity, pair.truth.data, regions, {
     thresholds,
     ...(pair.camera ? { camera: pair.camera } : {}),
@@ -129,6 +143,7 @@ export async function runJob(
     ...(error !== undefined ? { error } : {}),
     time_ms: timeMs,
     peak_mb: peakMb,
+    ...(got.cached ? { cached: true } : {}),
     scores,
     thresholds: [...thresholds],
     ...(pair.group !== undefined ? { group: pair.group } : {}),

@@ -3,7 +3,7 @@
  * finishes. Each line is written whole with one synchronous append, so an interrupted
  * run leaves only complete lines (and at worst one torn last line, which the reader skips).
  */
-import { appendFileSync, existsSync, readFileSync, writeFileSync } from 'node:fs';
+import { appendFileSync, existsSync, readFileSync, truncateSync, writeFileSync } from 'node:fs';
 import { InputError } from '../core/errors.js';
 import type { JobResult } from '../core/score.js';
 
@@ -44,4 +44,20 @@ export function parseJournal(text: string, file: string): JobResult[] {
 export function readJournal(path: string): JobResult[] {
   if (!existsSync(path)) return [];
   return parseJournal(readFileSync(path, 'utf8'), path);
+}
+
+/**
+ * Added for --resume: read a journal and cut away a torn last line (a write that a
+ * kill interrupted), so that appends continue on a line boundary. Returns the whole
+ * lines' results; a missing file becomes an empty journal.
+ */
+export function recoverJournal(path: string): JobResult[] {
+  if (!existsSync(path)) {
+    writeFileSync(path, '');
+    return [];
+  }
+  const buf = readFileSync(path);
+  const end = buf.lastIndexOf(0x0a) + 1; // just after the last newline (0 when there is none)
+  if (end !== buf.length) truncateSync(path, end);
+  return parseJournal(buf.subarray(0, end).toString('utf8'), path);
 }

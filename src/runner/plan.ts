@@ -9,7 +9,8 @@ import type { RegionParams } from '../core/regions.js';
 import { datasetHash } from '../dataset/hash.js';
 import { loadManifest, sortedPairs, type Manifest } from '../dataset/manifest.js';
 import type { MatcherPlugin } from '../plugins/contract.js';
-import { resolveMatcherEntries, resolveMatchers, type MatcherConfig } from '../plugins/registry.js';
+import { resolveMatcherEntries, resolveMatchers, type MatcherConfig, type MatcherSource } from '../plugins/registry.js';
+import type { ScaleOptions } from './scale.js';
 import { safeRunName, type RunSettings } from './experiment.js';
 import { enumerateJobs, type JobKey } from './jobs.js';
 import { checkPredictionSource, type PredictionSource } from './predictions.js';
@@ -23,6 +24,8 @@ export interface MatcherRunConfig {
   readonly codeHash: string;
   readonly version: string;
   readonly plugin: MatcherPlugin;
+  /** Added: how to rebuild the plugin in a worker thread (registry's pluginFromSource). */
+  readonly source?: MatcherSource;
 }
 
 /** Imported predictions, scored like a matcher (matcherId `predictions`). */
@@ -53,6 +56,10 @@ export interface RunPlan {
   readonly regions: RegionParams;
   /** Every job, sorted (see jobs.ts). */
   readonly jobs: readonly JobKey[];
+  /** Added: the settings the plan was made from (kept in run.json for --resume). */
+  readonly settings?: RunSettings;
+  /** Added: worker pool, resume, cache and shard options (see scale.ts); absent = sequential, no cache. */
+  readonly scale?: ScaleOptions;
 }
 
 /** Resolve every matcher spec of the settings to configurations. */
@@ -67,6 +74,7 @@ export async function resolveConfigs(settings: RunSettings): Promise<RunConfig[]
       codeHash: c.codeHash,
       version: c.plugin.version,
       plugin: c.plugin,
+      source: c.source,
     });
   };
   if (settings.matcherEntries.length) {
@@ -115,5 +123,5 @@ export async function planRun(settings: RunSettings, cwd = process.cwd()): Promi
     datasets.map((d) => ({ name: d.manifest.name, pairIds: sortedPairs(d.manifest).map((p) => p.id) })),
     configs.map((c) => c.label),
   );
-  return { name, runDir, datasets, configs, thresholds: settings.thresholds, regions: settings.regions, jobs };
+  return { name, runDir, datasets, configs, thresholds: settings.thresholds, regions: settings.regions, jobs, settings };
 }

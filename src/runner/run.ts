@@ -1,25 +1,29 @@
 /**
  * Execution of a planned run: for each dataset and pair in sorted order, load the pair
  * once, build its regions once, then run every configuration on it; each result is
- * appended to results.jsonl as soon as it is scored. run.json is written at the start
+ * appended to results.jsonl as soon as it is scored. (scheduler.ts does the loop, in
+ * the main thread or on a worker pool; plan.scale adds resume, shards and the cache.) run.json is written at the start
  * and rewritten at the end; the tables are written from the journal at the end.
  */
 import { mkdirSync } from 'node:fs';
 import { join } from 'node:path';
-import { AbortedError, InputError } from '../core/errors.js';
-import type { LoadedPair, PairEntry } from '../core/pair.js';
+import { AbortedError } from '../core/errors.js';
+import type { LoadedPair } from '../core/pair.js';
 import type { RegionMap } from '../core/regions.js';
 import type { JobResult } from '../core/score.js';
-import { loadPair } from '../dataset/load.js';
 import { buildRegions } from '../dataset/regions.js';
-import type { Manifest } from '../dataset/manifest.js';
 import { writeFileAtomic } from '../io/files.js';
-import { runJob } from './execute.js';
-import { groupByPair } from './jobs.js';
-import { appendResult, JOURNAL_FILE, readJournal, startJournal } from './journal.js';
+import { jobKeyString } from './jobs.js';
+import { appendResult, JOURNAL_FILE, readJournal, recoverJournal, startJournal } from './journal.js';
+import { pruneCache } from './cache.js';
+import { watchInterrupts } from './interrupt.js';
+import { runScheduled, type ScheduleStats } from './scheduler.js';
+import { shardJobs, shardText } from './shard.js';
+import { latestJobs } from '../stats/aggregate.js';
+import type { RunSettings } from './experiment.js';
 import { writePreview } from '../report/preview.js';
 import { writeRunOutputs, type WrittenOutputs } from './outputs.js';
-import type { RunConfig, RunPlan } from './plan.js';
+import type { RunPlan } from './plan.js';
 import { RUN_INFO_FILE, runInfo, type RunInfo } from './provenance.js';
 
 export interface RunHooks {
@@ -28,6 +32,12 @@ export interface RunHooks {
   onStart?(total: number): void;
   /** Called after each job's result is in the journal. */
   onJob?(result: JobResult, done: number, total: number): void;
+}
+
+/** Added to run.json by scaled runs: what --resume and merge need. */
+export interface ScaledRunInfo {
+  rerun?: { settings: RunSettings; shard: string | null };
+  cache?: { dir: string; jobs_from_cache: number; jobs_computed: number } | null;
 }
 
 export interface RunOutcome {
@@ -50,31 +60,38 @@ async function writeInfo(runDir: string, info: RunInfo): Promise<void> {
 
 /** Run every job of the plan. Dataset input errors (a broken pair) end the run with an InputError. */
 export async function executeRun(plan: RunPlan, hooks: RunHooks = {}): Promise<RunOutcome> {
-  const signal = hooks.signal ?? new AbortController().signal;
+  // Scaled runs (plan.scale, see scale.ts) also stop on SIGTERM; resume, shard and cache.
+  const watch = plan.scale ? watchInterrupts(hooks.signal) : undefined;
+  const signal = watch?.signal ?? hooks.signal ?? new AbortController().signal;
   mkdirSync(plan.runDir, { recursive: true });
   const journal = join(plan.runDir, JOURNAL_FILE);
-  const info = runInfo(plan, new Date());
+  const info: RunInfo & ScaledRunInfo = runInfo(plan, new Date());
+  const scale = plan.scale;
+  const prior = scale?.resume ? recoverJournal(journal) : [];
+  const mine = scale?.shard ? shardJobs(plan.jobs, scale.shard) : plan.jobs;
+  const mineKeys = new Set(mine.map(jobKeyString));
+  const finished = latestJobs(prior).filter((r) => mineKeys.has(jobKeyString({ dataset: r.dataset, pair: r.pair, label: r.matcher })));
+  const doneKeys = new Set(finished.map((r) => jobKeyString({ dataset: r.dataset, pair: r.pair, label: r.matcher })));
+  const todo = mine.filter((k) => !doneKeys.has(jobKeyString(k)));
+  info.jobs.total = mine.length;
+  for (const r of finished) r.status === 'ok' ? info.jobs.ok++ : info.jobs.failed++;
+  if (plan.settings) info.rerun = { settings: plan.settings, shard: scale?.shard ? shardText(scale.shard) : null };
+  const stats: ScheduleStats = { cached: 0, computed: 0 };
+  if (scale) info.cache = scale.cache ? { dir: scale.cache.dir, jobs_from_cache: 0, jobs_computed: 0 } : null;
   await writeInfo(plan.runDir, info);
-  startJournal(journal);
+  if (!scale?.resume) startJournal(journal);
 
-  const manifests = new Map<string, Manifest>(plan.datasets.map((d) => [d.manifest.name, d.manifest]));
-  const configs = new Map<string, RunConfig>(plan.configs.map((c) => [c.label, c]));
-  const total = plan.jobs.length;
+  const total = todo.length;
   hooks.onStart?.(total);
   let done = 0;
   let aborted = false;
   try {
-    for (const group of groupByPair(plan.jobs)) {
-      if (signal.aborted) throw new AbortedError();
-      const first = group[0]!;
-      const manifest = manifests.get(first.dataset)!;
-      const entry: PairEntry | undefined = manifest.pairs.find((p) => p.id === first.pair);
-      if (!entry) throw new InputError(manifest.file, `pair ${first.pair} is not in the manifest`);
-      const pair = await loadPair(manifest, entry);
-      const regions = pairRegions(pair, plan);
-      for (const key of group) {
-        const cfg = configs.get(key.label)!;
-        const { result, disparity } = await runJob(cfg, pair, regions, plan.thresholds, signal);
+    await runScheduled({
+      plan,
+      jobs: todo,
+      signal,
+      stats,
+      onResult: async (result, disparity, cfg, pair) => {
         appendResult(journal, result);
         if (result.status === 'ok') info.jobs.ok++;
         else info.jobs.failed++;
@@ -83,10 +100,11 @@ export async function executeRun(plan: RunPlan, hooks: RunHooks = {}): Promise<R
           await writePreview(plan.runDir, cfg.label, pair.dataset, pair.id, { width: pair.width, height: pair.height, data: disparity });
         }
         hooks.onJob?.(result, done, total);
-      }
-    }
+      },
+    });
   } catch (e) {
     if (!(e instanceof AbortedError)) {
+      watch?.dispose();
       info.status = 'aborted';
       info.ended = new Date().toISOString();
       await writeInfo(plan.runDir, info);
@@ -104,12 +122,21 @@ export async function executeRun(plan: RunPlan, hooks: RunHooks = {}): Promise<R
       }
     }
   }
+  watch?.dispose();
   info.status = aborted ? 'aborted' : 'complete';
   info.ended = new Date().toISOString();
+  if (info.cache) {
+    info.cache.jobs_from_cache = stats.cached;
+    info.cache.jobs_computed = stats.computed;
+    if (scale?.cache?.maxMb !== undefined) pruneCache(scale.cache.dir, scale.cache.maxMb * 2 ** 20);
+  }
   await writeInfo(plan.runDir, info);
   // Tables and report from the journal alone (and run.json, for the report).
   const results = readJournal(journal);
   const outputs = await writeRunOutputs(plan.runDir, results, plan.thresholds);
+  if (aborted && scale) {
+    throw new AbortedError(`run stopped after ${info.jobs.ok + info.jobs.failed} of ${info.jobs.total} jobs (partial tables written); resume with: parallax run --resume ${plan.runDir}`);
+  }
   return { runDir: plan.runDir, results, outputs, info, aborted };
 }
 

@@ -1,0 +1,77 @@
+/**
+ * The match pool: worker threads (piscina) that run matcher configurations on pairs.
+ * See worker.ts for what crosses the thread boundary (SharedArrayBuffers, no copies).
+ * A task aborted through its signal is cancelled: a queued task is dropped, a running
+ * one ends with its worker thread (piscina terminates it), which is the only way to
+ * stop a synchronous matcher.
+ */
+import { existsSync } from 'node:fs';
+import { dirname, join, resolve } from 'node:path';
+import { fileURLToPath, pathToFileURL } from 'node:url';
+import { Piscina } from 'piscina';
+import { InputError } from '../core/errors.js';
+import type { LoadedPair } from '../core/pair.js';
+import type { RasterImage } from '../core/image.js';
+import type { MatchReply, MatchTask, SharedRaster } from './worker.js';
+
+/**
+ * The compiled worker file. From dist/src/runner/pool.js it is the neighbour
+ * worker.js; from the TypeScript source (tests) it is <root>/dist/src/runner/worker.js,
+ * which `npm run build` writes.
+ */
+export function workerFile(moduleUrl: string = import.meta.url): string {
+  const here = fileURLToPath(moduleUrl);
+  if (here.endsWith('.js')) return join(dirname(here), 'worker.js');
+  const root = resolve(dirname(here), '..', '..');
+  return join(root, 'dist', 'src', 'runner', 'worker.js');
+}
+
+/** A pair's images copied once into shared memory, for every configuration's task. */
+export interface SharedPair {
+  left: SharedArrayBuffer;
+  right: SharedArrayBuffer;
+  leftColor: SharedRaster;
+  rightColor: SharedRaster;
+}
+
+function sharedFloats(a: Float32Array): SharedArrayBuffer {
+  const sab = new SharedArrayBuffer(a.length * 4);
+  new Float32Array(sab).set(a);
+  return sab;
+}
+
+function sharedRaster(img: RasterImage): SharedRaster {
+  const bytes = img.data.length * (img.bitDepth === 16 ? 2 : 1);
+  const sab = new SharedArrayBuffer(bytes);
+  if (img.bitDepth === 16) new Uint16Array(sab).set(img.data);
+  else new Uint8Array(sab).set(img.data);
+  return { width: img.width, height: img.height, channels: img.channels, bitDepth: img.bitDepth, buffer: sab };
+}
+
+export function sharePair(pair: LoadedPair): SharedPair {
+  return { left: sharedFloats(pair.leftGray), right: sharedFloats(pair.rightGray), leftColor: sharedRaster(pair.left), rightColor: sharedRaster(pair.right) };
+}
+
+export class MatchPool {
+  private readonly pool: Piscina;
+  constructor(readonly size: number) {
+    const file = workerFile();
+    if (!existsSync(file)) throw new InputError(file, 'the compiled worker is missing; run `npm run build` first');
+    this.pool = new Piscina({
+      filename: pathToFileURL(file).href,
+      minThreads: size,
+      maxThreads: size,
+      concurrentTasksPerWorker: 1,
+      idleTimeout: 60_000,
+    });
+  }
+
+  /** Run one task; rejects (an AbortError) when the signal aborts it. */
+  run(task: MatchTask, signal: AbortSignal): Promise<MatchReply> {
+    return this.pool.run(task, { signal }) as Promise<MatchReply>;
+  }
+
+  async close(): Promise<void> {
+    await this.pool.close({ force: true });
+  }
+}

@@ -1,0 +1,40 @@
+/**
+ * Shards: `--shard k/N` (k is 1-based) runs a deterministic share of a run's jobs.
+ * The sorted pairs of all datasets (dataset name, then pair id: the order of
+ * jobs.ts) are dealt round-robin: pair number i (0-based) goes to shard (i mod N) + 1.
+ * All configurations of a pair stay in one shard (the pair is decoded once), the
+ * shares differ by at most one pair, and the split depends only on the job list.
+ */
+import { UsageError } from '../core/errors.js';
+import { groupByPair, type JobKey } from './jobs.js';
+
+export interface Shard {
+  /** 1-based shard number. */
+  readonly index: number;
+  readonly count: number;
+}
+
+/** Parse `k/N` with 1 <= k <= N (the --shard option). */
+export function parseShard(text: string, option = '--shard'): Shard {
+  const m = /^\s*(\d{1,6})\s*\/\s*(\d{1,6})\s*$/.exec(text);
+  if (!m) throw new UsageError(option, `"${text}" is not of the form k/N (e.g. 2/5)`);
+  const index = Number(m[1]);
+  const count = Number(m[2]);
+  if (count < 1) throw new UsageError(option, `the shard count must be at least 1, got ${count}`);
+  if (index < 1 || index > count) throw new UsageError(option, `shard ${index} is not in 1..${count}`);
+  return { index, count };
+}
+
+/** `k/N` text of a shard. */
+export function shardText(s: Shard): string {
+  return `${s.index}/${s.count}`;
+}
+
+/** The jobs of one shard, in the original (sorted) order. */
+export function shardJobs(jobs: readonly JobKey[], shard: Shard): JobKey[] {
+  const out: JobKey[] = [];
+  groupByPair(jobs).forEach((group, i) => {
+    if (i % shard.count === shard.index - 1) out.push(...group);
+  });
+  return out;
+}

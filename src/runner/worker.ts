@@ -1,0 +1,110 @@
+/**
+ * Worker-thread side of the match pool (pool.ts). Runs one matcher configuration on
+ * one pair and hands the disparity back in shared memory (not cloned).
+ *
+ * The pair's luminance and colour samples arrive in SharedArrayBuffers that the main
+ * thread filled once per pair: every configuration of the pair reads the same memory,
+ * nothing is copied on the way. Like the sequential runner, the worker then gives the
+ * matcher its own copy of the two luminance images, so a matcher that writes into its
+ * input cannot change what the next configuration sees.
+ *
+ * Only built-in and module matchers run here (rebuilt from their serialisable source
+ * once per worker); program matchers stay in the main thread (they are processes anyway).
+ * This file runs compiled (dist/src/runner/worker.js): worker threads cannot load .ts.
+ */
+import type { RasterImage } from '../core/image.js';
+import type { ParamValue } from '../core/params.js';
+import type { MatchInput, MatcherPlugin } from '../plugins/contract.js';
+import { pluginFromSource, type MatcherSource } from '../plugins/registry.js';
+import { oneLineError, validateOutput } from './execute.js';
+import { startPeakSampler } from './memory.js';
+
+export interface SharedRaster {
+  width: number;
+  height: number;
+  channels: 1 | 2 | 3 | 4;
+  bitDepth: 8 | 16;
+  buffer: SharedArrayBuffer;
+}
+
+export interface MatchTask {
+  source: MatcherSource;
+  params: Record<string, ParamValue>;
+  width: number;
+  height: number;
+  left: SharedArrayBuffer;
+  right: SharedArrayBuffer;
+  leftColor: SharedRaster;
+  rightColor: SharedRaster;
+  minDisparity: number;
+  maxDisparity: number;
+  files: { pairId: string; left: string; right: string };
+  threads: number;
+}
+
+export type MatchReply =
+  | { ok: true; disparity: Float32Array; timeMs: number; peakMb: number }
+  | { ok: false; error: string; timeMs: number | null; peakMb: number | null };
+
+const plugins = new Map<string, Promise<MatcherPlugin>>();
+
+function plugin(source: MatcherSource): Promise<MatcherPlugin> {
+  const key = JSON.stringify(source);
+  let p = plugins.get(key);
+  if (!p) {
+    p = pluginFromSource(source);
+    plugins.set(key, p);
+  }
+  return p;
+}
+
+function raster(s: SharedRaster): RasterImage {
+  const data = s.bitDepth === 16 ? new Uint16Array(s.buffer) : new Uint8Array(s.buffer);
+  return { width: s.width, height: s.height, channels: s.channels, bitDepth: s.bitDepth, data };
+}
+
+/** Piscina's task function. */
+export default async function runMatchTask(task: MatchTask): Promise<MatchReply> {
+  let p: MatcherPlugin;
+  try {
+    p = await plugin(task.source);
+  } catch (e) {
+    return { ok: false, error: oneLineError(e), timeMs: null, peakMb: null };
+  }
+  const input: MatchInput = {
+    width: task.width,
+    height: task.height,
+    left: new Float32Array(task.left).slice(),
+    right: new Float32Array(task.right).slice(),
+    leftColor: raster(task.leftColor),
+    rightColor: raster(task.rightColor),
+    minDisparity: task.minDisparity,
+    maxDisparity: task.maxDisparity,
+    source: task.files,
+    threads: task.threads,
+  };
+  // Piscina ends the thread to cancel a running task; this signal never fires here.
+  const signal = new AbortController().signal;
+  const sampler = startPeakSampler();
+  const t0 = performance.now();
+  let out: unknown;
+  try {
+    out = await p.match(input, task.params, signal);
+  } catch (e) {
+    const timeMs = Math.round((performance.now() - t0) * 1000) / 1000;
+    return { ok: false, error: oneLineError(e), timeMs, peakMb: sampler.stop() };
+  }
+  const timeMs = Math.round((performance.now() - t0) * 1000) / 1000;
+  const peakMb = sampler.stop();
+  let arr: Float32Array;
+  try {
+    arr = validateOutput(out, task.width, task.height);
+  } catch (e) {
+    return { ok: false, error: oneLineError(e), timeMs, peakMb };
+  }
+  // A copy the matcher holds no reference to, in shared memory: posting it to the main
+  // thread shares the buffer instead of cloning it.
+  const disparity = new Float32Array(new SharedArrayBuffer(arr.length * 4));
+  disparity.set(arr);
+  return { ok: true, disparity, timeMs, peakMb };
+}
