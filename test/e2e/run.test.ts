@@ -22,11 +22,14 @@ beforeAll(() => {
   if (!builtCliExists()) throw new Error('dist/ is missing: run `npm run build` (npm test does it)');
 });
 
-describe('parallax demo (on a small dataset)', () => {
+describe('parallax demo (on a small synthetic dataset)', () => {
   it('writes run.json, results.jsonl (one line per pair x configuration), pairs.csv, summary.csv', () => {
-    const ds = writeDataset(join(root, 'demo-data'), { ids: ['crates-01', 'crates-02'] });
+    const data = join(root, 'demo-data');
+    const synth = parallax(['dataset', 'synth', '--out', data, '--width', '96', '--height', '72', '--pairs', '2'], root);
+    expect(synth.code).toBe(0);
+    expect(parallax(['dataset', 'check', data], root).stdout).toMatch(/^OK dock-demo: 2 pair\(s\), size 96x72/);
     const out = join(root, 'demo-report');
-    const r = parallax(['demo', '--data', ds.dir, '--out', out], root);
+    const r = parallax(['demo', '--data', data, '--out', out], root);
     expect(r.stderr).toBe('');
     expect(r.code).toBe(0);
     expect(r.stdout).toMatch(/Demo done in [\d.]+ s/);
