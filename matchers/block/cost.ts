@@ -13,6 +13,14 @@
  *         N = window pixels, s* = box sums of I, J, I^2, J^2, I*J. When either
  *         window is flat (variance below FLAT_VARIANCE intensity units^2) the
  *         correlation is undefined and the cost is 1 (as for uncorrelated windows).
+ *         sJ and sJ2 are the right image's own box sums taken at x - d (computed once),
+ *         which is exact wherever the left window lies inside the image
+ *         (radius <= x <= width - 1 - radius); the few columns nearer the left and right
+ *         edges are summed directly under the same replicate rule. Only the sI*J box sum
+ *         is computed per disparity.
+ *
+ * Only candidates (0 <= x - d < width) get a meaningful cost; other pixels of a slice
+ * hold an arbitrary finite value.
  */
 import { boxSum } from '../kernels/box.js';
 
@@ -29,19 +37,22 @@ export interface BlockScratch {
   readonly radius: number;
   readonly pix: Float64Array;
   readonly tmp: Float64Array;
-  /** zncc only: box sums of I and I^2 (fixed), buffers for J, J^2, I*J. */
+  /** zncc only: box sums of I, I^2, J, J^2 (fixed) and the per-disparity I*J sums. */
   readonly sumI: Float64Array | null;
   readonly sumI2: Float64Array | null;
-  readonly sumJ: Float64Array | null;
-  readonly sumJ2: Float64Array | null;
+  readonly sumR: Float64Array | null;
+  readonly sumR2: Float64Array | null;
   readonly sumIJ: Float64Array | null;
-  readonly pix2: Float64Array | null;
+  /** zncc only: one column's horizontal sums of J and J^2, for the edge columns. */
+  readonly colJ: Float64Array | null;
+  readonly colJ2: Float64Array | null;
 }
 
-/** Buffers reused across disparities; for zncc also the left image's box sums. */
+/** Buffers reused across disparities; for zncc also both images' box sums. */
 export function createBlockScratch(
   kind: BlockCostKind,
   left: Float32Array,
+  right: Float32Array,
   width: number,
   height: number,
   radius: number,
@@ -50,14 +61,29 @@ export function createBlockScratch(
   const pix = new Float64Array(n);
   const tmp = new Float64Array(n);
   if (kind !== 'zncc') {
-    return { kind, width, height, radius, pix, tmp, sumI: null, sumI2: null, sumJ: null, sumJ2: null, sumIJ: null, pix2: null };
+    return {
+      kind,
+      width,
+      height,
+      radius,
+      pix,
+      tmp,
+      sumI: null,
+      sumI2: null,
+      sumR: null,
+      sumR2: null,
+      sumIJ: null,
+      colJ: null,
+      colJ2: null,
+    };
   }
-  const sumI = new Float64Array(n);
-  const sumI2 = new Float64Array(n);
-  for (let p = 0; p < n; p++) pix[p] = left[p];
-  boxSum(pix, sumI, width, height, radius, tmp);
-  for (let p = 0; p < n; p++) pix[p] = left[p] * left[p];
-  boxSum(pix, sumI2, width, height, radius, tmp);
+  const box = (img: Float32Array, square: boolean): Float64Array => {
+    const out = new Float64Array(n);
+    if (square) for (let p = 0; p < n; p++) pix[p] = img[p] * img[p];
+    else for (let p = 0; p < n; p++) pix[p] = img[p];
+    boxSum(pix, out, width, height, radius, tmp);
+    return out;
+  };
   return {
     kind,
     width,
@@ -65,12 +91,13 @@ export function createBlockScratch(
     radius,
     pix,
     tmp,
-    sumI,
-    sumI2,
-    sumJ: new Float64Array(n),
-    sumJ2: new Float64Array(n),
+    sumI: box(left, false),
+    sumI2: box(left, true),
+    sumR: box(right, false),
+    sumR2: box(right, true),
     sumIJ: new Float64Array(n),
-    pix2: new Float64Array(n),
+    colJ: new Float64Array(height),
+    colJ2: new Float64Array(height),
   };
 }
 
@@ -153,15 +180,14 @@ function sqDiffSlice(
   }
 }
 
-/** pix = J (the right image shifted by d, clamped), and pix2 = I * J. */
-function shiftedRight(
+/** pix = I * J, J the right image shifted by d (right x clamped). */
+function productSlice(
   left: Float32Array,
   right: Float32Array,
   width: number,
   height: number,
   d: number,
   pix: Float64Array,
-  pix2: Float64Array,
 ): void {
   const { lo, hi } = splitRow(width, d);
   for (let y = 0; y < height; y++) {
@@ -169,51 +195,81 @@ function shiftedRight(
     const r0 = right[row];
     const r1 = right[row + width - 1];
     const off = row - d;
-    for (let x = 0; x < lo; x++) {
-      pix[row + x] = r0;
-      pix2[row + x] = left[row + x] * r0;
-    }
-    for (let x = lo; x < hi; x++) {
-      const j = right[off + x];
-      pix[row + x] = j;
-      pix2[row + x] = left[row + x] * j;
-    }
-    for (let x = hi; x < width; x++) {
-      pix[row + x] = r1;
-      pix2[row + x] = left[row + x] * r1;
-    }
+    for (let x = 0; x < lo; x++) pix[row + x] = left[row + x] * r0;
+    for (let x = lo; x < hi; x++) pix[row + x] = left[row + x] * right[off + x];
+    for (let x = hi; x < width; x++) pix[row + x] = left[row + x] * r1;
   }
 }
 
 function znccSlice(s: BlockScratch, left: Float32Array, right: Float32Array, d: number, out: Float64Array): void {
   const width = s.width;
   const height = s.height;
-  const n = width * height;
-  const pix = s.pix;
-  const sumJ = s.sumJ!;
-  const sumJ2 = s.sumJ2!;
+  const r = s.radius;
   const sumIJ = s.sumIJ!;
+  productSlice(left, right, width, height, d, s.pix);
+  boxSum(s.pix, sumIJ, width, height, r, s.tmp);
   const sumI = s.sumI!;
   const sumI2 = s.sumI2!;
-  const r = s.radius;
-  // J and I*J first; then J^2 in place of J once J's box sum is taken.
-  shiftedRight(left, right, width, height, d, pix, s.pix2!);
-  boxSum(pix, sumJ, width, height, r, s.tmp);
-  boxSum(s.pix2!, sumIJ, width, height, r, s.tmp);
-  for (let p = 0; p < n; p++) pix[p] = pix[p] * pix[p];
-  boxSum(pix, sumJ2, width, height, r, s.tmp);
+  const sumR = s.sumR!;
+  const sumR2 = s.sumR2!;
   const side = 2 * r + 1;
   const N = side * side;
   const flat = FLAT_VARIANCE * N * N;
-  for (let p = 0; p < n; p++) {
-    const si = sumI[p];
-    const sj = sumJ[p];
-    const vi = N * sumI2[p] - si * si;
-    const vj = N * sumJ2[p] - sj * sj;
-    if (vi <= flat || vj <= flat) {
-      out[p] = 1;
-      continue;
+  const { lo, hi } = splitRow(width, d);
+  // Candidates whose left window lies inside the image: [cLo, cHi).
+  const cLo = lo > r ? lo : r;
+  let cHi = width - r < hi ? width - r : hi;
+  if (cHi < cLo) cHi = cLo;
+  for (let y = 0; y < height; y++) {
+    const row = y * width;
+    for (let x = 0; x < cLo; x++) out[row + x] = 1;
+    for (let x = cLo; x < cHi; x++) {
+      const p = row + x;
+      const si = sumI[p];
+      const sj = sumR[p - d];
+      const vi = N * sumI2[p] - si * si;
+      const vj = N * sumR2[p - d] - sj * sj;
+      out[p] = vi <= flat || vj <= flat ? 1 : 1 - (N * sumIJ[p] - si * sj) / Math.sqrt(vi * vj);
     }
-    out[p] = 1 - (N * sumIJ[p] - si * sj) / Math.sqrt(vi * vj);
+    for (let x = cHi; x < width; x++) out[row + x] = 1;
+  }
+  // Candidates near the left and right edges (at most 2 * radius columns): direct sums.
+  const colJ = s.colJ!;
+  const colJ2 = s.colJ2!;
+  const xmax = width - 1;
+  const ymax = height - 1;
+  for (let x = lo; x < hi; x++) {
+    if (x >= cLo && x < cHi) continue;
+    for (let y = 0; y < height; y++) {
+      const row = y * width;
+      let a = 0;
+      let b = 0;
+      for (let i = -r; i <= r; i++) {
+        let xl = x + i;
+        xl = xl < 0 ? 0 : xl > xmax ? xmax : xl;
+        let xr = xl - d;
+        xr = xr < 0 ? 0 : xr > xmax ? xmax : xr;
+        const v = right[row + xr];
+        a += v;
+        b += v * v;
+      }
+      colJ[y] = a;
+      colJ2[y] = b;
+    }
+    for (let y = 0; y < height; y++) {
+      let sj = 0;
+      let sj2 = 0;
+      for (let j = -r; j <= r; j++) {
+        let yy = y + j;
+        yy = yy < 0 ? 0 : yy > ymax ? ymax : yy;
+        sj += colJ[yy];
+        sj2 += colJ2[yy];
+      }
+      const p = y * width + x;
+      const si = sumI[p];
+      const vi = N * sumI2[p] - si * si;
+      const vj = N * sj2 - sj * sj;
+      out[p] = vi <= flat || vj <= flat ? 1 : 1 - (N * sumIJ[p] - si * sj) / Math.sqrt(vi * vj);
+    }
   }
 }

@@ -48,7 +48,7 @@ function blockSource(kind: BlockCostKind, radius: number, input: MatchInput): St
     strip(rows: Int32Array): SliceFn {
       const sl = copyRows(input.left, input.width, rows);
       const sr = copyRows(input.right, input.width, rows);
-      const scratch = createBlockScratch(kind, sl, input.width, rows.length, radius);
+      const scratch = createBlockScratch(kind, sl, sr, input.width, rows.length, radius);
       return (d, out) => blockCostSlice(scratch, sl, sr, d, out);
     },
   };

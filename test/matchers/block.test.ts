@@ -22,7 +22,7 @@ describe('SAD / SSD cost slices', () => {
   for (const kind of ['sad', 'ssd'] as const) {
     for (const r of [0, 1, 3]) {
       it(`${kind}, window ${2 * r + 1}: equals a naive window loop (exact on integer images)`, () => {
-        const s = createBlockScratch(kind, L, w, h, r);
+        const s = createBlockScratch(kind, L, R, w, h, r);
         const out = new Float64Array(w * h);
         const e = (a: number, b: number) => (kind === 'sad' ? Math.abs(a - b) : (a - b) * (a - b));
         for (const d of [-3, 0, 4]) {
@@ -57,7 +57,7 @@ describe('ZNCC', () => {
 
   it('equals 1 - ZNCC computed from the definition with window means, away from borders', () => {
     const r = 2;
-    const s = createBlockScratch('zncc', L, w, h, r);
+    const s = createBlockScratch('zncc', L, R, w, h, r);
     const out = new Float64Array(w * h);
     for (const d of [0, 3]) {
       blockCostSlice(s, L, R, d, out);
@@ -91,6 +91,41 @@ describe('ZNCC', () => {
     }
   });
 
+  it('equals the definition at every candidate, edges included, under the documented replicate rule', () => {
+    // Window pixels: left (clamp(x+i), clamp(y+j)), right x = clamp(clamp(x+i) - d); ZNCC from
+    // window means as above. Only candidates (0 <= x - d < width) carry a meaningful cost.
+    const r = 3;
+    const s = createBlockScratch('zncc', L, R, w, h, r);
+    const out = new Float64Array(w * h);
+    for (const d of [-5, 0, 2, 9]) {
+      blockCostSlice(s, L, R, d, out);
+      for (let y = 0; y < h; y++) {
+        for (let x = Math.max(0, d); x < Math.min(w, w + d); x++) {
+          const a: number[] = [];
+          const b: number[] = [];
+          for (let j = -r; j <= r; j++)
+            for (let i = -r; i <= r; i++) {
+              const xx = clamp(x + i, 0, w - 1);
+              const yy = clamp(y + j, 0, h - 1);
+              a.push(L[yy * w + xx]);
+              b.push(R[yy * w + clamp(xx - d, 0, w - 1)]);
+            }
+          const ma = a.reduce((u, v) => u + v, 0) / a.length;
+          const mb = b.reduce((u, v) => u + v, 0) / b.length;
+          let sab = 0;
+          let saa = 0;
+          let sbb = 0;
+          for (let k = 0; k < a.length; k++) {
+            sab += (a[k] - ma) * (b[k] - mb);
+            saa += (a[k] - ma) ** 2;
+            sbb += (b[k] - mb) ** 2;
+          }
+          expect(Math.abs(out[y * w + x] - (1 - sab / Math.sqrt(saa * sbb)))).toBeLessThan(1e-9);
+        }
+      }
+    }
+  });
+
   it('gives the same costs and disparities when an image becomes a*I + b, a > 0 (property of ZNCC)', () => {
     const r = 3;
     const s = randomDotStereogram(64, 48, 2, 7, 9);
@@ -99,7 +134,7 @@ describe('ZNCC', () => {
     // (~1e-12) may move float32 answers by an ulp, so those are compared to 1e-5 px.
     const ref = blockMatch(input, { cost: 'zncc', window: 7, subpix: false });
     const refSub = blockMatch(input, { cost: 'zncc', window: 7, subpix: true });
-    const scratch = createBlockScratch('zncc', s.left, 64, 48, r);
+    const scratch = createBlockScratch('zncc', s.left, s.right, 64, 48, r);
     const a0 = new Float64Array(64 * 48);
     const a1 = new Float64Array(64 * 48);
     for (const [a, b] of [
@@ -116,7 +151,7 @@ describe('ZNCC', () => {
         if (Number.isNaN(refSub[p])) expect(gotSub[p]).toBeNaN();
         else expect(Math.abs(gotSub[p] - refSub[p])).toBeLessThan(1e-5);
       }
-      const scratch2 = createBlockScratch('zncc', left2, 64, 48, r);
+      const scratch2 = createBlockScratch('zncc', left2, right2, 64, 48, r);
       for (const d of [0, 2, 7]) {
         blockCostSlice(scratch, s.left, s.right, d, a0);
         blockCostSlice(scratch2, left2, right2, d, a1);
@@ -129,9 +164,10 @@ describe('ZNCC', () => {
 
   it('treats a flat window as uncorrelated (cost 1)', () => {
     const flat = new Float32Array(9 * 9).fill(80);
-    const s = createBlockScratch('zncc', flat, 9, 9, 1);
+    const other = randomInts(81, 5);
+    const s = createBlockScratch('zncc', flat, other, 9, 9, 1);
     const out = new Float64Array(81);
-    blockCostSlice(s, flat, randomInts(81, 5), 0, out);
+    blockCostSlice(s, flat, other, 0, out);
     expect(out.every((v) => v === 1)).toBe(true);
   });
 });
