@@ -120,6 +120,7 @@ export function applySensor(
       codes[i * ch + c] = q < 0 ? 0 : q > maxCode ? maxCode : q;
     }
   }
-  const out = s.bitDepth === 16 ? Uint16Array.from(codes) : Uint8Array.from(codes);
+  const out = s.bitDepth === 16 ? new Uint16Array(n * ch) : new Uint8Array(n * ch);
+  out.set(codes);
   return { width, height, channels: ch, bitDepth: s.bitDepth, data: out };
 }
