@@ -263,6 +263,42 @@ describe('block matcher: range, excluded candidates, abort, schema', () => {
     ).toThrow(MatcherFailure);
   });
 
+  it('handles degenerate image shapes (1x1, one row, one column) without crashing', () => {
+    // By construction: a 1-pixel image can only match at d = 0; a single column likewise.
+    for (const [cw, ch] of [
+      [1, 1],
+      [7, 1],
+      [1, 6],
+    ]) {
+      const a = randomInts(cw * ch, 30);
+      const b = randomInts(cw * ch, 31);
+      const d = blockMatch(
+        { width: cw, height: ch, left: a, right: b, minDisparity: -3, maxDisparity: 3 },
+        { cost: 'zncc', window: 5, lr: 0 },
+      );
+      expect(d.length).toBe(cw * ch);
+      for (let p = 0; p < d.length; p++) {
+        const x = p % cw;
+        // every answer is a candidate: 0 <= x - d < width (d = x_left - x_right)
+        expect(x - d[p]).toBeGreaterThanOrEqual(-0.5);
+        expect(x - d[p]).toBeLessThanOrEqual(cw - 1 + 0.5);
+      }
+      if (cw === 1) expect(Array.from(d).every((v) => v === 0)).toBe(true);
+    }
+  });
+
+  it('rounds a fractional range inward to whole levels', () => {
+    // [0.5, 2.5] -> levels 1 and 2 only (kernels/range.ts); subpixel off, no LR check.
+    const d = blockMatch(
+      { width: w, height: h, left: L, right: R, minDisparity: 0.5, maxDisparity: 2.5 },
+      { subpix: false, lr: 0 },
+    );
+    for (let p = 0; p < d.length; p++) {
+      if (p % w === 0) expect(d[p]).toBeNaN(); // x = 0 has no candidate at d >= 1
+      else expect([1, 2]).toContain(d[p]);
+    }
+  });
+
   it('throws AbortedError when the signal is aborted', () => {
     const ac = new AbortController();
     ac.abort();
