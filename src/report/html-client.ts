@@ -121,6 +121,11 @@ export const REPORT_JS = String.raw`
     for (var v = Math.ceil(lo / step) * step; v <= hi + 1e-9 * step; v += step) out.push(Number(v.toPrecision(12)));
     return out;
   }
+  function logTicks(l0, l1) {
+    var out = [];
+    for (var e = Math.floor(l0); e <= Math.ceil(l1); e++) [1, 2, 5].forEach(function (m) { var v = m * Math.pow(10, e); var lv = Math.log10(v); if (lv >= l0 && lv <= l1) out.push(v); });
+    return out;
+  }
   function clear(node) { while (node.firstChild) node.removeChild(node.firstChild); }
 
   function renderScatter() {
@@ -155,7 +160,7 @@ export const REPORT_JS = String.raw`
       svg.appendChild(sv('line', { x1: pad.l - 4, y1: Y(v), x2: W - pad.r, y2: Y(v), stroke: '#e3e6ea' }));
       svg.appendChild(sv('text', { x: pad.l - 6, y: Y(v) + 4, 'text-anchor': 'end' }, fmt(v)));
     });
-    var xt = logx ? ticks(x0, x1, 4).map(function (v) { return Math.pow(10, v); }) : ticks(x0, x1, 5);
+    var xt = logx ? logTicks(x0, x1) : ticks(x0, x1, 5);
     xt.forEach(function (t) {
       if (logx && !(t > 0)) return;
       svg.appendChild(sv('text', { x: X(t), y: H - pad.b + 14, 'text-anchor': 'middle' }, fmt(t)));
@@ -172,7 +177,8 @@ export const REPORT_JS = String.raw`
       var c = sv('circle', { cx: X(p.t), cy: Y(p.y), r: 5, fill: onFront ? '#0b5d8a' : '#fff', stroke: '#0b5d8a', 'stroke-width': 1.5, 'data-front': onFront ? '1' : '0' });
       c.appendChild(sv('title', null, p.label + ': ' + fmt(p.y) + ' at ' + fmt(p.t) + ' ms' + (onFront ? ' (Pareto front)' : '')));
       svg.appendChild(c);
-      svg.appendChild(sv('text', { x: X(p.t) + 7, y: Y(p.y) - 6 }, p.label.length > 28 ? p.label.slice(0, 27) + '\u2026' : p.label));
+      var right = X(p.t) > W * 0.62;
+      svg.appendChild(sv('text', { x: X(p.t) + (right ? -7 : 7), y: Y(p.y) - 6, 'text-anchor': right ? 'end' : 'start' }, p.label.length > 28 ? p.label.slice(0, 27) + '\u2026' : p.label));
     });
   }
 

@@ -24,9 +24,10 @@ import { DEFAULT_LEVEL } from '../stats/bootstrap.js';
 import { metricDirection, metricNames, metricUnit, pooledSpec } from '../stats/metrics.js';
 import { thresholdName } from '../metrics/types.js';
 import { colorHex } from './colormaps.js';
+import { encodePalettePng, type IndexedImage } from './png-palette.js';
 import { REPORT_CSS } from './html-style.js';
 import { REPORT_JS } from './html-client.js';
-import { readPreview, previewFactor } from './preview.js';
+import { readPairPreview, readPreview, previewFactor } from './preview.js';
 import { readRunFolder, type RunInfoView } from './run-folder.js';
 import { downscaleNanMean } from './preview.js';
 import {
@@ -64,6 +65,10 @@ export function scriptSafeJson(value: unknown): string {
 
 function pngUri(img: RasterImage): string {
   return `data:image/png;base64,${encodePng(img).toString('base64')}`;
+}
+
+function indexedUri(img: IndexedImage): string {
+  return `data:image/png;base64,${encodePalettePng(img).toString('base64')}`;
 }
 
 interface PairJobView {
@@ -109,26 +114,30 @@ async function pairView(runDir: string, info: RunInfoView, manifest: Manifest | 
   else if (!entry) view.note = `Pair ${pair} is no longer in the dataset manifest.`;
   else {
     try {
-      const left = await readImageFile(entry.left);
       const truth = await readDisparityFile(entry.truth, truthReadOptions(manifest));
       const W = truth.width;
       const H = truth.height;
       const f = thumbFactor(W);
       const pf = previewFactor(W);
-      view.left = pngUri(downscaleRaster(left, f));
       const tPrev = downscaleNanMean(truth, pf);
       const tThumb = toThumbGrid(tPrev, pf, W, H, f);
       const [lo, hi] = finiteRange(tThumb.data);
       if (Number.isFinite(lo)) view.scale = [lo, hi];
-      view.truth = pngUri(colorizeDisparity(tThumb, lo, hi));
-      let occ: Uint8Array | undefined;
-      if (entry.occlusion) {
-        const m = await readMaskFile(entry.occlusion);
-        occ = m.data;
+      view.truth = indexedUri(colorizeDisparity(tThumb, lo, hi));
+      // Left thumbnail and region map: from the runner's pair preview when there is one
+      // (fast), else from the dataset files (decode the left image, rebuild the regions).
+      const stored = await readPairPreview(runDir, dataset, pair).catch(() => null);
+      if (stored && stored.width === tThumb.width && stored.height === tThumb.height) {
+        view.left = pngUri(stored.left);
+        view.regions = indexedUri(colorizeRegions(stored.regionBits, stored.width, stored.height));
+      } else {
+        const left = await readImageFile(entry.left);
+        view.left = pngUri(downscaleRaster(left, f));
+        let occ: Uint8Array | undefined;
+        if (entry.occlusion) occ = (await readMaskFile(entry.occlusion)).data;
+        const regions = buildRegions(truth.data, toLuminance(left), occ, W, H, regionParamsOf(info));
+        view.regions = indexedUri(colorizeRegions(regionsToThumb(regions.bits, W, H, f), tThumb.width, tThumb.height));
       }
-      const regions = buildRegions(truth.data, toLuminance(left), occ, W, H, regionParamsOf(info));
-      const rThumb = regionsToThumb(regions.bits, W, H, f);
-      view.regions = pngUri(colorizeRegions(rThumb, tThumb.width, tThumb.height));
       truthPreviewGrid = { img: tThumb, factor: pf, width: W, height: H, f };
     } catch (e) {
       view.note = `Dataset images not shown: ${(e as Error).message}`;
@@ -151,8 +160,8 @@ async function pairView(runDir: string, info: RunInfoView, manifest: Manifest | 
         const g = truthPreviewGrid;
         const pThumb = toThumbGrid(prev, g.factor, g.width, g.height, g.f);
         if (pThumb.width === g.img.width && pThumb.height === g.img.height) {
-          jv.disp = pngUri(colorizeDisparity(pThumb, view.scale ? view.scale[0] : 0, view.scale ? view.scale[1] : 1));
-          jv.err = pngUri(colorizeError(pThumb, g.img, ERROR_CLIP_PX));
+          jv.disp = indexedUri(colorizeDisparity(pThumb, view.scale ? view.scale[0] : 0, view.scale ? view.scale[1] : 1));
+          jv.err = indexedUri(colorizeError(pThumb, g.img, ERROR_CLIP_PX));
         }
       }
     }

@@ -7,9 +7,12 @@
 import { createHash } from 'node:crypto';
 import { mkdir, readFile } from 'node:fs/promises';
 import { dirname, join } from 'node:path';
-import type { FloatImage } from '../core/image.js';
+import type { FloatImage, RasterImage } from '../core/image.js';
+import type { RegionMap } from '../core/regions.js';
 import { decodePfm, encodePfm } from '../io/pfm.js';
+import { decodePng, encodePng } from '../io/png.js';
 import { writeFileAtomic } from '../io/files.js';
+import { downscaleRaster, regionsToThumb, thumbFactor } from './thumbs.js';
 
 export const PREVIEW_MAX_WIDTH = 256;
 
@@ -75,4 +78,43 @@ export async function readPreview(runDir: string, label: string, dataset: string
     throw e;
   }
   return decodePfm(buf, path);
+}
+
+/**
+ * Per-pair pictures for the report, written once per pair by the runner (it has the
+ * decoded left image and the region map at hand), so the report need not decode every
+ * left image nor rebuild every region map: `<runDir>/previews/@pairs/<dataset>/<pair>.left.png`
+ * (left image thumbnail) and `.regions.png` (region bits at the thumbnail grid, 8-bit gray).
+ * `@` never occurs in a slug, so this folder cannot clash with a configuration's.
+ */
+export function pairPreviewPaths(runDir: string, dataset: string, pair: string): { left: string; regions: string } {
+  const base = join(runDir, 'previews', '@pairs', slug(dataset), slug(pair));
+  return { left: `${base}.left.png`, regions: `${base}.regions.png` };
+}
+
+export async function writePairPreview(runDir: string, dataset: string, pair: string, left: RasterImage, regions: RegionMap): Promise<void> {
+  const f = thumbFactor(left.width);
+  const thumb = downscaleRaster(left, f);
+  const bits = regionsToThumb(regions.bits, regions.width, regions.height, f);
+  const paths = pairPreviewPaths(runDir, dataset, pair);
+  await mkdir(dirname(paths.left), { recursive: true });
+  await writeFileAtomic(paths.left, encodePng(thumb));
+  await writeFileAtomic(paths.regions, encodePng({ width: thumb.width, height: thumb.height, channels: 1, bitDepth: 8, data: bits }));
+}
+
+/** The pair's stored thumbnails, or null when the runner wrote none. */
+export async function readPairPreview(runDir: string, dataset: string, pair: string): Promise<{ left: RasterImage; regionBits: Uint8Array; width: number; height: number } | null> {
+  const paths = pairPreviewPaths(runDir, dataset, pair);
+  let lb: Buffer;
+  let rb: Buffer;
+  try {
+    [lb, rb] = await Promise.all([readFile(paths.left), readFile(paths.regions)]);
+  } catch (e) {
+    if ((e as NodeJS.ErrnoException).code === 'ENOENT') return null;
+    throw e;
+  }
+  const left = decodePng(lb, paths.left);
+  const r = decodePng(rb, paths.regions);
+  if (r.width !== left.width || r.height !== left.height || r.channels !== 1 || r.bitDepth !== 8) return null;
+  return { left, regionBits: r.data as Uint8Array, width: left.width, height: left.height };
 }

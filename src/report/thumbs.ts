@@ -9,6 +9,7 @@
 import type { FloatImage, RasterImage } from '../core/image.js';
 import { REGION_BIT } from '../core/regions.js';
 import { colorTable } from './colormaps.js';
+import type { IndexedImage } from './png-palette.js';
 
 /** Thumbnails are at most this wide. */
 export const THUMB_MAX_WIDTH = 128;
@@ -104,84 +105,90 @@ export function finiteRange(d: Float32Array): [number, number] {
   return lo <= hi ? [lo, hi] : [NaN, NaN];
 }
 
-/** Disparity in viridis on the shared scale [lo, hi]; invalid pixels hatched. */
-export function colorizeDisparity(d: FloatImage, lo: number, hi: number): RasterImage {
-  const lut = colorTable('viridis');
+/** Colour-map levels in the indexed thumbnails (a 64-step map is smooth at thumbnail size). */
+export const MAP_LEVELS = 64;
+const IDX_HATCH_DARK = MAP_LEVELS;
+const IDX_HATCH_LIGHT = MAP_LEVELS + 1;
+const IDX_NO_TRUTH = MAP_LEVELS + 2;
+
+function mapPalette(name: 'viridis' | 'magma'): Uint8Array {
+  const lut = colorTable(name);
+  const pal = new Uint8Array((MAP_LEVELS + 3) * 3);
+  for (let i = 0; i < MAP_LEVELS; i++) {
+    const l = Math.round((i / (MAP_LEVELS - 1)) * 255) * 3;
+    pal[i * 3] = lut[l]!;
+    pal[i * 3 + 1] = lut[l + 1]!;
+    pal[i * 3 + 2] = lut[l + 2]!;
+  }
+  pal.set(HATCH_DARK, IDX_HATCH_DARK * 3);
+  pal.set(HATCH_LIGHT, IDX_HATCH_LIGHT * 3);
+  pal.set(NO_TRUTH, IDX_NO_TRUTH * 3);
+  return pal;
+}
+const VIRIDIS_PALETTE = mapPalette('viridis');
+const MAGMA_PALETTE = mapPalette('magma');
+
+/** Disparity in viridis on the shared scale [lo, hi] (clamped); invalid pixels hatched. */
+export function colorizeDisparity(d: FloatImage, lo: number, hi: number): IndexedImage {
   const { width, height, data } = d;
-  const out = new Uint8Array(width * height * 3);
+  const index = new Uint8Array(width * height);
   const span = hi > lo ? hi - lo : 1;
+  const top = MAP_LEVELS - 1;
   for (let y = 0; y < height; y++) {
     for (let x = 0; x < width; x++) {
       const i = y * width + x;
       const v = data[i]!;
-      const o = i * 3;
       if (v - v !== 0) {
-        const c = hatchDark(x, y) ? HATCH_DARK : HATCH_LIGHT;
-        out[o] = c[0];
-        out[o + 1] = c[1];
-        out[o + 2] = c[2];
+        index[i] = hatchDark(x, y) ? IDX_HATCH_DARK : IDX_HATCH_LIGHT;
         continue;
       }
       let t = (v - lo) / span;
       t = t < 0 ? 0 : t > 1 ? 1 : t;
-      const l = Math.round(t * 255) * 3;
-      out[o] = lut[l]!;
-      out[o + 1] = lut[l + 1]!;
-      out[o + 2] = lut[l + 2]!;
+      index[i] = Math.round(t * top);
     }
   }
-  return { width, height, channels: 3, bitDepth: 8, data: out };
+  return { width, height, index, palette: VIRIDIS_PALETTE };
 }
 
-/** |pred - truth| in magma, linear from 0 to `clip` px (clipped above); hatched where no prediction. */
-export function colorizeError(pred: FloatImage, truth: FloatImage, clip = ERROR_CLIP_PX): RasterImage {
-  const lut = colorTable('magma');
+/**
+ * |pred - truth| in magma, linear from 0 to `clip` px (clipped above); hatched where there
+ * is truth but no prediction; flat grey where there is no truth.
+ */
+export function colorizeError(pred: FloatImage, truth: FloatImage, clip = ERROR_CLIP_PX): IndexedImage {
   const { width, height } = truth;
-  const out = new Uint8Array(width * height * 3);
+  const index = new Uint8Array(width * height);
+  const top = MAP_LEVELS - 1;
   for (let y = 0; y < height; y++) {
     for (let x = 0; x < width; x++) {
       const i = y * width + x;
       const t = truth.data[i]!;
       const p = pred.data[i]!;
-      const o = i * 3;
-      let c: readonly number[];
-      if (t - t !== 0) c = NO_TRUTH;
-      else if (p - p !== 0) c = hatchDark(x, y) ? HATCH_DARK : HATCH_LIGHT;
+      if (t - t !== 0) index[i] = IDX_NO_TRUTH;
+      else if (p - p !== 0) index[i] = hatchDark(x, y) ? IDX_HATCH_DARK : IDX_HATCH_LIGHT;
       else {
-        let s = Math.abs(p - t) / clip;
-        s = s > 1 ? 1 : s;
-        const l = Math.round(s * 255) * 3;
-        out[o] = lut[l]!;
-        out[o + 1] = lut[l + 1]!;
-        out[o + 2] = lut[l + 2]!;
-        continue;
+        const s = Math.abs(p - t) / clip;
+        index[i] = Math.round((s > 1 ? 1 : s) * top);
       }
-      out[o] = c[0]!;
-      out[o + 1] = c[1]!;
-      out[o + 2] = c[2]!;
     }
   }
-  return { width, height, channels: 3, bitDepth: 8, data: out };
+  return { width, height, index, palette: MAGMA_PALETTE };
 }
 
-/** The region map as one picture: jump over flat over visible; occluded; no truth. */
-export function colorizeRegions(bits: Uint8Array, width: number, height: number): RasterImage {
-  const out = new Uint8Array(width * height * 3);
+const REGION_PALETTE = Uint8Array.from([
+  ...REGION_COLORS.unknown,
+  ...REGION_COLORS.visible,
+  ...REGION_COLORS.occluded,
+  ...REGION_COLORS.flat,
+  ...REGION_COLORS.jump,
+]);
+
+/** The region map as one picture: jump over flat over occluded/visible; no truth dark. */
+export function colorizeRegions(bits: Uint8Array, width: number, height: number): IndexedImage {
+  const index = new Uint8Array(width * height);
   for (let i = 0; i < width * height; i++) {
     const b = bits[i]!;
-    const c =
-      (b & REGION_BIT.known) === 0
-        ? REGION_COLORS.unknown
-        : b & REGION_BIT.jump
-          ? REGION_COLORS.jump
-          : b & REGION_BIT.flat
-            ? REGION_COLORS.flat
-            : b & REGION_BIT.occluded
-              ? REGION_COLORS.occluded
-              : REGION_COLORS.visible;
-    out[i * 3] = c[0];
-    out[i * 3 + 1] = c[1];
-    out[i * 3 + 2] = c[2];
+    index[i] =
+      (b & REGION_BIT.known) === 0 ? 0 : b & REGION_BIT.jump ? 4 : b & REGION_BIT.flat ? 3 : b & REGION_BIT.occluded ? 2 : 1;
   }
-  return { width, height, channels: 3, bitDepth: 8, data: out };
+  return { width, height, index, palette: REGION_PALETTE };
 }

@@ -47,14 +47,12 @@ export interface UnitMatrix {
 /** A statistic of the column totals; return NaN where undefined. */
 export type TotalsStat = (totals: Float64Array) => number;
 
-function totalsInto(m: UnitMatrix, w: Float64Array | null, out: Float64Array): void {
+function columnTotals(m: UnitMatrix, out: Float64Array): void {
   out.fill(0);
   const { units, cols, data } = m;
   for (let u = 0; u < units; u++) {
-    const wu = w === null ? 1 : w[u]!;
-    if (wu === 0) continue;
     const base = u * cols;
-    for (let c = 0; c < cols; c++) out[c] += wu * data[base + c]!;
+    for (let c = 0; c < cols; c++) out[c] += data[base + c]!;
   }
 }
 
@@ -71,18 +69,27 @@ export function bcaIntervals(m: UnitMatrix, stats: readonly TotalsStat[], opts: 
   const S = stats.length;
   if (n < 2 || B < 1) return stats.map(() => null);
   const full = new Float64Array(m.cols);
-  totalsInto(m, null, full);
+  columnTotals(m, full);
   const theta = stats.map((f) => f(full));
 
-  // Resamples: one weight vector per resample, shared by every statistic.
-  const rng = createPrng(seed);
-  const w = new Float64Array(n);
+  // Resamples: one weight vector per resample, shared by every statistic. Identical
+  // columns (e.g. the same pair count behind several means) are summed once.
+  const { compact, map } = dedupeColumns(m);
+  const draws = resampleDraws(seed, n, B);
+  const ctot = new Float64Array(compact.cols);
   const tot = new Float64Array(m.cols);
   const boot: Float64Array[] = stats.map(() => new Float64Array(B));
+  const k = compact.cols;
+  const cdata = compact.data;
   for (let b = 0; b < B; b++) {
-    w.fill(0);
-    for (let i = 0; i < n; i++) w[rng.int(n)] += 1;
-    totalsInto(m, w, tot);
+    // Draw n units with replacement and add their rows.
+    ctot.fill(0);
+    const off = b * n;
+    for (let i = 0; i < n; i++) {
+      const base = draws[off + i]! * k;
+      for (let c = 0; c < k; c++) ctot[c] += cdata[base + c]!;
+    }
+    for (let c = 0; c < m.cols; c++) tot[c] = ctot[map[c]!]!;
     for (let s = 0; s < S; s++) boot[s]![b] = stats[s]!(tot);
   }
 
@@ -112,6 +119,47 @@ export function bcaIntervals(m: UnitMatrix, stats: readonly TotalsStat[], opts: 
     out.push(bcaFromSamples(t, vals, jack[s]!, zLo, zHi, level, n));
   }
   return out;
+}
+
+/**
+ * The unit indices of B resamples of n units (B * n draws, resample-major) for a seed.
+ * The same (seed, n, B) always gives the same draws; the last few are kept, since a
+ * report resamples many cells of the same pairs.
+ */
+const drawCache = new Map<string, Int32Array>();
+export function resampleDraws(seed: number, n: number, B: number): Int32Array {
+  const key = `${seed}:${n}:${B}`;
+  const hit = drawCache.get(key);
+  if (hit) return hit;
+  const rng = createPrng(seed);
+  const out = new Int32Array(n * B);
+  for (let i = 0; i < out.length; i++) out[i] = rng.int(n);
+  if (drawCache.size >= 8) drawCache.delete(drawCache.keys().next().value as string);
+  drawCache.set(key, out);
+  return out;
+}
+
+/** The distinct columns of a matrix, and for each original column its distinct index. */
+function dedupeColumns(m: UnitMatrix): { compact: UnitMatrix; map: Int32Array } {
+  const map = new Int32Array(m.cols);
+  const keep: number[] = [];
+  const seen = new Map<string, number>();
+  const col = new Float64Array(m.units);
+  for (let c = 0; c < m.cols; c++) {
+    for (let u = 0; u < m.units; u++) col[u] = m.data[u * m.cols + c]!;
+    const key = Array.prototype.join.call(col, ',');
+    const at = seen.get(key);
+    if (at !== undefined) map[c] = at;
+    else {
+      seen.set(key, keep.length);
+      map[c] = keep.length;
+      keep.push(c);
+    }
+  }
+  const k = keep.length;
+  const data = new Float64Array(m.units * k);
+  for (let u = 0; u < m.units; u++) for (let j = 0; j < k; j++) data[u * k + j] = m.data[u * m.cols + keep[j]!]!;
+  return { compact: { units: m.units, cols: k, data }, map };
 }
 
 function finiteSorted(xs: Float64Array): Float64Array {

@@ -14,7 +14,7 @@ import { encodePfm } from '../../src/io/pfm.js';
 import { encodePng } from '../../src/io/png.js';
 import { buildRegions } from '../../src/dataset/regions.js';
 import { scorePair } from '../../src/metrics/score.js';
-import { writePreview } from '../../src/report/preview.js';
+import { writePairPreview, writePreview } from '../../src/report/preview.js';
 import { createPrng } from '../../src/stats/prng.js';
 
 export interface SyntheticConfig {
@@ -38,6 +38,8 @@ export interface SyntheticRunOptions {
   resultPairIds?: string[];
   runName?: string;
   seed?: number;
+  /** Write the per-pair thumbnails as the runner does (default true). */
+  pairPreviews?: boolean;
 }
 
 function drawPair(w: number, h: number, k: number): { left: RasterImage; truth: Float32Array } {
@@ -107,6 +109,7 @@ export async function buildSyntheticRun(o: SyntheticRunOptions): Promise<{ runDi
     await writeFile(join(datasetDir, `${ids[k]}-r.png`), png);
     await writeFile(join(datasetDir, `${ids[k]}-d.pfm`), encodePfm({ width: o.width, height: o.height, data: truth }));
     const regions = buildRegions(truth, toLuminance(left), undefined, o.width, o.height, DEFAULT_REGION_PARAMS);
+    if (o.pairPreviews !== false) await writePairPreview(runDir, 'dock-yard', resultIds[k]!, left, regions);
     for (const c of o.configs) {
       const failed = c.failEvery !== undefined && (k + 1) % c.failEvery === 0;
       let pred: Float32Array | null = null;
