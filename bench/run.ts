@@ -9,6 +9,7 @@ type Section = { name: string; load: () => Promise<{ default: () => Promise<void
 const SECTIONS: Section[] = [
   { name: 'scoring', load: () => import('./scoring.js') },
   { name: 'report', load: () => import('./report.js') },
+  { name: 'matchers', load: () => import('./matchers.js') },
 ];
 
 const wanted = process.argv.slice(2);
