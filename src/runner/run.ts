@@ -7,7 +7,7 @@
  */
 import { mkdirSync } from 'node:fs';
 import { join } from 'node:path';
-import { AbortedError } from '../core/errors.js';
+import { AbortedError, InputError } from '../core/errors.js';
 import type { LoadedPair } from '../core/pair.js';
 import type { RegionMap } from '../core/regions.js';
 import type { JobResult } from '../core/score.js';
@@ -60,10 +60,14 @@ async function writeInfo(runDir: string, info: RunInfo): Promise<void> {
 
 /** Run every job of the plan. Dataset input errors (a broken pair) end the run with an InputError. */
 export async function executeRun(plan: RunPlan, hooks: RunHooks = {}): Promise<RunOutcome> {
+  try {
+    mkdirSync(plan.runDir, { recursive: true });
+  } catch (e) {
+    throw new InputError(plan.runDir, `cannot create the run folder (${(e as NodeJS.ErrnoException).code ?? 'error'})`);
+  }
   // Scaled runs (plan.scale, see scale.ts) also stop on SIGTERM; resume, shard and cache.
   const watch = plan.scale ? watchInterrupts(hooks.signal) : undefined;
   const signal = watch?.signal ?? hooks.signal ?? new AbortController().signal;
-  mkdirSync(plan.runDir, { recursive: true });
   const journal = join(plan.runDir, JOURNAL_FILE);
   const info: RunInfo & ScaledRunInfo = runInfo(plan, new Date());
   const scale = plan.scale;
