@@ -59,7 +59,7 @@ export interface AggregateOptions {
   thresholds: number[];
   /** Bootstrap settings; false = no intervals. Default: intervals with the defaults of bootstrap.ts. */
   ci?: BootstrapOptions | false;
-  /** Also emit rows split by the manifest's pair tags. */
+  /** Also emit rows split by the manifest's pair tags (default: when any job carries tags). */
   byTag?: boolean;
 }
 
@@ -223,7 +223,7 @@ export function aggregate(results: JobResult[], opts: AggregateOptions): Summary
   const rows: SummaryRow[] = [];
   for (const list of cells.values()) {
     for (const region of REGION_IDS) rows.push(summarizeCell(list, region, null, opts));
-    if (opts.byTag) {
+    if (opts.byTag ?? jobs.some((j) => j.tags !== undefined && j.tags.length > 0)) {
       const tags = [...new Set(list.flatMap((j) => j.tags ?? []))].sort(cmp);
       for (const tag of tags) {
         const sub = list.filter((j) => (j.tags ?? []).includes(tag));

@@ -101,6 +101,9 @@ describe('aggregate', () => {
     // Hand computation: pairs a (epe 1.5) and c (0.5) -> mean 1.0.
     expect(rain.n_pairs).toBe(2);
     expect(rain.metrics.epe!.mean).toBeCloseTo(1, 12);
+    // Without the option, tag rows appear because the jobs carry tags (common practice: opt-out default).
+    expect(aggregate(jobs, { thresholds: T, ci: false }).some((r) => r.tag === 'rain')).toBe(true);
+    expect(aggregate(jobs, { thresholds: T, ci: false, byTag: false }).some((r) => r.tag !== null)).toBe(false);
   });
 
   it('rejects results lacking a requested threshold (typed input error)', () => {
