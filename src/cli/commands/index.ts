@@ -12,4 +12,6 @@ export const COMMAND_MODULES: readonly (() => Promise<Record<string, unknown>>)[
   () => import('./matchers.js'),
   () => import('./compare.js'),
   () => import('./report.js'),
+  () => import('./merge.js'),
+  () => import('./cache.js'),
 ];

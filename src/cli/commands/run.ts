@@ -10,6 +10,7 @@ import { DEFAULT_THRESHOLDS } from '../../metrics/types.js';
 import { loadExperimentFile, normaliseThresholds, parseThresholds, regionParams, type RunSettings } from '../../runner/experiment.js';
 import { planRun } from '../../runner/plan.js';
 import { runSession } from '../session.js';
+import { cacheLine, resumePlan, scaleArgOptions, scaleFromArgs, type ScaleArgs } from '../scale-options.js';
 
 export interface RunArgs {
   experiment?: string;
@@ -78,12 +79,23 @@ export function runOptions<T>(y: Argv<T>): Argv<T & RunArgs> {
     .option('json', { type: 'boolean', default: false, describe: 'Print the summary as JSON to stdout' }) as unknown as Argv<T & RunArgs>;
 }
 
-export const runCommand: CommandModule<object, RunArgs> = {
+export const runCommand: CommandModule<object, RunArgs & ScaleArgs> = {
   command: 'run [experiment]',
   describe: 'Run matchers (or score imported predictions) on datasets; write run.json, results.jsonl, pairs.csv, summary.csv, index.html',
-  builder: (y) => runOptions(y),
+  builder: (y) => scaleArgOptions(runOptions(y)),
   handler: async (a) => {
-    const plan = await planRun(settingsFromArgs(a));
-    await runSession(plan, { quiet: a.quiet, json: a.json });
+    // Added: worker pool, result cache, shards and --resume (see ../scale-options.ts).
+    const scale = scaleFromArgs(a);
+    let plan;
+    if (a.resume !== undefined) {
+      if (a.experiment !== undefined || a.dataset?.length || a.matcher?.length || a.predictions !== undefined) {
+        throw new UsageError('--resume', 'takes every setting from the run folder; give no experiment file, --dataset, --matcher or --predictions');
+      }
+      plan = await resumePlan(a.resume, scale);
+    } else {
+      plan = { ...(await planRun(settingsFromArgs(a))), scale };
+    }
+    const outcome = await runSession(plan, { quiet: a.quiet, json: a.json });
+    if (!a.quiet && !a.json) process.stdout.write(cacheLine(outcome));
   },
 };
