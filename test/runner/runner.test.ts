@@ -231,3 +231,35 @@ describe('executeRun', () => {
     expect(by.get('e-size')!.error).toMatch(/size 32x48 differs from the pair's 64x48/);
   });
 });
+
+describe('console table', () => {
+  it('shows the 2 px rate when measured, else the middle threshold (documented choice in README)', async () => {
+    const { keyThreshold } = await import('../../src/report/console-table.js');
+    expect(keyThreshold([0.25, 0.5, 1, 2, 3])).toBe(2);
+    expect(keyThreshold([0.5, 1, 4])).toBe(1);
+    expect(keyThreshold([3])).toBe(3);
+  });
+
+  it('one line per configuration and dataset, empty figures as "-"', async () => {
+    const { consoleTable } = await import('../../src/report/console-table.js');
+    const m = (mean: number | null) => ({ mean, n: 1, pooled: null, meanCi: null, pooledCi: null });
+    const row = (region: 'known' | 'visible', epe: number | null) => ({
+      matcher: 'block',
+      matcherId: 'block',
+      dataset: 'dock',
+      region,
+      tag: null,
+      n_pairs: 2,
+      n_jobs: 2,
+      n_failed: 1,
+      unit: 'pair' as const,
+      n_units: 2,
+      metrics: { coverage: m(50), epe: m(epe), over2px: m(75), time_ms: m(12.34) },
+    });
+    const text = consoleTable([row('known', 1.5), row('visible', null)], [1, 2]);
+    const lines = text.trimEnd().split('\n');
+    expect(lines).toHaveLength(3); // header, rule, one row
+    // Values as given above, formatted to the documented digits.
+    expect(lines[2]!.split(/\s+/)).toEqual(['block', 'dock', '2', '1', '50.0', '1.500', '75.00', '50.0', '-', '75.00', '12.3']);
+  });
+});
