@@ -80,6 +80,8 @@ export interface SgmLayout {
   readonly bitsR: number;
   readonly dispL: number;
   readonly dispR: number;
+  /** 2 * W int32 of scratch for the right-view WTA. */
+  readonly scratch: number;
   /** Total bytes. */
   readonly bytes: number;
 }
@@ -123,7 +125,10 @@ export function sgmLayout(width: number, height: number, levels: number, words =
   at = align16(at + n * 4);
   const dispR = at;
   at = align16(at + n * 4);
+  const scratch = at;
+  at = align16(at + width * 8);
   return {
+    scratch,
     words,
     imgL,
     imgR,

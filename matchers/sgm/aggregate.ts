@@ -50,7 +50,16 @@ export interface SgmWasmStages {
     outside: number,
   ): void;
   wtaRow(sumRow: number, out: number, width: number, levels: number, stride: number, minD: number, subpix: number, uniq: number): void;
-  wtaRightRow(sumRow: number, out: number, width: number, levels: number, stride: number, minD: number, subpix: number): void;
+  wtaRightRow(
+    sumRow: number,
+    out: number,
+    width: number,
+    levels: number,
+    stride: number,
+    minD: number,
+    subpix: number,
+    scratch: number,
+  ): void;
 }
 
 export interface SgmArena {

@@ -299,7 +299,7 @@ export async function sgmMatch(input: MatchInput, params: ParamValues, signal?: 
     if (post.lr > 0) {
       for (let y = 0; y < height; y++) {
         if (signal?.aborted) checkAbortThrow();
-        st.wtaRightRow(L.sum + y * rowVol, L.dispR + y * width * 4, width, levels, L.stride, minDisparity, post.subpix ? 1 : 0);
+        st.wtaRightRow(L.sum + y * rowVol, L.dispR + y * width * 4, width, levels, L.stride, minDisparity, post.subpix ? 1 : 0, L.scratch);
       }
       dispR = new Float32Array(arena.buffer, L.dispR, width * height).slice();
     }

@@ -310,7 +310,7 @@ describe('SGM WebAssembly pipeline stages', () => {
       const rowVol = W * L.stride * 2;
       for (let y = 0; y < H; y++) {
         arena.stages!.wtaRow(L.sum + y * rowVol, L.dispL + y * W * 4, W, D, L.stride, minD, 1, uniq);
-        arena.stages!.wtaRightRow(L.sum + y * rowVol, L.dispR + y * W * 4, W, D, L.stride, minD, 1);
+        arena.stages!.wtaRightRow(L.sum + y * rowVol, L.dispR + y * W * 4, W, D, L.stride, minD, 1, L.scratch);
       }
       const wantL = wta(compact, W, H, D, minD, { subpix: true, uniqueness: uniq });
       const wantR = wtaRight(compact, W, H, D, minD, { subpix: true });

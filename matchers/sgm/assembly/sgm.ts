@@ -81,17 +81,7 @@ export function pathRow(
   const nblocks = stride >> 3;
   const rowBytes = <usize>(width * stride * 2);
   const pxBytes = <usize>(stride * 2);
-  // padded lanes of the last block: lanes >= levels - 8 * (nblocks - 1)
-  const realInLast = levels - ((nblocks - 1) << 3);
-  let padMask = i16x8.splat(0);
-  if (realInLast <= 0) padMask = i16x8.replace_lane(padMask, 0, <i16>PAD);
-  if (realInLast <= 1) padMask = i16x8.replace_lane(padMask, 1, <i16>PAD);
-  if (realInLast <= 2) padMask = i16x8.replace_lane(padMask, 2, <i16>PAD);
-  if (realInLast <= 3) padMask = i16x8.replace_lane(padMask, 3, <i16>PAD);
-  if (realInLast <= 4) padMask = i16x8.replace_lane(padMask, 4, <i16>PAD);
-  if (realInLast <= 5) padMask = i16x8.replace_lane(padMask, 5, <i16>PAD);
-  if (realInLast <= 6) padMask = i16x8.replace_lane(padMask, 6, <i16>PAD);
-  if (realInLast <= 7) padMask = i16x8.replace_lane(padMask, 7, <i16>PAD);
+  const padMask = padMaskFor(levels, nblocks);
   const xStart = step > 0 ? 0 : width - 1;
   for (let i = 0; i < width; i++) {
     const x = xStart + i * step;
@@ -158,7 +148,46 @@ export function censusRow(img: usize, bits: usize, width: i32, height: i32, y: i
   const rh = (winH - 1) >> 1;
   const xmax = width - 1;
   const ymax = height - 1;
-  for (let x = 0; x < width; x++) {
+  // SIMD: 4 pixels at a time where the whole window is inside the image, 1-2 words
+  let x = 0;
+  const simd = words <= 2 && y - rh >= 0 && y + rh <= ymax;
+  if (simd) {
+    while (x < rw && x < width) {
+      censusPixel(img, bits, width, height, x, y, rw, rh, words);
+      x++;
+    }
+    for (; x + 3 + rw <= xmax; x += 4) {
+      const c4 = v128.load(img + (<usize>(y * width + x) << 2));
+      let acc0 = i32x4.splat(0);
+      let acc1 = i32x4.splat(0);
+      let bit: i32 = 0;
+      for (let dy = -rh; dy <= rh; dy++) {
+        const rowPtr = img + (<usize>((y + dy) * width + x) << 2);
+        for (let dx = -rw; dx <= rw; dx++) {
+          if (dx == 0 && dy == 0) continue;
+          const m = f32x4.lt(v128.load(rowPtr + (<usize>(dx << 2))), c4);
+          if (bit < 32) acc0 = v128.or(acc0, v128.and(m, i32x4.splat(1 << bit)));
+          else acc1 = v128.or(acc1, v128.and(m, i32x4.splat(1 << (bit - 32))));
+          bit++;
+        }
+      }
+      const dst = bits + (<usize>((y * width + x) * words) << 2);
+      if (words == 2) {
+        v128.store(dst, i32x4.shuffle(acc0, acc1, 0, 4, 1, 5));
+        v128.store(dst + 16, i32x4.shuffle(acc0, acc1, 2, 6, 3, 7));
+      } else {
+        v128.store(dst, acc0);
+      }
+    }
+  }
+  for (; x < width; x++) censusPixel(img, bits, width, height, x, y, rw, rh, words);
+}
+
+// One pixel of the census transform, scalar, with clamped coordinates.
+function censusPixel(img: usize, bits: usize, width: i32, height: i32, x: i32, y: i32, rw: i32, rh: i32, words: i32): void {
+  const xmax = width - 1;
+  const ymax = height - 1;
+  {
     const c = load<f32>(img + (<usize>(y * width + x) << 2));
     const base = bits + (<usize>((y * width + x) * words) << 2);
     let word: u32 = 0;
@@ -215,7 +244,30 @@ export function censusCostRow(
       const pl = bitsL + (<usize>((row + x) * 2) << 2);
       const a0 = load<u32>(pl);
       const a1 = load<u32>(pl + 4);
-      for (let k = kLo; k <= kHi; k++) {
+      const a = i64x2.splat(load<i64>(pl));
+      let k = kLo;
+      // scalar up to a multiple of 8, then 8 levels (8 right pixels, descending) per step
+      let kA = (kLo + 7) & ~7;
+      if (kA > kHi + 1) kA = kHi + 1;
+      for (; k < kA; k++) {
+        const pr = bitsR + (<usize>((row + x - minD - k) * 2) << 2);
+        const h = <i32>popcnt<u32>(a0 ^ load<u32>(pr)) + <i32>popcnt<u32>(a1 ^ load<u32>(pr + 4));
+        store<u16>(base + (<usize>k << 1), <u16>(h > 255 ? 255 : h));
+      }
+      for (; k + 7 <= kHi; k += 8) {
+        // right pixels xr0 .. xr0 + 7 hold levels k + 7 .. k
+        const p = bitsR + (<usize>((row + x - minD - k - 7) * 2) << 2);
+        const h0 = wordCounts(v128.xor(v128.load(p), a));
+        const h1 = wordCounts(v128.xor(v128.load(p + 16), a));
+        const h2 = wordCounts(v128.xor(v128.load(p + 32), a));
+        const h3 = wordCounts(v128.xor(v128.load(p + 48), a));
+        const s01 = i32x4.add(i32x4.shuffle(h0, h1, 0, 2, 4, 6), i32x4.shuffle(h0, h1, 1, 3, 5, 7));
+        const s23 = i32x4.add(i32x4.shuffle(h2, h3, 0, 2, 4, 6), i32x4.shuffle(h2, h3, 1, 3, 5, 7));
+        const n = i16x8.narrow_i32x4_u(s01, s23);
+        // two words give at most 64 < 255: no clamp needed
+        v128.store(base + (<usize>k << 1), i16x8.shuffle(n, n, 7, 6, 5, 4, 3, 2, 1, 0));
+      }
+      for (; k <= kHi; k++) {
         const pr = bitsR + (<usize>((row + x - minD - k) * 2) << 2);
         let h = <i32>popcnt<u32>(a0 ^ load<u32>(pr)) + <i32>popcnt<u32>(a1 ^ load<u32>(pr + 4));
         if (h > 255) h = 255;
@@ -234,6 +286,12 @@ export function censusCostRow(
   }
 }
 
+// Set bits of each 32-bit lane.
+@inline
+function wordCounts(v: v128): v128 {
+  return i32x4.extadd_pairwise_i16x8_u(i16x8.extadd_pairwise_i8x16_u(i8x16.popcnt(v)));
+}
+
 // Parabola vertex offset, as subpixelParabola in matchers/kernels/postprocess.ts.
 @inline
 function parabola(cm: f64, c0: f64, cp: f64): f64 {
@@ -245,40 +303,75 @@ function parabola(cm: f64, c0: f64, cp: f64): f64 {
 
 const EXCLUDED: i32 = 65535;
 
+// Lanes >= levels of the last block of a pixel hold PAD (0xFFFF) in this mask.
+function padMaskFor(levels: i32, nblocks: i32): v128 {
+  const realInLast = levels - ((nblocks - 1) << 3);
+  let m = i16x8.splat(0);
+  if (realInLast <= 0) m = i16x8.replace_lane(m, 0, <i16>PAD);
+  if (realInLast <= 1) m = i16x8.replace_lane(m, 1, <i16>PAD);
+  if (realInLast <= 2) m = i16x8.replace_lane(m, 2, <i16>PAD);
+  if (realInLast <= 3) m = i16x8.replace_lane(m, 3, <i16>PAD);
+  if (realInLast <= 4) m = i16x8.replace_lane(m, 4, <i16>PAD);
+  if (realInLast <= 5) m = i16x8.replace_lane(m, 5, <i16>PAD);
+  if (realInLast <= 6) m = i16x8.replace_lane(m, 6, <i16>PAD);
+  if (realInLast <= 7) m = i16x8.replace_lane(m, 7, <i16>PAD);
+  return m;
+}
+
 // Left-view winner-take-all of one row over S (stride levels per pixel), as wta() in
 // matchers/kernels/wta.ts: lowest level wins ties, EXCLUDED entries never win,
-// uniqueness (uniq > 0): NaN when a level more than 1 away costs <= best * (1 + uniq/100),
-// subpixel parabola at interior winners whose neighbours are not excluded.
+// uniqueness (uniq > 0): NaN when a level more than 1 away, not EXCLUDED, costs
+// <= best * (1 + uniq/100); subpixel parabola at interior winners whose neighbours
+// are not excluded. SIMD: padded levels read as EXCLUDED; for an integer c,
+// c <= lim exactly when c <= floor(lim), and floor(lim) is capped at 65534 so that
+// EXCLUDED never counts.
 export function wtaRow(sumRow: usize, out: usize, width: i32, levels: i32, stride: i32, minD: i32, subpix: i32, uniq: f64): void {
   const factor = 1 + uniq / 100;
+  const nblocks = stride >> 3;
+  const last = nblocks - 1;
+  const padMask = padMaskFor(levels, nblocks);
+  const ones = i16x8.splat(<i16>PAD);
   for (let x = 0; x < width; x++) {
     const base = sumRow + (<usize>(x * stride) << 1);
-    let best: i32 = EXCLUDED;
-    let bl: i32 = -1;
-    for (let l = 0; l < levels; l++) {
-      const c = <i32>load<u16>(base + (<usize>l << 1));
-      if (c < best) {
-        best = c;
-        bl = l;
-      }
+    let vmin = ones;
+    for (let b = 0; b < nblocks; b++) {
+      let v = v128.load(base + (<usize>b << 4));
+      if (b == last) v = v128.or(v, padMask);
+      vmin = i16x8.min_u(vmin, v);
     }
+    const best = hmin(vmin);
     const o = out + (<usize>x << 2);
-    if (bl < 0) {
+    if (best == EXCLUDED) {
       store<f32>(o, NaN);
       continue;
     }
+    const vb = i16x8.splat(<i16>best);
+    let bl: i32 = -1;
+    for (let b = 0; b < nblocks; b++) {
+      let v = v128.load(base + (<usize>b << 4));
+      if (b == last) v = v128.or(v, padMask);
+      const m = i16x8.bitmask(i16x8.eq(v, vb));
+      if (m != 0) {
+        bl = (b << 3) + ctz<i32>(m);
+        break;
+      }
+    }
     if (uniq > 0) {
       const lim = <f64>best * factor;
-      let fail = false;
-      for (let l = 0; l < levels; l++) {
-        if (l >= bl - 1 && l <= bl + 1) continue;
-        const c = <i32>load<u16>(base + (<usize>l << 1));
-        if (c != EXCLUDED && <f64>c <= lim) {
-          fail = true;
-          break;
-        }
+      const limInt: i32 = lim >= 65534 ? 65534 : <i32>Math.floor(lim);
+      const vl = i16x8.splat(<i16>limInt);
+      let cnt: i32 = 0;
+      for (let b = 0; b < nblocks; b++) {
+        let v = v128.load(base + (<usize>b << 4));
+        if (b == last) v = v128.or(v, padMask);
+        cnt += popcnt<i32>(i16x8.bitmask(i16x8.le_u(v, vl)));
       }
-      if (fail) {
+      // the winner and its two neighbours are allowed
+      for (let l = bl - 1; l <= bl + 1; l++) {
+        if (l < 0 || l >= levels) continue;
+        if (<i32>load<u16>(base + (<usize>l << 1)) <= limInt) cnt--;
+      }
+      if (cnt > 0) {
         store<f32>(o, NaN);
         continue;
       }
@@ -294,26 +387,42 @@ export function wtaRow(sumRow: usize, out: usize, width: i32, levels: i32, strid
 }
 
 // Right-view winner-take-all of one row from the left S, as wtaRight() in wta.ts:
-// dR(xr) = argmin_d S(xr + d, d) over 0 <= xr + d < width.
-export function wtaRightRow(sumRow: usize, out: usize, width: i32, levels: i32, stride: i32, minD: i32, subpix: i32): void {
+// dR(xr) = argmin_d S(xr + d, d) over 0 <= xr + d < width, lowest level on ties.
+// Reads S in memory order: for each left x and level l, the candidate of xr = x - d;
+// for a fixed xr the candidates arrive with l ascending, so a strict `<` keeps the
+// lowest level as the reference does. scratch: 2 * width i32.
+export function wtaRightRow(sumRow: usize, out: usize, width: i32, levels: i32, stride: i32, minD: i32, subpix: i32, scratch: usize): void {
+  const bestR = scratch;
+  const blR = scratch + (<usize>width << 2);
   for (let xr = 0; xr < width; xr++) {
-    let best: i32 = EXCLUDED;
-    let bl: i32 = -1;
-    for (let l = 0; l < levels; l++) {
-      const x = xr + minD + l;
-      if (x < 0) continue;
-      if (x >= width) break;
-      const c = <i32>load<u16>(sumRow + (<usize>(x * stride + l) << 1));
-      if (c < best) {
-        best = c;
-        bl = l;
+    store<i32>(bestR + (<usize>xr << 2), EXCLUDED);
+    store<i32>(blR + (<usize>xr << 2), -1);
+  }
+  for (let x = 0; x < width; x++) {
+    const base = sumRow + (<usize>(x * stride) << 1);
+    // levels with 0 <= xr = x - minD - l < width
+    let lLo = x - minD - (width - 1);
+    if (lLo < 0) lLo = 0;
+    let lHi = x - minD;
+    if (lHi > levels - 1) lHi = levels - 1;
+    for (let l = lLo; l <= lHi; l++) {
+      const c = <i32>load<u16>(base + (<usize>l << 1));
+      const xr = x - minD - l;
+      const pb = bestR + (<usize>xr << 2);
+      if (c < load<i32>(pb)) {
+        store<i32>(pb, c);
+        store<i32>(blR + (<usize>xr << 2), l);
       }
     }
+  }
+  for (let xr = 0; xr < width; xr++) {
+    const bl = load<i32>(blR + (<usize>xr << 2));
     const o = out + (<usize>xr << 2);
     if (bl < 0) {
       store<f32>(o, NaN);
       continue;
     }
+    const best = load<i32>(bestR + (<usize>xr << 2));
     let d = <f64>(minD + bl);
     const x = xr + minD + bl;
     if (subpix != 0 && bl > 0 && bl < levels - 1 && x > 0 && x < width - 1) {
