@@ -41,7 +41,7 @@
 import { REGION_BIT, REGION_IDS, type RegionMap } from '../core/regions.js';
 import type { PairScore, RegionFigures, RegionSums } from '../core/score.js';
 import { QUANTILES, type ScoreOptions } from './types.js';
-import { segmentStats } from './segment-stats.js';
+import { groupStats } from './segment-stats.js';
 
 /** Default opts.depthEps (px): truth with d + cxShift <= this is left out of depth. */
 export const DEFAULT_DEPTH_EPS = 1e-6;
@@ -67,8 +67,7 @@ export function scorePair(
   }
 
   // Pass 1: pixels per pattern, and the partition offsets of the error buffer.
-  const count = new Float64Array(256);
-  for (let i = 0; i < n; i++) count[bits[i]]++;
+  const count = countPatterns(bits);
   const start = new Int32Array(256);
   const pos = new Int32Array(256);
   let total = 0;
@@ -100,14 +99,28 @@ export function scorePair(
     collect(pred, truth, bits, vals, pos);
   }
 
-  // Per region: the partitions of the patterns that contain its bit.
+  // Per region: the union of the partitions of the patterns that contain its bit.
+  // Segment = one pattern's partition; group g = REGION_IDS[g].
   const segStart = new Int32Array(256);
   const segEnd = new Int32Array(256);
+  const member = new Int32Array(256);
+  let nSegs = 0;
+  for (let b = 1; b < 256; b++) {
+    if (pos[b] === start[b]) continue;
+    let m = 0;
+    for (let g = 0; g < REGION_IDS.length; g++) if ((b & REGION_BIT[REGION_IDS[g]]) !== 0) m |= 1 << g;
+    if (m === 0) continue;
+    segStart[nSegs] = start[b];
+    segEnd[nSegs] = pos[b];
+    member[nSegs] = m;
+    nSegs++;
+  }
+  const stats = groupStats(vals, segStart, segEnd, member, nSegs, REGION_IDS.length, thresholds, QUANTILES);
+
   const out = {} as PairScore;
-  for (const id of REGION_IDS) {
+  REGION_IDS.forEach((id, g) => {
     const bit = REGION_BIT[id];
     let pixels = 0;
-    let nSegs = 0;
     let depthCount = 0;
     let depthSumRel = 0;
     let depthSumSq = 0;
@@ -119,13 +132,8 @@ export function scorePair(
       depthSumRel += dRel[b];
       depthSumSq += dSq[b];
       depthFail += dFail[b];
-      if (pos[b] > start[b]) {
-        segStart[nSegs] = start[b];
-        segEnd[nSegs] = pos[b];
-        nSegs++;
-      }
     }
-    const st = segmentStats(vals, segStart, segEnd, nSegs, thresholds, QUANTILES);
+    const st = stats[g];
     const invalid = pixels - st.count;
     const s: RegionSums = {
       pixels,
@@ -140,7 +148,7 @@ export function scorePair(
       depthFail,
     };
     out[id] = { sums: s, figures: figuresFromSums(s, thresholds, st.quantiles) };
-  }
+  });
   return out;
 }
 
@@ -214,6 +222,26 @@ export function addSums(a: RegionSums, b: RegionSums): RegionSums {
   };
 }
 
+/** Pixels per region byte value; four tables break the increment chains of runs. */
+function countPatterns(bits: Uint8Array): Float64Array {
+  const c0 = new Int32Array(256);
+  const c1 = new Int32Array(256);
+  const c2 = new Int32Array(256);
+  const c3 = new Int32Array(256);
+  const n = bits.length;
+  let i = 0;
+  for (; i + 3 < n; i += 4) {
+    c0[bits[i]]++;
+    c1[bits[i + 1]]++;
+    c2[bits[i + 2]]++;
+    c3[bits[i + 3]]++;
+  }
+  for (; i < n; i++) c0[bits[i]]++;
+  const out = new Float64Array(256);
+  for (let b = 0; b < 256; b++) out[b] = c0[b] + c1[b] + c2[b] + c3[b];
+  return out;
+}
+
 function collect(pred: Float32Array, truth: Float32Array, bits: Uint8Array, vals: Float64Array, pos: Int32Array): void {
   const n = bits.length;
   for (let i = 0; i < n; i++) {
@@ -251,9 +279,12 @@ function collectWithDepth(
       if (dt > eps) {
         const dp = p + shift;
         if (dp > 0) {
-          const zt = fb / dt;
-          const dz = fb / dp - zt;
-          dRel[b] += (dz < 0 ? -dz : dz) / zt;
+          // Zp - Zt = fB/dp - fB/dt = fB (dt - dp) / (dp dt); |Zp - Zt| / Zt = |dt - dp| / dp.
+          // One division instead of three; same quantities as the file comment defines.
+          const diff = dt - dp;
+          const inv = 1 / (dp * dt);
+          const dz = fb * diff * inv;
+          dRel[b] += Math.abs(diff) * dt * inv;
           dSq[b] += dz * dz;
           dCount[b]++;
         } else {
