@@ -151,56 +151,109 @@ const PAT_IO = new Float64Array(6);
 
 /**
  * patternAt for the renderer's hot loop: reads (u, v) from io[3], io[4] and writes the value
- * to io[5] (doubles passed as arguments or returned from a call that is not inlined are boxed).
+ * to io[5]. Each pattern has its own small function taking only arrays and integers, so no
+ * double crosses a call boundary (V8 boxes doubles passed to or returned from calls it does
+ * not inline) and the small helpers inline.
  */
 export function patternInto(cm: CompiledMaterials, mi: number, io: Float64Array): void {
-  const u = io[3]!;
-  const v = io[4]!;
   const m = cm.m;
   const o = mi * MSTRIDE;
   const kind = m[o];
-  const seed = m[o + 7]!;
   const table = cm.tables[mi]!;
-  if (kind === PAT_NOISE) {
-    const s = m[o + 8]!;
-    const n = fractalNoise(table, u / s, v / s, m[o + 9]!, m[o + 10]!);
-    io[5] = clamp01(0.5 + (n - 0.5) * 2.2);
+  if (kind === PAT_NOISE) noiseInto(m, o, table, io);
+  else if (kind === PAT_PAINT) paintInto(m, o, table, io);
+  else if (kind === PAT_SLATS) slatsInto(m, o, table, io);
+  else if (kind === PAT_DOTS) dotsInto(m, o, io);
+  else planksInto(m, o, table, io);
+}
+
+function noiseInto(m: Float64Array, o: number, table: Float32Array, io: Float64Array): void {
+  const u = io[3]!;
+  const v = io[4]!;
+  // fractalNoise(table, u / s, v / s, octaves, gain), written out so that no double
+  // crosses a call boundary in the hot loop.
+  const s = m[o + 8]!;
+  const octaves = m[o + 9]!;
+  const gain = m[o + 10]!;
+  const x0 = u / s;
+  const y0 = v / s;
+  let sum = 0;
+  let norm = 0;
+  let amp = 1;
+  let f = 1;
+  for (let k = 0; k < octaves; k++) {
+    const x = x0 * f + k * 37.618;
+    const y = y0 * f + k * 91.414;
+    const fx0 = Math.floor(x);
+    const fy0 = Math.floor(y);
+    const fx = x - fx0;
+    const fy = y - fy0;
+    const ix = fx0 & NOISE_MASK;
+    const ix1 = (ix + 1) & NOISE_MASK;
+    const r0 = (fy0 & NOISE_MASK) * NOISE_SIZE;
+    const r1 = ((fy0 + 1) & NOISE_MASK) * NOISE_SIZE;
+    const sx = fx * fx * (3 - 2 * fx);
+    const sy = fy * fy * (3 - 2 * fy);
+    const a = table[r0 + ix]!;
+    const b = table[r0 + ix1]!;
+    const c = table[r1 + ix]!;
+    const d = table[r1 + ix1]!;
+    const top = a + (b - a) * sx;
+    sum += amp * (top + (c + (d - c) * sx - top) * sy);
+    norm += amp;
+    amp *= gain;
+    f *= 2;
+  }
+  const n = sum / norm;
+  const t = 0.5 + (n - 0.5) * 2.2;
+  io[5] = t < 0 ? 0 : t > 1 ? 1 : t;
+}
+
+function paintInto(m: Float64Array, o: number, table: Float32Array, io: Float64Array): void {
+  const u = io[3]!;
+  const v = io[4]!;
+  const s = m[o + 9]!;
+  io[5] = clamp01(0.5 + m[o + 8]! * 2 * (valueNoise(table, u / s, v / s) - 0.5));
+}
+
+function slatsInto(m: Float64Array, o: number, table: Float32Array, io: Float64Array): void {
+  const u = io[3]!;
+  const v = io[4]!;
+  const period = m[o + 8]!;
+  const c = m[o + 10]! === 1 ? v : u;
+  const f = c / period - Math.floor(c / period);
+  const stripe = f < m[o + 9]! ? 1 : 0;
+  const grain = m[o + 11]!;
+  const ns = period * 0.7;
+  io[5] = clamp01(stripe * (1 - grain) + grain * valueNoise(table, u / ns, v / ns));
+}
+
+function dotsInto(m: Float64Array, o: number, io: Float64Array): void {
+  const u = io[3]!;
+  const v = io[4]!;
+  const seed = m[o + 7]!;
+  const s = m[o + 8]!;
+  const x = u / s;
+  const y = v / s;
+  const ix = Math.floor(x);
+  const iy = Math.floor(y);
+  if (lattice(ix, iy, seed) >= m[o + 9]!) {
+    io[5] = 0;
     return;
   }
-  if (kind === PAT_PAINT) {
-    const s = m[o + 9]!;
-    io[5] = clamp01(0.5 + m[o + 8]! * 2 * (valueNoise(table, u / s, v / s) - 0.5));
-    return;
-  }
-  if (kind === PAT_SLATS) {
-    const period = m[o + 8]!;
-    const c = m[o + 10]! === 1 ? v : u;
-    const f = c / period - Math.floor(c / period);
-    const stripe = f < m[o + 9]! ? 1 : 0;
-    const grain = m[o + 11]!;
-    const ns = period * 0.7;
-    io[5] = clamp01(stripe * (1 - grain) + grain * valueNoise(table, u / ns, v / ns));
-    return;
-  }
-  if (kind === PAT_DOTS) {
-    const s = m[o + 8]!;
-    const x = u / s;
-    const y = v / s;
-    const ix = Math.floor(x);
-    const iy = Math.floor(y);
-    if (lattice(ix, iy, seed) >= m[o + 9]!) {
-      io[5] = 0;
-      return;
-    }
-    const r = m[o + 10]!;
-    const slack = 0.5 - r;
-    const jx = (lattice(ix, iy, (seed ^ 0x68bc21eb) >>> 0) - 0.5) * 2 * slack;
-    const jy = (lattice(ix, iy, (seed ^ 0x02e5be93) >>> 0) - 0.5) * 2 * slack;
-    const ex = x - ix - 0.5 - jx;
-    const ey = y - iy - 0.5 - jy;
-    io[5] = ex * ex + ey * ey <= r * r ? 1 : 0;
-    return;
-  }
+  const r = m[o + 10]!;
+  const slack = 0.5 - r;
+  const jx = (lattice(ix, iy, (seed ^ 0x68bc21eb) >>> 0) - 0.5) * 2 * slack;
+  const jy = (lattice(ix, iy, (seed ^ 0x02e5be93) >>> 0) - 0.5) * 2 * slack;
+  const ex = x - ix - 0.5 - jx;
+  const ey = y - iy - 0.5 - jy;
+  io[5] = ex * ex + ey * ey <= r * r ? 1 : 0;
+}
+
+function planksInto(m: Float64Array, o: number, table: Float32Array, io: Float64Array): void {
+  const u = io[3]!;
+  const v = io[4]!;
+  const seed = m[o + 7]!;
   // planks: boards of `period` along v, gaps between them, tint per board, grain along u
   const period = m[o + 8]!;
   const gs = m[o + 9]!;

@@ -1,6 +1,6 @@
 import { describe, expect, test } from 'vitest';
 import { compileMaterials } from '../../src/synth/index.js';
-import { NOISE_SIZE, noiseTable, patternAt, valueNoise } from '../../src/synth/texture.js';
+import { NOISE_SIZE, fractalNoise, noiseTable, patternAt, valueNoise } from '../../src/synth/texture.js';
 import type { Material, Scene } from '../../src/synth/index.js';
 
 function mats(...m: Material[]): ReturnType<typeof compileMaterials> {
@@ -50,6 +50,20 @@ describe('procedural textures (checks against their definitions, worked by hand)
     expect(Math.abs(valueNoise(t, 6 - 1e-9, 2.5) - valueNoise(t, 6 + 1e-9, 2.5))).toBeLessThan(1e-6);
     // A different seed gives a different table.
     expect(noiseTable(78)).not.toEqual(t);
+  });
+
+  test('the noise pattern is the contrast-stretched fractal sum of its lattice table', () => {
+    // Definition (src/synth/texture.ts): clamp(0.5 + 2.2 * (fractalNoise(u/s, v/s) - 0.5)),
+    // the renderer's written-out loop must equal the reference function fractalNoise.
+    const cm = mats({ ...grey, pattern: { kind: 'noise', scale: 0.3, octaves: 5, gain: 0.55 }, seed: 11 });
+    const table = cm.tables[0]!;
+    for (let k = 0; k < 500; k++) {
+      const u = -20 + k * 0.0917;
+      const v = 3 - k * 0.0533;
+      const n = fractalNoise(table, u / 0.3, v / 0.3, 5, 0.55);
+      const want = Math.min(1, Math.max(0, 0.5 + (n - 0.5) * 2.2));
+      expect(patternAt(cm, 0, u, v)).toBeCloseTo(want, 12);
+    }
   });
 
   test('flat paint stays within its amplitude; noise spans the range', () => {
