@@ -196,6 +196,10 @@ describe('block matcher on a random-dot stereogram (Julesz 1960)', () => {
       expect(shareCorrect(d, s, mask, 1)).toBeGreaterThanOrEqual(0.99);
       // Integer-disparity scene: the parabola must not push the answer past half a pixel.
       expect(shareCorrect(d, s, mask, 0.5)).toBeGreaterThanOrEqual(0.99);
+      // Every visible pixel, borders and edges of the square included: the loss there is
+      // bounded by the window's reach (measured 98.8-99.3% on this scene; bound is ours).
+      const visible = Uint8Array.from(s.occluded, (o) => 1 - o);
+      expect(shareCorrect(d, s, visible, 1)).toBeGreaterThanOrEqual(0.98);
     });
   }
 
