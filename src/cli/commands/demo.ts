@@ -51,6 +51,7 @@ export const demoCommand: CommandModule<object, DemoArgs> = {
       .option('quiet', { alias: 'q', type: 'boolean', default: false })
       .option('json', { type: 'boolean', default: false, describe: 'Print the summary as JSON to stdout' }) as unknown as Argv<DemoArgs>,
   handler: async (a) => {
+    const t0 = performance.now();
     const data = resolve(a.data);
     if (!existsSync(join(data, MANIFEST_FILE))) {
       if (!a.quiet) process.stderr.write(`rendering the demo dataset into ${shownPath(data)}/ ...\n`);
@@ -68,7 +69,6 @@ export const demoCommand: CommandModule<object, DemoArgs> = {
       name: 'demo',
       baseDir: process.cwd(),
     });
-    const t0 = performance.now();
     const outcome = await runSession(plan, { quiet: a.quiet, json: a.json });
     if (!a.quiet && !a.json) {
       const secs = ((performance.now() - t0) / 1000).toFixed(1);
