@@ -28,7 +28,7 @@ describe('demo dataset (checks: DESIGN.md manifest form, read back with src/io a
   test('writeDemoDataset writes >= 6 dock pairs + 1 random-dot pair, all files consistent', async () => {
     const dir = tempDir();
     const progress: [number, number][] = [];
-    await writeDemoDataset(dir, { width: 160, height: 120, seed: 4, onProgress: (d, t) => progress.push([d, t]) });
+    await writeDemoDataset(dir, { width: 128, height: 96, seed: 4, samples: 2, onProgress: (d, t) => progress.push([d, t]) });
     const raw = JSON.parse(readFileSync(join(dir, 'dataset.json'), 'utf8')) as RawManifest;
     expect(raw.name).toBe('dock-demo');
     expect(raw.camera).toBeDefined();
@@ -54,8 +54,8 @@ describe('demo dataset (checks: DESIGN.md manifest form, read back with src/io a
       const truth = await readDisparityFile(join(dir, p.truth));
       const occ = await readMaskFile(join(dir, p.occlusion));
       for (const img of [left, right, truth, occ]) {
-        expect(img.width).toBe(160);
-        expect(img.height).toBe(120);
+        expect(img.width).toBe(128);
+        expect(img.height).toBe(96);
       }
       expect(left.bitDepth).toBe(8);
       let occluded = 0;
