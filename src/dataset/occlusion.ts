@@ -24,11 +24,13 @@
  * d > d_p + tau and u <= u_p + tol" is decided by the front pixel with the smallest
  * d > d_p + tau (it has the smallest u of those): one binary search. Insertion removes a
  * contiguous block of dominated pixels and shifts the rest with copyWithin (a memmove).
- * Cost per row: O(W log F) comparisons plus the shifts, where F is the front size;
- * F stays small on real disparity maps (a surface whose disparity falls to the right
- * collapses the front; one rising to the right appends at the cheap end). The worst
- * case is O(W * F) element moves with F <= W. Tests compare it with the brute-force
- * O(W^2) definition (occlusionReference) on random rows.
+ * Searches gallop from the low-d end, where a surface rising to the right inserts, so
+ * they are O(1) there; a surface falling to the right collapses the front. Entries more
+ * than (row disparity span + tol) columns to the right can neither occlude nor dominate
+ * anything still to come; those at the head of the front are dropped, which bounds the
+ * front on smooth rows by about the disparity span. Worst case O(W * F) element moves per
+ * row (F = front size <= W). Tests compare it with the brute-force O(W^2) definition
+ * (occlusionReference) on random rows.
  */
 
 export const OCCLUDED = 1;
@@ -47,49 +49,50 @@ export function deriveOcclusion(
 ): Uint8Array {
   checkArgs(truth, width, height, tol, tau);
   const out = new Uint8Array(width * height);
-  // Front, stored with d DEcreasing along the array (so the low-d end, where a surface
-  // rising to the right inserts, is the array's end): frontD[0] > frontD[1] > ...
-  // and frontU[0] > frontU[1] > ...
+  // Front entries [head, size), stored with d DEcreasing along the array (so the low-d
+  // end, where a surface rising to the right inserts, is the array's end):
+  // frontD[head] > frontD[head + 1] > ... and the same for frontU; frontX = column.
   const frontD = new Float64Array(width);
   const frontU = new Float64Array(width);
+  const frontX = new Int32Array(width);
   const right = width - 0.5;
+  const tolPos = tol > 0 ? tol : 0;
   for (let y = 0; y < height; y++) {
     const row = y * width;
+    // Reach: q can occlude p only if x_q - x_p <= d_q - d_p + tol <= span + tol, and can
+    // dominate a newer entry r only if x_q - x_r <= d_q - d_r <= span. Entries farther
+    // right than that are stale for every pixel still to come; those at the head of the
+    // front are dropped (only an optimisation: stale entries never change an answer).
+    let dMin = Infinity;
+    let dMax = -Infinity;
+    for (let x = 0; x < width; x++) {
+      const d = truth[row + x];
+      if (d - d === 0) {
+        if (d < dMin) dMin = d;
+        if (d > dMax) dMax = d;
+      }
+    }
+    const reach = dMax - dMin + tolPos;
+    let head = 0;
     let size = 0;
     for (let x = width - 1; x >= 0; x--) {
       const d = truth[row + x];
       if (!(d - d === 0)) continue; // NaN or infinite: neither occluder nor occluded
+      while (head < size && frontX[head] - x > reach) head++;
       const u = x - d;
       if (u < -0.5 || u > right) {
         out[row + x] = OUTSIDE;
-      } else if (size > 0) {
-        // Last front index with frontD > d + tau (front is d-descending): the one with the
-        // smallest such d, hence the smallest u among the candidates.
-        const thr = d + tau;
-        let lo = 0;
-        let hi = size; // find first index with frontD <= thr
-        while (lo < hi) {
-          const mid = (lo + hi) >>> 1;
-          if (frontD[mid] > thr) lo = mid + 1;
-          else hi = mid;
-        }
-        if (lo > 0 && frontU[lo - 1] <= u + tol) out[row + x] = OCCLUDED;
+      } else if (size > head) {
+        // The last entry with frontD > d + tau has the smallest u among the candidates.
+        const i = firstAtOrBelow(frontD, head, size, d + tau);
+        if (i > head && frontU[i - 1] <= u + tol) out[row + x] = OCCLUDED;
       }
-      // Insert (d, u) into the front. Pixels it dominates (frontD <= d and frontU >= u)
-      // form a contiguous block starting at the first index with frontD <= d.
-      let lo = 0;
-      let hi = size;
-      while (lo < hi) {
-        const mid = (lo + hi) >>> 1;
-        if (frontD[mid] > d) lo = mid + 1;
-        else hi = mid;
-      }
-      // lo = first index with frontD <= d. Is the new pixel itself dominated (some entry
-      // with d' >= d and u' <= u)? The smallest u among entries with d' >= d sits at lo
-      // when frontD[lo] === d (d is strictly decreasing, so at most one such entry), else
-      // at lo - 1.
+      // Insert (d, u). lo = first entry with frontD <= d. Is the new pixel dominated (an
+      // entry with d' >= d and u' <= u)? The smallest u among entries with d' >= d sits
+      // at lo when frontD[lo] === d (d strictly decreasing: at most one), else at lo - 1.
+      const lo = firstAtOrBelow(frontD, head, size, d);
       if (lo < size && frontD[lo] === d && frontU[lo] <= u) continue;
-      if (lo > 0 && frontU[lo - 1] <= u) continue;
+      if (lo > head && frontU[lo - 1] <= u) continue;
       // Entries from lo on have frontD <= d; those with frontU >= u are dominated.
       let end = lo;
       while (end < size && frontU[end] >= u) end++;
@@ -98,18 +101,45 @@ export function deriveOcclusion(
         if (lo < size) {
           frontD.copyWithin(lo + 1, lo, size);
           frontU.copyWithin(lo + 1, lo, size);
+          frontX.copyWithin(lo + 1, lo, size);
         }
         size++;
       } else if (removed > 1) {
         frontD.copyWithin(lo + 1, end, size);
         frontU.copyWithin(lo + 1, end, size);
+        frontX.copyWithin(lo + 1, end, size);
         size -= removed - 1;
       }
       frontD[lo] = d;
       frontU[lo] = u;
+      frontX[lo] = x;
     }
   }
   return out;
+}
+
+/**
+ * First index i in [head, size) with fd[i] <= key (fd strictly decreasing), or size.
+ * Galloping search from the end: O(1) when the answer is at the end (the common case
+ * of a surface rising to the right), O(log k) when it is k entries from the end.
+ */
+function firstAtOrBelow(fd: Float64Array, head: number, size: number, key: number): number {
+  if (size === head || fd[size - 1] > key) return size;
+  let hi = size - 1; // fd[hi] <= key
+  let step = 1;
+  let lo = hi - step;
+  while (lo >= head && fd[lo] <= key) {
+    hi = lo;
+    step <<= 1;
+    lo = hi - step;
+  }
+  let a = lo < head ? head : lo + 1;
+  while (a < hi) {
+    const mid = (a + hi) >>> 1;
+    if (fd[mid] > key) a = mid + 1;
+    else hi = mid;
+  }
+  return hi;
 }
 
 /**

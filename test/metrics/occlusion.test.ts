@@ -80,8 +80,8 @@ describe('deriveOcclusion', () => {
 
   it('matches the brute-force O(W^2) definition on random rows (several disparity structures)', () => {
     const r = rng(1234);
-    for (let trial = 0; trial < 300; trial++) {
-      const w = 1 + Math.floor(r() * 160);
+    for (let trial = 0; trial < 400; trial++) {
+      const w = 1 + Math.floor(r() * (trial % 7 === 0 ? 500 : 160)); // wide rows: many stale front entries
       const h = 1 + Math.floor(r() * 3);
       const truth = new Float32Array(w * h);
       const kind = trial % 5;
@@ -96,7 +96,7 @@ describe('deriveOcclusion', () => {
         if (r() < 0.05) d = r() < 0.5 ? NaN : Infinity;
         truth[i] = d;
       }
-      const tol = [0.5, 0, 1, 0.25][trial % 4];
+      const tol = [0.5, 0, 1, 0.25, -0.25][trial % 5];
       const tau = [0.5, 0, 1, 0.5][(trial >> 2) % 4];
       const fast = deriveOcclusion(truth, w, h, tol, tau);
       const ref = occlusionReference(truth, w, h, tol, tau);
