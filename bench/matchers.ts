@@ -11,6 +11,7 @@
  * (width * height * levels / time).
  * Accuracy: `visible` over2px (scored by src/metrics scorePair on src/dataset
  * buildRegions), mean over the demo pairs.
+ * PARALLAX_BENCH_MATCHERS=sgm,sgbm (ids: block, census, sgm, bp, bm, sgbm) runs a subset.
  */
 import { spawn, type ChildProcessWithoutNullStreams } from 'node:child_process';
 import { existsSync, mkdtempSync, readFileSync, rmSync, writeFileSync } from 'node:fs';
@@ -251,7 +252,11 @@ export default async function (): Promise<void> {
     type Row = { label: string; demoMs: number; demoMde: number; largeMs: number; largeMde: number; over2: number };
     const rows: Row[] = [];
     let sgmStages = '';
-    const all = [...OURS.map((c) => ({ c, ours: true })), ...(cv ? CV.map((c) => ({ c, ours: false })) : [])];
+    // PARALLAX_BENCH_MATCHERS=sgm,sgbm limits the run to those ids (block, census, sgm, bp, bm, sgbm)
+    const only = process.env.PARALLAX_BENCH_MATCHERS?.split(',').map((x) => x.trim());
+    const all = [...OURS.map((c) => ({ c, ours: true })), ...(cv ? CV.map((c) => ({ c, ours: false })) : [])].filter(
+      ({ c }) => !only || only.includes(c.id),
+    );
     for (const { c, ours } of all) {
       let demoMs = 0;
       let demoMde = 0;

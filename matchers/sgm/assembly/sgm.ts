@@ -4,6 +4,9 @@
 // overflow proof there). Compiled by scripts/build-wasm.sh with --enable simd -O3.
 
 const PAD: i32 = 0xffff;
+// 256 int32 of scratch for the P2' table, inside the first 64 KiB that the host leaves
+// to this module (the module has no data segments).
+const P2_TABLE: usize = 1024;
 
 // Smallest lane of a vector of 8 uint16.
 @inline
@@ -82,6 +85,14 @@ export function pathRow(
   const rowBytes = <usize>(width * stride * 2);
   const pxBytes = <usize>(stride * 2);
   const padMask = padMaskFor(levels, nblocks);
+  // P2' for every |dI| in 0..255 (integer division once per row, not per pixel)
+  if (edgeK > 0) {
+    for (let dI = 0; dI < 256; dI++) {
+      let v = (p2 * edgeK) / (edgeK + dI);
+      if (v < p1) v = p1;
+      store<i32>(P2_TABLE + (<usize>dI << 2), v);
+    }
+  }
   const xStart = step > 0 ? 0 : width - 1;
   for (let i = 0; i < width; i++) {
     const x = xStart + i * step;
@@ -114,11 +125,7 @@ export function pathRow(
       } else {
         const mp = <i32>load<u16>(minBase + <usize>(nx << 1));
         let p2e = p2;
-        if (edgeK > 0) {
-          const dI = g > gn ? g - gn : gn - g;
-          p2e = (p2 * edgeK) / (edgeK + dI);
-          if (p2e < p1) p2e = p1;
-        }
+        if (edgeK > 0) p2e = load<i32>(P2_TABLE + (<usize>(g > gn ? g - gn : gn - g) << 2));
         mn = pathPixel(cPtr, rowBase + <usize>nx * pxBytes, outPtr, nblocks, padMask, mp, p1, p2e);
       }
       store<u16>(curMins + <usize>(dir * width * 2) + <usize>(x << 1), <u16>mn);
@@ -237,9 +244,8 @@ export function censusCostRow(
     if (kLo < 0) kLo = 0;
     let kHi = x - minD;
     if (kHi > levels - 1) kHi = levels - 1;
-    for (let k = 0; k < levels; k++) {
-      if (k < kLo || k > kHi) store<u16>(base + (<usize>k << 1), <u16>outside);
-    }
+    for (let k = 0; k < kLo && k < levels; k++) store<u16>(base + (<usize>k << 1), <u16>outside);
+    for (let k = kHi + 1 > 0 ? kHi + 1 : 0; k < levels; k++) store<u16>(base + (<usize>k << 1), <u16>outside);
     if (words == 2) {
       const pl = bitsL + (<usize>((row + x) * 2) << 2);
       const a0 = load<u32>(pl);
