@@ -41,7 +41,7 @@ export function encodePalettePng(img: IndexedImage): Buffer {
     Buffer.from(SIGNATURE),
     chunk('IHDR', ihdr),
     chunk('PLTE', palette),
-    chunk('IDAT', deflateSync(raw, { level: 9 })),
+    chunk('IDAT', deflateSync(raw, { level: 6 })),
     chunk('IEND', new Uint8Array(0)),
   ]);
 }
