@@ -11,19 +11,34 @@ export const PAT_SLATS = 2;
 export const PAT_DOTS = 3;
 export const PAT_PLANKS = 4;
 
-/** Float64 parameters per material: kind, colorA(1..3), colorB(4..6), seed(7), s1..s4(8..11). */
-export const MSTRIDE = 12;
+/**
+ * Float64 parameters per material: kind, colorA(1..3), colorB(4..6), seed(7), s1..s4(8..11),
+ * and the material's offset into the shared noise lattice (12, 13) in lattice cells.
+ */
+export const MSTRIDE = 14;
 
 export interface CompiledMaterials {
   readonly count: number;
   readonly m: Float64Array;
-  /** Per material, a NOISE_SIZE x NOISE_SIZE table of lattice values (a periodic value-noise lattice). */
+  /**
+   * Per material, the NOISE_SIZE x NOISE_SIZE table of lattice values (a periodic value-noise
+   * lattice). All materials share one table (building one per material cost ~1.5 ms each,
+   * which dominated bulk sets of small images); each material reads it at its own seeded
+   * offset (m[o + 12], m[o + 13]), so different seeds still give different fields.
+   */
   readonly tables: readonly Float32Array[];
 }
 
 /** Side of the periodic noise lattice (cells). */
 export const NOISE_SIZE = 256;
 const NOISE_MASK = NOISE_SIZE - 1;
+
+let SHARED: Float32Array | undefined;
+/** The lattice table every material reads (built once per process). */
+export function sharedTable(): Float32Array {
+  SHARED ??= noiseTable(0x51ed270b);
+  return SHARED;
+}
 
 /** The lattice table of one seed: hash of each (ix, iy) mapped to [0, 1). */
 export function noiseTable(seed: number): Float32Array {
@@ -84,7 +99,13 @@ export function compileMaterials(scene: Scene): CompiledMaterials {
     }
     if (m[o] !== PAT_PAINT && !(m[o + 8]! > 0)) throw new Error(`scene ${scene.name}: material ${i} needs a positive scale/period`);
   }
-  const tables = mats.map((q) => noiseTable(q.seed >>> 0));
+  for (let i = 0; i < mats.length; i++) {
+    const seed = mats[i]!.seed >>> 0;
+    m[i * MSTRIDE + 12] = (fmix32((seed ^ 0x2545f491) >>> 0) / 4294967296) * NOISE_SIZE;
+    m[i * MSTRIDE + 13] = (fmix32((seed ^ 0x6a09e667) >>> 0) / 4294967296) * NOISE_SIZE;
+  }
+  const shared = sharedTable();
+  const tables = mats.map(() => shared);
   return { count: mats.length, m, tables };
 }
 
@@ -177,13 +198,15 @@ function noiseInto(m: Float64Array, o: number, table: Float32Array, io: Float64A
   const gain = m[o + 10]!;
   const x0 = u / s;
   const y0 = v / s;
+  const ox = m[o + 12]!;
+  const oy = m[o + 13]!;
   let sum = 0;
   let norm = 0;
   let amp = 1;
   let f = 1;
   for (let k = 0; k < octaves; k++) {
-    const x = x0 * f + k * 37.618;
-    const y = y0 * f + k * 91.414;
+    const x = (x0 + ox) * f + k * 37.618;
+    const y = (y0 + oy) * f + k * 91.414;
     const fx0 = Math.floor(x);
     const fy0 = Math.floor(y);
     const fx = x - fx0;
@@ -213,7 +236,7 @@ function paintInto(m: Float64Array, o: number, table: Float32Array, io: Float64A
   const u = io[3]!;
   const v = io[4]!;
   const s = m[o + 9]!;
-  io[5] = clamp01(0.5 + m[o + 8]! * 2 * (valueNoise(table, u / s, v / s) - 0.5));
+  io[5] = clamp01(0.5 + m[o + 8]! * 2 * (valueNoise(table, u / s + m[o + 12]!, v / s + m[o + 13]!) - 0.5));
 }
 
 function slatsInto(m: Float64Array, o: number, table: Float32Array, io: Float64Array): void {
@@ -225,7 +248,7 @@ function slatsInto(m: Float64Array, o: number, table: Float32Array, io: Float64A
   const stripe = f < m[o + 9]! ? 1 : 0;
   const grain = m[o + 11]!;
   const ns = period * 0.7;
-  io[5] = clamp01(stripe * (1 - grain) + grain * valueNoise(table, u / ns, v / ns));
+  io[5] = clamp01(stripe * (1 - grain) + grain * valueNoise(table, u / ns + m[o + 12]!, v / ns + m[o + 13]!));
 }
 
 function dotsInto(m: Float64Array, o: number, io: Float64Array): void {
@@ -265,6 +288,6 @@ function planksInto(m: Float64Array, o: number, table: Float32Array, io: Float64
     return;
   }
   const tint = lattice(board, 7, seed);
-  const grain = valueNoise(table, u / (gs * 8) + 101.3, v / gs + 57.9);
+  const grain = valueNoise(table, u / (gs * 8) + m[o + 12]!, v / gs + m[o + 13]!);
   io[5] = clamp01(0.2 + 0.45 * tint + 0.35 * grain);
 }

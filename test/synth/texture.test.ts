@@ -53,17 +53,30 @@ describe('procedural textures (checks against their definitions, worked by hand)
   });
 
   test('the noise pattern is the contrast-stretched fractal sum of its lattice table', () => {
-    // Definition (src/synth/texture.ts): clamp(0.5 + 2.2 * (fractalNoise(u/s, v/s) - 0.5)),
-    // the renderer's written-out loop must equal the reference function fractalNoise.
+    // Definition (src/synth/texture.ts): clamp(0.5 + 2.2 * (fractalNoise(u/s + ox, v/s + oy) - 0.5))
+    // with the material's lattice offset (ox, oy); the renderer's written-out loop must
+    // equal the reference function fractalNoise.
     const cm = mats({ ...grey, pattern: { kind: 'noise', scale: 0.3, octaves: 5, gain: 0.55 }, seed: 11 });
     const table = cm.tables[0]!;
+    const ox = cm.m[12]!;
+    const oy = cm.m[13]!;
     for (let k = 0; k < 500; k++) {
       const u = -20 + k * 0.0917;
       const v = 3 - k * 0.0533;
-      const n = fractalNoise(table, u / 0.3, v / 0.3, 5, 0.55);
+      const n = fractalNoise(table, u / 0.3 + ox, v / 0.3 + oy, 5, 0.55);
       const want = Math.min(1, Math.max(0, 0.5 + (n - 0.5) * 2.2));
       expect(patternAt(cm, 0, u, v)).toBeCloseTo(want, 12);
     }
+  });
+
+  test('materials with different seeds read the shared lattice at different offsets', () => {
+    const cm = mats(
+      { ...grey, pattern: { kind: 'noise', scale: 0.3 }, seed: 1 },
+      { ...grey, pattern: { kind: 'noise', scale: 0.3 }, seed: 2 },
+    );
+    let diff = 0;
+    for (let k = 0; k < 100; k++) diff += Math.abs(patternAt(cm, 0, k * 0.13, 1) - patternAt(cm, 1, k * 0.13, 1));
+    expect(diff / 100).toBeGreaterThan(0.05);
   });
 
   test('flat paint stays within its amplitude; noise spans the range', () => {
