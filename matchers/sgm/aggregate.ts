@@ -7,7 +7,7 @@
  * reference). 'auto' takes wasm when the file is there and falls back to TypeScript
  * with a one-time warning otherwise.
  */
-import { AbortedError } from '../../src/core/errors.js';
+import { AbortedError, MatcherFailure } from '../../src/core/errors.js';
 import { pathRowTs, sgmLayout, type SgmLayout } from '../kernels/sgm.js';
 import { instantiateKernel, loadWasmModule, wasmPath, WASM_MAX_BYTES } from './wasm.js';
 
@@ -89,6 +89,10 @@ export interface SgmAggregateOptions {
 
 let warned = false;
 
+function gib(bytes: number): string {
+  return (bytes / 2 ** 30).toFixed(1);
+}
+
 function warnOnce(msg: string): void {
   if (warned) return;
   warned = true;
@@ -111,10 +115,10 @@ export async function createArena(
   if (choice !== 'ts') {
     const mod = await loadWasmModule('sgm');
     if (!mod) {
-      if (choice === 'wasm') throw new Error(`sgm: the wasm kernel ${wasmPath('sgm')} is missing; run npm run build:wasm`);
+      if (choice === 'wasm') throw new MatcherFailure(`sgm: the wasm kernel ${wasmPath('sgm')} is missing; run npm run build:wasm`);
       warnOnce(`sgm: ${wasmPath('sgm')} not found (run npm run build:wasm); using the slower TypeScript kernel`);
     } else if (layout.bytes > WASM_MAX_BYTES) {
-      if (choice === 'wasm') throw new Error(`sgm: ${layout.bytes} bytes exceed the wasm32 memory limit`);
+      if (choice === 'wasm') throw new MatcherFailure(`sgm: ${width}x${height} with ${levels} levels needs ${gib(layout.bytes)} GiB, beyond the 4 GiB of a wasm32 memory`);
     } else {
       const inst = await instantiateKernel(mod, layout.bytes);
       buffer = inst.memory.buffer;
@@ -123,7 +127,13 @@ export async function createArena(
       kernel = 'wasm';
     }
   }
-  if (!buffer) buffer = new ArrayBuffer(layout.bytes);
+  if (!buffer) {
+    try {
+      buffer = new ArrayBuffer(layout.bytes);
+    } catch {
+      throw new MatcherFailure(`sgm: ${width}x${height} with ${levels} levels needs ${gib(layout.bytes)} GiB of memory, which could not be allocated`);
+    }
+  }
   const u8 = new Uint8Array(buffer);
   const u16 = new Uint16Array(buffer);
   const vol = layout.width * layout.height * layout.stride;

@@ -81,3 +81,19 @@ describe('bp on a random-dot stereogram', () => {
     expect(smooth).toBeGreaterThan(none + 0.05); // common practice: the prior must pay off on noise
   });
 });
+
+describe('bp edge cases', () => {
+  it('answers on tiny images and single-level ranges without crashing', () => {
+    // common practice: degenerate sizes must not break a matcher
+    for (const [w, h, lo, hi] of [[1, 1, 0, 0], [3, 2, -5, 5], [9, 1, 0, 3], [2, 7, 1, 1]]) {
+      const img = Float32Array.from({ length: w * h }, (_, i) => (i * 37) % 255);
+      const d = bpMatch({ width: w, height: h, left: img, right: img, minDisparity: lo, maxDisparity: hi }, {});
+      expect(d.length).toBe(w * h);
+      for (const v of d) {
+        if (Number.isNaN(v)) continue;
+        expect(v).toBeGreaterThanOrEqual(lo - 0.5);
+        expect(v).toBeLessThanOrEqual(hi + 0.5);
+      }
+    }
+  });
+});

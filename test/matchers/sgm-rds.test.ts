@@ -35,3 +35,27 @@ describe('sgm on a random-dot stereogram', () => {
     expect(shareCorrect(e, s, mask, 0.5)).toBeLessThan(0.9);
   });
 });
+
+describe('sgm edge cases', () => {
+  it('answers on tiny images and single-level ranges without crashing', async () => {
+    // common practice: degenerate sizes must not break a matcher
+    for (const [w, h, lo, hi] of [[1, 1, 0, 0], [3, 2, -5, 5], [9, 1, 0, 3], [2, 7, 1, 1]]) {
+      const n = w * h;
+      const img = Float32Array.from({ length: n }, (_, i) => (i * 37) % 255);
+      for (const kernel of ['wasm', 'ts']) {
+        const d = await sgmMatch({ width: w, height: h, left: img, right: img, minDisparity: lo, maxDisparity: hi }, { kernel });
+        expect(d.length).toBe(n);
+        for (const v of d) {
+          if (Number.isNaN(v)) continue;
+          expect(v).toBeGreaterThanOrEqual(lo - 0.5); // subpixel offsets stay within half a level
+          expect(v).toBeLessThanOrEqual(hi + 0.5);
+        }
+      }
+    }
+  });
+
+  it('rejects p1 > p2 as a usage error naming the option', async () => {
+    const img = new Float32Array(16);
+    await expect(sgmMatch({ width: 4, height: 4, left: img, right: img, minDisparity: 0, maxDisparity: 3 }, { p1: 50, p2: 10 })).rejects.toThrow(/--matcher: sgm: p1=50 must not exceed p2=10/);
+  });
+});
