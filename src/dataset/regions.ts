@@ -102,60 +102,91 @@ export function checkRegionParams(p: RegionParams): void {
  * horizontal gradient (edge-replicated), float64, row-major. See the file comment.
  */
 export function textureEnergy(gray: Float32Array, width: number, height: number, window: number): Float64Array {
+  const h = rowBoxSums(gray, width, height, window);
+  const out = new Float64Array(width * height);
+  columnBoxPass(h, width, height, window, (i, mean) => {
+    out[i] = mean;
+  });
+  return out;
+}
+
+/** 1 where textureEnergy < threshold (strict), else 0; computed without storing the energy. */
+export function flatMask(gray: Float32Array, width: number, height: number, window: number, threshold: number): Uint8Array {
+  const h = rowBoxSums(gray, width, height, window);
+  const out = new Uint8Array(width * height);
   const r = (window - 1) >> 1;
-  const n = width * height;
-  const g2 = new Float64Array(n);
-  for (let y = 0; y < height; y++) {
-    const row = y * width;
-    for (let x = 0; x < width; x++) {
-      const a = gray[row + (x + 1 < width ? x + 1 : width - 1)];
-      const b = gray[row + (x > 0 ? x - 1 : 0)];
-      const g = (a - b) / 2;
-      g2[row + x] = g * g;
-    }
-  }
-  // Horizontal box sums with edge replication, one running sum per row.
-  const h = new Float64Array(n);
-  const wm1 = width - 1;
-  for (let y = 0; y < height; y++) {
-    const row = y * width;
-    let s = 0;
-    for (let j = -r; j <= r; j++) s += g2[row + (j < 0 ? 0 : j > wm1 ? wm1 : j)];
-    for (let x = 0; x < width; x++) {
-      h[row + x] = s;
-      const add = x + r + 1;
-      const sub = x - r;
-      s += g2[row + (add > wm1 ? wm1 : add)] - g2[row + (sub < 0 ? 0 : sub)];
-    }
-  }
-  // Vertical box sums of the row sums, one running sum per column, all columns at once
-  // (row-major friendly: the running sums live in a width-long buffer).
-  const out = new Float64Array(n);
+  const inv = 1 / (window * window);
   const s = new Float64Array(width);
   const hm1 = height - 1;
   for (let j = -r; j <= r; j++) {
     const row = (j < 0 ? 0 : j > hm1 ? hm1 : j) * width;
     for (let x = 0; x < width; x++) s[x] += h[row + x];
   }
-  const inv = 1 / (window * window);
   for (let y = 0; y < height; y++) {
     const row = y * width;
     const addRow = (y + r + 1 > hm1 ? hm1 : y + r + 1) * width;
     const subRow = (y - r < 0 ? 0 : y - r) * width;
     for (let x = 0; x < width; x++) {
-      out[row + x] = s[x] * inv;
+      out[row + x] = s[x] * inv < threshold ? 1 : 0;
       s[x] += h[addRow + x] - h[subRow + x];
     }
   }
   return out;
 }
 
-/** 1 where textureEnergy < threshold (strict), else 0. */
-export function flatMask(gray: Float32Array, width: number, height: number, window: number, threshold: number): Uint8Array {
-  const e = textureEnergy(gray, width, height, window);
-  const out = new Uint8Array(e.length);
-  for (let i = 0; i < e.length; i++) out[i] = e[i] < threshold ? 1 : 0;
+/**
+ * Horizontal box sums (edge-replicated, window wide) of the squared central-difference
+ * gradient (edge-replicated), row by row; the squared gradient of a row lives in a
+ * row buffer only.
+ */
+function rowBoxSums(gray: Float32Array, width: number, height: number, window: number): Float64Array {
+  const r = (window - 1) >> 1;
+  const out = new Float64Array(width * height);
+  const g2 = new Float64Array(width);
+  const wm1 = width - 1;
+  for (let y = 0; y < height; y++) {
+    const row = y * width;
+    for (let x = 0; x < width; x++) {
+      const g = (gray[row + (x < wm1 ? x + 1 : wm1)] - gray[row + (x > 0 ? x - 1 : 0)]) / 2;
+      g2[x] = g * g;
+    }
+    let s = 0;
+    for (let j = -r; j <= r; j++) s += g2[j < 0 ? 0 : j > wm1 ? wm1 : j];
+    for (let x = 0; x < width; x++) {
+      out[row + x] = s;
+      const add = x + r + 1;
+      const sub = x - r;
+      s += g2[add > wm1 ? wm1 : add] - g2[sub < 0 ? 0 : sub];
+    }
+  }
   return out;
+}
+
+/** Vertical box pass (edge-replicated) over row sums; calls emit(index, mean). Not for hot paths. */
+function columnBoxPass(
+  h: Float64Array,
+  width: number,
+  height: number,
+  window: number,
+  emit: (i: number, mean: number) => void,
+): void {
+  const r = (window - 1) >> 1;
+  const inv = 1 / (window * window);
+  const s = new Float64Array(width);
+  const hm1 = height - 1;
+  for (let j = -r; j <= r; j++) {
+    const row = (j < 0 ? 0 : j > hm1 ? hm1 : j) * width;
+    for (let x = 0; x < width; x++) s[x] += h[row + x];
+  }
+  for (let y = 0; y < height; y++) {
+    const row = y * width;
+    const addRow = (y + r + 1 > hm1 ? hm1 : y + r + 1) * width;
+    const subRow = (y - r < 0 ? 0 : y - r) * width;
+    for (let x = 0; x < width; x++) {
+      emit(row + x, s[x] * inv);
+      s[x] += h[addRow + x] - h[subRow + x];
+    }
+  }
 }
 
 /**
@@ -188,16 +219,17 @@ export function jumpMask(truth: Float32Array, width: number, height: number, gap
     }
   }
   if (radius === 0) return src;
+  radius = Math.min(radius, width + height); // larger radii cover the same pixels; keeps ints small
   // Rows: mark x when a source lies in [x - radius, x + radius].
   const tmp = new Uint8Array(n);
   for (let y = 0; y < height; y++) {
     const row = y * width;
-    let last = -Infinity; // position of the latest source at or left of x
+    let last = -(radius + 1); // latest source at or left of x (none yet: out of reach)
     for (let x = 0; x < width; x++) {
       if (src[row + x]) last = x;
       if (x - last <= radius) tmp[row + x] = 1;
     }
-    let next = Infinity; // nearest source at or right of x
+    let next = width + radius + 1; // nearest source at or right of x (none yet)
     for (let x = width - 1; x >= 0; x--) {
       if (src[row + x]) next = x;
       if (next - x <= radius) tmp[row + x] = 1;
@@ -205,8 +237,8 @@ export function jumpMask(truth: Float32Array, width: number, height: number, gap
   }
   // Columns, all at once with per-column trackers.
   const out = new Uint8Array(n);
-  const track = new Float64Array(width);
-  track.fill(-Infinity);
+  const track = new Int32Array(width);
+  track.fill(-(radius + 1)); // no source seen yet: farther than the radius
   for (let y = 0; y < height; y++) {
     const row = y * width;
     for (let x = 0; x < width; x++) {
@@ -214,7 +246,7 @@ export function jumpMask(truth: Float32Array, width: number, height: number, gap
       if (y - track[x] <= radius) out[row + x] = 1;
     }
   }
-  track.fill(Infinity);
+  track.fill(height + radius + 1);
   for (let y = height - 1; y >= 0; y--) {
     const row = y * width;
     for (let x = 0; x < width; x++) {
