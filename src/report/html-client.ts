@@ -8,7 +8,7 @@ export const REPORT_JS = String.raw`
   var data = JSON.parse(document.getElementById('plx-data').textContent);
   var SVGNS = 'http://www.w3.org/2000/svg';
   var COLORS = ['#0072B2', '#E69F00', '#009E73', '#CC79A7', '#56B4E9', '#D55E00', '#F0E442', '#000000'];
-  var state = { dataset: data.datasets[0] || '', region: 'known', stat: 'mean', sort: 'epe', dir: 'asc' };
+  var state = { dataset: data.datasets[0] || '', tag: '', region: 'known', stat: 'mean', sort: 'epe', dir: 'asc' };
 
   function el(tag, attrs, text) {
     var e = document.createElement(tag);
@@ -31,7 +31,8 @@ export const REPORT_JS = String.raw`
     if (a >= 0.001) return x.toFixed(3);
     return x.toPrecision(2);
   }
-  function rowsNow() { return ((data.summary[state.dataset] || {})[state.region]) || []; }
+  function cellsNow() { return ((data.summary[state.dataset] || {})[state.tag]) || {}; }
+  function rowsNow() { return cellsNow()[state.region] || []; }
   function cell(row, metric) {
     var m = row.m[metric];
     if (!m) return { v: null, lo: null, hi: null, n: 0 };
@@ -132,7 +133,7 @@ export const REPORT_JS = String.raw`
     var host = document.getElementById('scatter');
     clear(host);
     var metric = (state.sort === 'time_ms' || state.sort === 'peak_mb') ? 'epe' : state.sort;
-    var timeRows = ((data.summary[state.dataset] || {}).known) || [];
+    var timeRows = cellsNow().known || [];
     var pts = [];
     rowsNow().forEach(function (r) {
       var tr = timeRows.filter(function (x) { return x.label === r.label; })[0];
@@ -223,6 +224,7 @@ export const REPORT_JS = String.raw`
   }
   bindSelect('sel-dataset', 'dataset');
   bindSelect('sel-region', 'region');
+  bindSelect('sel-tag', 'tag');
   bindSelect('sel-stat', 'stat');
   renderTable();
   renderScatter();

@@ -170,13 +170,14 @@ async function pairView(runDir: string, info: RunInfoView, manifest: Manifest | 
   return view;
 }
 
-function summaryView(rows: SummaryRow[], thresholds: number[]): Record<string, Record<string, unknown[]>> {
-  const out: Record<string, Record<string, unknown[]>> = {};
+/** summary[dataset][tag or ''][region] = rows (one per configuration). */
+function summaryView(rows: SummaryRow[], thresholds: number[]): Record<string, Record<string, Record<string, unknown[]>>> {
+  const out: Record<string, Record<string, Record<string, unknown[]>>> = {};
   const names = metricNames(thresholds);
   for (const r of rows) {
-    if (r.tag !== null) continue;
     const ds = (out[r.dataset] ??= {});
-    const list = (ds[r.region] ??= []);
+    const tg = (ds[r.tag ?? ''] ??= {});
+    const list = (tg[r.region] ??= []);
     const m: Record<string, (number | null)[]> = {};
     for (const n of names) {
       const s = r.metrics[n]!;
@@ -234,6 +235,7 @@ export async function buildHtmlReport(runDir: string, opts: HtmlReportOptions = 
   const rows = aggregate(jobs, { thresholds, ci: opts.resamples ? { resamples: opts.resamples } : {} });
   const labels = [...new Set(jobs.map((j) => j.matcher))].sort(cmp);
   const datasets = [...new Set(jobs.map((j) => j.dataset))].sort(cmp);
+  const tags = [...new Set(rows.flatMap((r) => (r.tag === null ? [] : [r.tag])))].sort(cmp);
 
   // Manifests of the datasets, for left images, truth and region masks.
   const manifests = new Map<string, { m: Manifest | null; problem: string | null }>();
@@ -320,6 +322,7 @@ export async function buildHtmlReport(runDir: string, opts: HtmlReportOptions = 
 <div class="controls">
 <label>dataset<select id="sel-dataset">${datasets.map((d) => opt(d)).join('')}</select></label>
 <label>region<select id="sel-region">${REGION_IDS.map((r) => opt(r)).join('')}</select></label>
+${tags.length ? `<label>pairs<select id="sel-tag">${opt('', 'all pairs')}${tags.map((t) => opt(t, `tagged ${t}`)).join('')}</select></label>` : ''}
 <label>statistic<select id="sel-stat">${opt('mean', 'mean over pairs')}${opt('pooled', 'pooled over pixels')}</select></label>
 </div>
 <p class="ci">Each cell: the figure, below it its ${Math.round(DEFAULT_LEVEL * 100)} % BCa bootstrap interval (pairs, or the manifest's groups, resampled) and n = pairs the figure rests on. Rates and coverage in %; sorted by known/epe, lowest first, until you pick a column. Failed jobs count as all-invalid.</p>

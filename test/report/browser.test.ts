@@ -30,7 +30,7 @@ let browser: Browser;
 beforeAll(async () => {
   if (!existsSync(CHROMIUM)) throw new Error(`${CHROMIUM} is missing: apt-get install chromium`);
   root = await mkdtemp(join(tmpdir(), 'plx-browser-'));
-  const { runDir } = await buildSyntheticRun({ root, pairs: 4, width: 160, height: 120, configs: CONFIGS });
+  const { runDir } = await buildSyntheticRun({ root, pairs: 4, width: 160, height: 120, configs: CONFIGS, tagEven: true });
   reportUrl = pathToFileURL(await writeHtmlReport(runDir, { resamples: 300 })).href;
   browser = await chromium.launch({
     executablePath: CHROMIUM,
@@ -96,6 +96,12 @@ describe('HTML report in chromium', () => {
     expect(occ).toEqual([...occ].sort((a, b) => a - b));
     expect(occ).not.toEqual(e1);
     await page.selectOption('#sel-region', 'known');
+
+    // Tag selector: only the pairs tagged wet-floor (2 of 4) count.
+    await page.selectOption('#sel-tag', 'wet-floor');
+    const pairsCol = await page.$$eval('#rank-table tbody tr', (trs) => trs.map((tr) => Number(tr.children[1]!.firstChild!.textContent)));
+    expect(pairsCol).toEqual(CONFIGS.map(() => 2));
+    await page.selectOption('#sel-tag', '');
 
     // Charts: a scatter with a Pareto front and one rate curve per configuration.
     expect(await page.locator('#scatter circle').count()).toBeGreaterThanOrEqual(3);

@@ -38,6 +38,8 @@ export interface SyntheticRunOptions {
   resultPairIds?: string[];
   runName?: string;
   seed?: number;
+  /** Tag every second pair (k even) `wet-floor`, in the manifest and the results. */
+  tagEven?: boolean;
   /** Write the per-pair thumbnails as the runner does (default true). */
   pairPreviews?: boolean;
 }
@@ -134,6 +136,7 @@ export async function buildSyntheticRun(o: SyntheticRunOptions): Promise<{ runDi
         thresholds,
       };
       if (failed) job.error = c.error ?? 'matcher exited with code 3';
+      if (o.tagEven && k % 2 === 0) job.tags = ['wet-floor'];
       results.push(job);
       if (pred) await writePreview(runDir, c.label, 'dock-yard', resultIds[k]!, { width: o.width, height: o.height, data: pred });
     }
@@ -143,7 +146,7 @@ export async function buildSyntheticRun(o: SyntheticRunOptions): Promise<{ runDi
     description: 'Synthetic loading dock seen from a warehouse vehicle (test data)',
     camera: { focalPx: 500, baselineM: 0.12, cxShiftPx: 0 },
     disparityRange: [0, 48],
-    pairs: ids.map((id) => ({ id, left: `${id}-l.png`, right: `${id}-r.png`, truth: `${id}-d.pfm` })),
+    pairs: ids.map((id, k) => ({ id, left: `${id}-l.png`, right: `${id}-r.png`, truth: `${id}-d.pfm`, ...(o.tagEven && k % 2 === 0 ? { tags: ['wet-floor'] } : {}) })),
   };
   await writeFile(join(datasetDir, 'dataset.json'), JSON.stringify(manifest, null, 2));
   const info = {
