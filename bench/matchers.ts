@@ -253,7 +253,8 @@ export default async function (): Promise<void> {
     const rows: Row[] = [];
     let sgmStages = '';
     // PARALLAX_BENCH_MATCHERS=sgm,sgbm limits the run to those ids (block, census, sgm, bp, bm, sgbm)
-    const only = process.env.PARALLAX_BENCH_MATCHERS?.split(',').map((x) => x.trim());
+    const onlyText = process.env.PARALLAX_BENCH_MATCHERS?.trim();
+    const only = onlyText ? onlyText.split(',').map((x) => x.trim()) : undefined;
     const all = [...OURS.map((c) => ({ c, ours: true })), ...(cv ? CV.map((c) => ({ c, ours: false })) : [])].filter(
       ({ c }) => !only || only.includes(c.id),
     );
