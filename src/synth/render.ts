@@ -16,6 +16,7 @@
  *   screen bounding box (plus one pixel) lists it in the 8x8 pixel tiles it covers.
  */
 import type { Camera } from '../core/camera.js';
+import { UsageError } from '../core/errors.js';
 import type { RasterImage } from '../core/image.js';
 import { compileGeometry, hullOf, intersectPrimitive, newRay, surfaceAt, KIND_RECT, PSTRIDE, RAY_T, type CompiledGeometry } from './intersect.js';
 import { subSeed, fmix32 } from './prng.js';
@@ -385,7 +386,7 @@ function occlusionMask(g: CompiledGeometry, left: View, right: View, rtiles: Til
 export function renderPair(scene: Scene, rig: Rig, opts: RenderOptions = {}): StereoRender {
   const samples = opts.samples ?? 3;
   if (!(Number.isInteger(samples) && samples >= 1 && samples <= 16)) {
-    throw new Error(`samples must be an integer in 1..16, got ${samples}`);
+    throw new UsageError('samples', `must be an integer in 1..16, got ${samples}`);
   }
   const seed = (opts.seed ?? 1) >>> 0;
   const g = compileGeometry(scene);

@@ -8,6 +8,7 @@
  */
 import type { RasterImage } from '../core/image.js';
 import { BT601 } from '../core/image.js';
+import { UsageError } from '../core/errors.js';
 import { fmix32 } from './prng.js';
 
 export interface SensorModel {
@@ -36,8 +37,15 @@ export const DEFAULT_SENSOR: Required<SensorModel> = {
 
 export function fullSensor(s: SensorModel | undefined): Required<SensorModel> {
   const r = { ...DEFAULT_SENSOR, ...(s ?? {}) };
-  if (!(r.gain > 0) || !Number.isFinite(r.offset) || !(r.gamma > 0) || !(r.noiseSigma >= 0)) {
-    throw new Error(`invalid sensor model ${JSON.stringify(s)}`);
+  if (
+    !(r.gain > 0) ||
+    !Number.isFinite(r.offset) ||
+    !(r.gamma > 0) ||
+    !(r.noiseSigma >= 0) ||
+    (r.bitDepth !== 8 && r.bitDepth !== 16) ||
+    (r.channels !== 1 && r.channels !== 3)
+  ) {
+    throw new UsageError('sensor', `gain and gamma must be > 0, offset finite, noiseSigma >= 0, bitDepth 8 or 16, channels 1 or 3; got ${JSON.stringify(s)}`);
   }
   return r;
 }

@@ -61,3 +61,18 @@ describe('determinism (common practice: seeded generators, no Math.random)', () 
     expect(Math.max(...xs)).toBeLessThan(1);
   });
 });
+
+describe('user errors are typed and name the option', () => {
+  test('bad samples, sensor or size', async () => {
+    const { UsageError } = await import('../../src/core/errors.js');
+    const { makeRig, applySensor } = await import('../../src/synth/index.js');
+    const s = dockScene('crates', 1);
+    const rig = rigForScene(s, { width: 32, height: 24 });
+    expect(() => renderPair(s, rig, { samples: 0 })).toThrow(UsageError);
+    expect(() => renderPair(s, rig, { samples: 0 })).toThrow(/^samples: /);
+    expect(() => applySensor(new Float32Array(3), 1, 1, { gamma: 0 }, 1)).toThrow(/^sensor: /);
+    expect(() => makeRig({ width: 0, height: 10 })).toThrow(/^width\/height: /);
+    expect(() => randomDotPair({ width: 20, height: 20, seed: 1, background: 1.5 })).toThrow(/^layers: /);
+    expect(() => dockScene('nowhere' as 'crates', 1)).toThrow(/^variant: /);
+  });
+});
