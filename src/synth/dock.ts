@@ -179,7 +179,8 @@ function buildPosts(b: Build): number {
     const z = b.rng.range(2.5, backZ - 1.5);
     const x = b.rng.range(-3.5, 3.5);
     const r = b.rng.range(0.025, 0.07);
-    b.prims.push({ kind: 'cylinder', cx: x, cz: z, radius: r, y0: 0, y1: 5.5, material: i % 2 ? stripes : steel });
+    // Ends 5 cm under the ceiling: a cap coplanar with it would make the nearest hit a tie.
+    b.prims.push({ kind: 'cylinder', cx: x, cz: z, radius: r, y0: 0, y1: 5.45, material: i % 2 ? stripes : steel });
   }
   // A thin guard rail between two of the posts' depths, and a few crates behind.
   const rz = b.rng.range(3, 5);
