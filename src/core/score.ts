@@ -16,7 +16,10 @@ export interface RegionSums {
   sumErr: number;
   /** Per threshold: pixels with |e| > t or an invalid prediction. */
   bad: number[];
-  /** Depth: pixels counted (truth d + cxShift > eps), sum of |Zp - Zt| / Zt, sum of (Zp - Zt)^2, failures. */
+  /**
+   * Depth: pixels in the depth means (truth d + cxShift > eps and a valid prediction with
+   * d + cxShift > 0), sum of |Zp - Zt| / Zt, sum of (Zp - Zt)^2 (see src/metrics/score.ts).
+   */
   depthCount: number;
   depthSumRel: number;
   depthSumSq: number;

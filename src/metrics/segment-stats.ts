@@ -98,36 +98,46 @@ export function groupStats(
   const T = thresholds.length;
   const words = new Uint32Array(values.buffer, values.byteOffset, values.length * 2);
 
-  // Pass 1, per segment: sums in locals, histogram of |e|'s top bits.
+  // Pass 1, per segment: sums in locals, histogram of |e|'s top bits. Segments with the
+  // same membership share one histogram (bounded memory: at most min(nSegs, 2^nGroups)).
   const segSumA = new Float64Array(nSegs);
   const segSumS = new Float64Array(nSegs);
   const segSumE = new Float64Array(nSegs);
   const sums3 = new Float64Array(3);
+  const maskHist = new Map<number, number>(); // membership -> histPool index
   for (let s = 0; s < nSegs; s++) {
-    const h = pooled(histPool, s, 0);
-    histAndSums(values, words, starts[s], ends[s], h, sums3);
+    let idx = maskHist.get(member[s]);
+    if (idx === undefined) {
+      idx = maskHist.size;
+      maskHist.set(member[s], idx);
+      pooled(histPool, idx, 0);
+    }
+    histAndSums(values, words, starts[s], ends[s], histPool[idx], sums3);
     segSumA[s] = sums3[0];
     segSumS[s] = sums3[1];
     segSumE[s] = sums3[2];
   }
+  const nMasks = maskHist.size;
 
   // Per group: merged histogram, wanted ranks and threshold buckets, candidate runs.
   const groups: GroupPlan[] = [];
   for (let g = 0; g < nGroups; g++) {
     const bit = 1 << g;
-    const segs: number[] = [];
-    for (let s = 0; s < nSegs; s++) if ((member[s] & bit) !== 0) segs.push(s);
-    const hist = pooled(histPool, nSegs + g, 0);
+    const hist = pooled(histPool, nMasks + g, 0);
     let n = 0;
     let sA = 0;
     let sS = 0;
     let sE = 0;
-    for (const s of segs) {
+    for (let s = 0; s < nSegs; s++) {
+      if ((member[s] & bit) === 0) continue;
       n += ends[s] - starts[s];
       sA += segSumA[s];
       sS += segSumS[s];
       sE += segSumE[s];
-      const hs = histPool[s];
+    }
+    for (const [mask, idx] of maskHist) {
+      if ((mask & bit) === 0) continue;
+      const hs = histPool[idx];
       for (let b = 0; b < NBUCKETS; b++) hist[b] += hs[b];
     }
     groups.push(planGroup(hist, n, sA, sS, sE, thresholds, qs));

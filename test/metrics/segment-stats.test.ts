@@ -1,5 +1,5 @@
 import { describe, expect, it } from 'vitest';
-import { segmentStats } from '../../src/metrics/segment-stats.js';
+import { groupStats, segmentStats } from '../../src/metrics/segment-stats.js';
 import { closeRel, rng, runNumpy } from './helpers.js';
 
 const QS = [0, 0.01, 0.25, 0.5, 0.75, 0.9, 0.99, 1];
@@ -73,5 +73,40 @@ print(json.dumps(out))
       // same order statistics and numpy's lerp: 1e-12 relative
       QS.forEach((q, i) => expect(closeRel(m.quantiles![i], d.q[i], 1e-12), `${k} q=${q}: ${m.quantiles![i]} vs ${d.q[i]}`).toBe(true));
     }
+  });
+
+  it('groupStats: each group equals segmentStats of its own segments (definition: union of segments)', () => {
+    // segmentStats itself is checked against numpy above; here overlapping groups, shared
+    // histograms (equal membership masks) and empty groups must not leak into each other.
+    const r = rng(77);
+    const n = 40000;
+    const buf = new Float64Array(n);
+    for (let i = 0; i < n; i++) buf[i] = (r() + r() + r() - 1.5) * (i % 3 === 0 ? 5 : 0.5);
+    const nSegs = 12;
+    const starts = new Int32Array(nSegs);
+    const ends = new Int32Array(nSegs);
+    const member = new Int32Array(nSegs);
+    for (let s = 0; s < nSegs; s++) {
+      starts[s] = s * 3300;
+      ends[s] = s * 3300 + Math.floor(r() * 3300);
+      member[s] = [0b0011, 0b0011, 0b0101, 0b0001, 0b1011, 0b0011][s % 6]; // group 3 = one segment kind only
+    }
+    member[7] = 0b0001; // membership repeated by several segments
+    const nGroups = 5; // group 4: no segment at all
+    const th = [0.5, 2, 0.1];
+    const qs = [0.5, 0.75, 0.9, 0.99];
+    const got = groupStats(buf, starts, ends, member, nSegs, nGroups, th, qs);
+    for (let g = 0; g < nGroups; g++) {
+      const idx = [...Array(nSegs).keys()].filter((s) => (member[s] & (1 << g)) !== 0);
+      const want = segmentStats(buf, Int32Array.from(idx.map((s) => starts[s])), Int32Array.from(idx.map((s) => ends[s])), idx.length, th, qs);
+      expect(got[g].count, `group ${g}`).toBe(want.count);
+      expect(got[g].above, `group ${g}`).toEqual(want.above);
+      expect(got[g].quantiles, `group ${g}`).toEqual(want.quantiles);
+      for (const f of ['sumAbs', 'sumSq', 'sum'] as const) {
+        expect(closeRel(got[g][f], want[f], 1e-12) || Math.abs(got[g][f] - want[f]) < 1e-9, `group ${g} ${f}`).toBe(true);
+      }
+    }
+    expect(got[4].count).toBe(0);
+    expect(got[4].quantiles).toBeNull();
   });
 });
