@@ -2,3 +2,4 @@
 export { scorePair, figuresFromSums, emptySums, addSums, DEFAULT_DEPTH_EPS } from './score.js';
 export { quantilesLinear, quantileLinear, selectInPlace, lerpNumpy } from './quantile.js';
 export * from './types.js';
+export { segmentStats, groupStats, type SegmentStats } from './segment-stats.js';
