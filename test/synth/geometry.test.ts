@@ -87,6 +87,23 @@ describe('truth disparity geometry', () => {
     expect(fit.c).toBeCloseTo(c!, 6);
   });
 
+  test('rays that hit nothing have NaN truth and are not marked occluded', () => {
+    // Documented convention (src/synth/render.ts): no hit -> NaN truth, occlusion 0.
+    const rig = makeRig({ width: 64, height: 48, focalPx: 60, baselineM: 0.1 });
+    // A 0.4 m cube centred 3 m ahead: d = 60 * 0.1 / 2.8 = 2.143 on its front face (Z = 2.8).
+    const scene = testScene([boxOnFloor(0, -0.2, 3, 0.4, 0.4, 0.4, 0)]);
+    const r = renderPair(scene, rig, { samples: 1 });
+    expect(Number.isNaN(r.truth[0])).toBe(true);
+    expect(r.occlusion[0]).toBe(0);
+    expect(r.truth[24 * 64 + 32]).toBeCloseTo(6 / 2.8, 5);
+    let hits = 0;
+    for (const d of r.truth) if (!Number.isNaN(d)) hits++;
+    // Only the front face is seen (the camera is level with the cube centre); it spans
+    // 60 * 0.4 / 2.8 = 8.6 px on a side: 8 or 9 pixel centres each way, 64 to 81 in all.
+    expect(hits).toBeGreaterThanOrEqual(64);
+    expect(hits).toBeLessThanOrEqual(81);
+  });
+
   test('ray-primitive intersections, worked by hand', () => {
     const g = compileGeometry(
       testScene([
