@@ -273,3 +273,18 @@ function znccSlice(s: BlockScratch, left: Float32Array, right: Float32Array, d: 
     }
   }
 }
+
+/**
+ * Luminance rounded to whole levels 0..255 (Math.round, halves up; clamped; NaN -> 0).
+ * SAD and SSD compare these rounded values on both kernels (TypeScript and wasm), so
+ * that integer arithmetic in the SIMD kernel gives exactly the reference's costs; the
+ * rounding error (<= 0.5 level) is below the noise of 8-bit sensors. ZNCC keeps floats.
+ */
+export function roundLuminance(src: Float32Array): Float32Array {
+  const out = new Float32Array(src.length);
+  for (let i = 0; i < src.length; i++) {
+    const v = Math.round(src[i]);
+    out[i] = v > 0 ? (v < 255 ? v : 255) : 0;
+  }
+  return out;
+}
