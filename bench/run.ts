@@ -10,6 +10,7 @@ const SECTIONS: Section[] = [
   { name: 'scoring', load: () => import('./scoring.js') },
   { name: 'report', load: () => import('./report.js') },
   { name: 'matchers', load: () => import('./matchers.js') },
+  { name: 'runner', load: () => import('./runner.js') },
   { name: 'synth', load: () => import('./synth.js') },
 ];
 
