@@ -7,8 +7,8 @@
  * Two passes over the values (groupStats does several groups of segments at once, with
  * pass 1 shared by all groups of a segment):
  * 1. Sums in local float64 accumulators, plus a histogram of the top bits of |e|'s
- *    IEEE-754 high word (exponent and the first 4 mantissa bits: 32768 buckets). For
- *    non-negative doubles that word is monotone in the value, so bucket order is value
+ *    IEEE-754 high word (11 exponent bits and the first 6 mantissa bits: 2^17 buckets,
+ *    64 per binade). For non-negative doubles that word is monotone in the value, so bucket order is value
  *    order. Prefix counts give, for every wanted order statistic, its bucket and its rank
  *    inside the bucket; and for every threshold t, the values in buckets above t's bucket
  *    (all > t) and below it (all < t).
@@ -36,7 +36,7 @@ export interface SegmentStats {
   quantiles: number[] | null;
 }
 
-const SHIFT = 14;
+const SHIFT = 14; // 14 vs 16 (4 mantissa bits) measured within noise; finer buckets mean fewer candidates
 const NBUCKETS = 1 << (31 - SHIFT); // sign bit dropped: |e|
 const LITTLE_ENDIAN = new Uint8Array(Uint32Array.of(1).buffer)[0] === 1;
 const histPool: Int32Array[] = [];
@@ -95,7 +95,6 @@ export function groupStats(
     for (let g = 0; g < nGroups; g++) out.push(gatherStats(values, starts, ends, member, nSegs, 1 << g, thresholds, qs));
     return out;
   }
-  const T = thresholds.length;
   const words = new Uint32Array(values.buffer, values.byteOffset, values.length * 2);
 
   // Pass 1, per segment: sums in locals, histogram of |e|'s top bits. Segments with the
