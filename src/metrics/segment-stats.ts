@@ -8,8 +8,8 @@
  * pass 1 shared by all groups of a segment):
  * 1. Sums in local float64 accumulators, plus a histogram of the top bits of |e|'s
  *    IEEE-754 high word (11 exponent bits and the first 6 mantissa bits: 2^17 buckets,
- *    64 per binade). For non-negative doubles that word is monotone in the value, so bucket order is value
- *    order. Prefix counts give, for every wanted order statistic, its bucket and its rank
+ *    64 per binade). For non-negative doubles that word is monotone in the value, so
+ *    bucket order is value order. Prefix counts give, for every wanted order statistic, its bucket and its rank
  *    inside the bucket; and for every threshold t, the values in buckets above t's bucket
  *    (all > t) and below it (all < t).
  * 2. The values of the few buckets that matter (those holding a wanted rank or a
