@@ -90,6 +90,14 @@ describe('demo dataset (checks: DESIGN.md manifest form, read back with src/io a
     }
   });
 
+  test('more pairs than the standard list adds seeded dock pairs', async () => {
+    const d = tempDir();
+    await writeDemoDataset(d, { width: 48, height: 32, seed: 5, pairs: 10, samples: 1 });
+    const m = loadManifest(d);
+    expect(m.pairs.map((p) => p.id).slice(7)).toEqual(['dots-01', 'extra-09', 'extra-10']);
+    expect(m.pairs[8]!.tags!.length).toBeGreaterThan(0);
+  });
+
   test('bad sizes and counts are usage errors naming the option', async () => {
     const d = tempDir();
     await expect(writeDemoDataset(d, { width: 1280 })).rejects.toThrow(UsageError);
