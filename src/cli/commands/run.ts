@@ -88,8 +88,9 @@ export const runCommand: CommandModule<object, RunArgs & ScaleArgs> = {
     const scale = scaleFromArgs(a);
     let plan;
     if (a.resume !== undefined) {
-      if (a.experiment !== undefined || a.dataset?.length || a.matcher?.length || a.predictions !== undefined) {
-        throw new UsageError('--resume', 'takes every setting from the run folder; give no experiment file, --dataset, --matcher or --predictions');
+      const given = a.experiment !== undefined || a.dataset?.length || a.matcher?.length || a.predictions !== undefined || a.label !== undefined;
+      if (given || a.thresholds !== undefined || a.out !== undefined || a.name !== undefined) {
+        throw new UsageError('--resume', 'takes every setting from the run folder; give no experiment file, --dataset, --matcher, --predictions, --thresholds, --out or --name');
       }
       plan = await resumePlan(a.resume, scale);
     } else {
