@@ -1,9 +1,23 @@
+import { execFileSync } from 'node:child_process';
 import { describe, expect, it } from 'vitest';
-import { colorTable } from '../../src/report/colormaps.js';
+import { colorHex, colorTable, type ColorMapName } from '../../src/report/colormaps.js';
 
-function rgb(hex: string): number[] {
-  return [1, 3, 5].map((i) => parseInt(hex.slice(i, i + 2), 16));
+const MAPS: ColorMapName[] = ['viridis', 'cividis', 'magma'];
+
+/**
+ * matplotlib's own tables, read now from Debian's python3-matplotlib (an independent
+ * copy of the published data: matplotlib/_cm_listed.py), as floats in [0, 1].
+ */
+function matplotlibTables(): Record<string, number[][]> {
+  const script = [
+    'import json, numpy as np, matplotlib',
+    `names = ${JSON.stringify(MAPS)}`,
+    'print(json.dumps({n: matplotlib.colormaps[n](np.arange(256))[:, :3].tolist() for n in names}))',
+  ].join('\n');
+  const out = execFileSync('/usr/bin/python3', ['-c', script], { encoding: 'utf8', timeout: 20000 });
+  return JSON.parse(out) as Record<string, number[][]>;
 }
+
 /** Relative luminance, ITU-R BT.709 weights on sRGB-linearised values (sRGB standard, IEC 61966-2-1). */
 function luminance(r: number, g: number, b: number): number {
   const lin = (v: number) => {
@@ -14,33 +28,45 @@ function luminance(r: number, g: number, b: number): number {
 }
 
 describe('colour maps', () => {
-  // matplotlib's published viridis and magma tables, entries 0, 128 and 255, as the widely
-  // quoted hex codes (typed from memory): viridis #440154, #21918c, #fde725;
-  // magma #000004, #b73779, #fcfdbf.
-  const anchors: [('viridis' | 'magma'), number, string][] = [
-    ['viridis', 0, '#440154'],
-    ['viridis', 128, '#21918c'],
-    ['viridis', 255, '#fde725'],
-    ['magma', 0, '#000004'],
-    ['magma', 128, '#b73779'],
-    ['magma', 255, '#fcfdbf'],
-  ];
-  for (const [name, i, hex] of anchors) {
-    // A 6th-degree fit is off by up to ~5/255 at the ends of the maps (seen: magma[255]
-    // 254,249,186 vs 252,253,191), invisible in a thumbnail; allow 6/255.
-    it(`${name}[${i}] is within 6/255 of matplotlib's ${hex}`, () => {
+  const ref = matplotlibTables();
+
+  for (const name of MAPS) {
+    it(`${name}: all 256 entries equal matplotlib's table rounded to the nearest 1/255`, () => {
       const t = colorTable(name);
-      const want = rgb(hex);
-      for (let c = 0; c < 3; c++) expect(Math.abs(t[i * 3 + c]! - want[c]!)).toBeLessThanOrEqual(6);
+      expect(t.length).toBe(768);
+      const want = ref[name]!;
+      expect(want.length).toBe(256);
+      let worst = 0;
+      for (let i = 0; i < 256; i++) {
+        for (let c = 0; c < 3; c++) {
+          const f = want[i]![c]! * 255;
+          // Exact rounding of matplotlib's float (source: matplotlib, read above).
+          expect(t[i * 3 + c], `${name}[${i}][${c}]`).toBe(Math.round(f));
+          worst = Math.max(worst, Math.abs(t[i * 3 + c]! - f));
+        }
+      }
+      expect(worst).toBeLessThanOrEqual(0.5);
     });
   }
-  it('lightness rises monotonically along both maps (sequential, perceptual: van der Walt & Smith 2015)', () => {
-    for (const name of ['viridis', 'magma'] as const) {
+
+  it('the well-known end colours (typed from memory: viridis #440154..#fde725, magma #000004..#fcfdbf)', () => {
+    // Independent of the python run above: the hex codes quoted in matplotlib's docs.
+    expect(colorHex('viridis', 0)).toBe('#440154');
+    expect(colorHex('viridis', 1)).toBe('#fde725');
+    expect(colorHex('magma', 0)).toBe('#000004');
+    expect(colorHex('magma', 1)).toBe('#fcfdbf');
+    // colorHex clamps outside [0, 1] (common practice for a colour scale).
+    expect(colorHex('viridis', -3)).toBe('#440154');
+    expect(colorHex('viridis', 7)).toBe('#fde725');
+  });
+
+  it('lightness rises monotonically along every map (sequential, perceptual: van der Walt & Smith 2015; Nuñez et al. 2018)', () => {
+    for (const name of MAPS) {
       const t = colorTable(name);
       let prev = -1;
-      for (let i = 0; i < 256; i += 5) {
+      for (let i = 0; i < 256; i += 4) {
         const y = luminance(t[i * 3]!, t[i * 3 + 1]!, t[i * 3 + 2]!);
-        expect(y).toBeGreaterThan(prev);
+        expect(y, `${name}[${i}]`).toBeGreaterThan(prev);
         prev = y;
       }
     }
