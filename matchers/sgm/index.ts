@@ -62,7 +62,7 @@ export const SGM_PARAMS: readonly ParamSpec[] = [
   },
   { name: 'paths', type: 'enum', default: '8', values: ['8', '4'], description: 'aggregation directions' },
   { name: 'cost', type: 'enum', default: 'census', values: ['census', 'bt'], description: 'pixel cost' },
-  { name: 'censusW', type: 'int', default: 9, min: 1, max: 15, odd: true, description: 'census window width, px (odd)' },
+  { name: 'censusW', type: 'int', default: 9, min: 3, max: 15, odd: true, description: 'census window width, px (odd)' },
   { name: 'censusH', type: 'int', default: 7, min: 1, max: 15, odd: true, description: 'census window height, px (odd)' },
   {
     name: 'kernel',
@@ -125,7 +125,8 @@ function fillCensusCost(arena: SgmArena, input: MatchInput, minD: number, o: Sgm
       // levels with x - d inside the row: k in [kLo, kHi]
       const kLo = x - width + 1 - minD > 0 ? x - width + 1 - minD : 0;
       const kHi = x - minD < levels - 1 ? x - minD : levels - 1;
-      for (let k = 0; k < levels; k++) if (k < kLo || k > kHi) cost[base + k] = outside;
+      for (let k = 0; k < kLo && k < levels; k++) cost[base + k] = outside;
+      for (let k = kHi + 1 > 0 ? kHi + 1 : 0; k < levels; k++) cost[base + k] = outside;
       if (words === 2) {
         const a0 = bl[(row + x) * 2];
         const a1 = bl[(row + x) * 2 + 1];
