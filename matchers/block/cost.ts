@@ -282,9 +282,12 @@ function znccSlice(s: BlockScratch, left: Float32Array, right: Float32Array, d: 
  */
 export function roundLuminance(src: Float32Array): Float32Array {
   const out = new Float32Array(src.length);
-  for (let i = 0; i < src.length; i++) {
-    const v = Math.round(src[i]);
-    out[i] = v > 0 ? (v < 255 ? v : 255) : 0;
-  }
+  for (let i = 0; i < src.length; i++) out[i] = roundLevel(src[i]);
   return out;
+}
+
+/** One value of roundLuminance (the wasm path writes these straight into bytes). */
+export function roundLevel(x: number): number {
+  const v = Math.round(x);
+  return v > 0 ? (v < 255 ? v : 255) : 0;
 }

@@ -29,6 +29,7 @@
 import { existsSync, readFileSync } from 'node:fs';
 import { AbortedError } from '../../src/core/errors.js';
 import { wasmPath } from '../sgm/wasm.js';
+import { roundLevel } from './cost.js';
 
 /* The project's tsconfig has no DOM lib and @types/node does not declare WebAssembly. */
 export interface WasmModuleSync {
@@ -105,7 +106,7 @@ export function blockWasmModule(): WasmModuleSync | null {
 export interface FastBlockArgs {
   width: number;
   height: number;
-  /** Luminance rounded to whole levels 0..255 (roundLuminance), row-major. */
+  /** Luminance (0-255 scale), row-major; rounded here with roundLevel (./cost.ts). */
   left: Float32Array;
   right: Float32Array;
   /** First integer level and number of levels (kernels/range.ts). */
@@ -191,7 +192,7 @@ export function blockWasmMaps(
   const memory = new WA.Memory({ initial: Math.ceil(L.bytes / 65536) });
   const k = new WA.Instance(mod, { env: { memory } }).exports as unknown as BlockExports;
   const buf = memory.buffer;
-  fillLeft(new Uint8Array(buf, L.lq, width * height), a.left);
+  fillRounded(new Uint8Array(buf, L.lq, width * height), a.left);
   fillRightReversed(new Uint8Array(buf, L.rp, height * L.pw), a.right, width, height, L.pw, L.minD);
   const brLen = width + L.stride + 16;
   if (L.wide) new Int32Array(buf, L.br, brLen).fill(0x7fffffff);
@@ -242,14 +243,16 @@ export function blockWasmMaps(
   return { left, right };
 }
 
-/** Rounded luminance (already whole numbers 0..255) into bytes. */
-function fillLeft(dst: Uint8Array, src: Float32Array): void {
-  for (let i = 0; i < src.length; i++) dst[i] = src[i];
+/** Luminance rounded to whole levels (roundLevel) into bytes. */
+function fillRounded(dst: Uint8Array, src: Float32Array): void {
+  for (let i = 0; i < src.length; i++) dst[i] = roundLevel(src[i]);
 }
 
 /**
- * The right image as reversed, padded rows: row y, byte idx holds
- * R(clamp(width - 1 - minD - idx), y), so the levels of one left column are consecutive bytes.
+ * The right image (rounded) as reversed, padded rows: row y, byte idx holds
+ * R(clamp(width - 1 - minD - idx), y), so the levels of one left column are consecutive
+ * bytes. Three runs per row keep the clamp out of the loop: idx < i0 reads column
+ * width - 1, [i0, i1) the reversed row, idx >= i1 column 0.
  */
 function fillRightReversed(
   dst: Uint8Array,
@@ -260,13 +263,16 @@ function fillRightReversed(
   minD: number,
 ): void {
   const xmax = width - 1;
+  // xr = xmax - minD - idx is > xmax for idx < -minD and < 0 for idx > xmax - minD
+  const i0 = Math.min(pw, Math.max(0, -minD));
+  const i1 = Math.min(pw, Math.max(i0, xmax - minD + 1));
   for (let y = 0; y < height; y++) {
     const row = y * width;
     const o = y * pw;
-    for (let idx = 0; idx < pw; idx++) {
-      let xr = xmax - minD - idx;
-      xr = xr < 0 ? 0 : xr > xmax ? xmax : xr;
-      dst[o + idx] = src[row + xr];
-    }
+    const last = roundLevel(src[row + xmax]);
+    const first = roundLevel(src[row]);
+    for (let idx = 0; idx < i0; idx++) dst[o + idx] = last;
+    for (let idx = i0; idx < i1; idx++) dst[o + idx] = roundLevel(src[row + xmax - minD - idx]);
+    for (let idx = i1; idx < pw; idx++) dst[o + idx] = first;
   }
 }

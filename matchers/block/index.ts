@@ -68,8 +68,6 @@ export function blockMatch(
   let left = input.left;
   let right = input.right;
   if (opts.cost !== 'zncc') {
-    left = roundLuminance(left);
-    right = roundLuminance(right);
     if (opts.kernel !== 'ts') {
       if (!blockWasmModule()) {
         const msg = `block: the wasm kernel ${wasmPath('block')} is missing; run npm run build:wasm`;
@@ -100,6 +98,8 @@ export function blockMatch(
         }
       }
     }
+    left = roundLuminance(left);
+    right = roundLuminance(right);
   }
   blockLastRun.kernel = 'ts';
   return matchBySlices(

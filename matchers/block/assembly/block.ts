@@ -210,7 +210,53 @@ export function wtaRow16(
       v128.store(acc + o, i16x8.add(v128.load(acc + o), v128.load(c + o)));
     }
   }
+  // lanes of the last block beyond `levels` (u16 0xffff there), built in tmp
+  const last = nb - 1;
+  v128.store(tmp + <usize>(last << 4), i16x8.splat(0));
+  for (let l = levels; l < stride; l++) store<u16>(tmp + (<usize>l << 1), MAX16);
+  const padMask = v128.load(tmp + <usize>(last << 4));
   for (let x = 0; x < width; x++) {
+    const po = outL + (<usize>x << 2);
+    // candidates: 0 <= x - (minD + l) <= width - 1, 0 <= l < levels
+    let lo = x - wm1 - minD;
+    if (lo < 0) lo = 0;
+    let hi = x - minD;
+    if (hi > levels - 1) hi = levels - 1;
+    if (x > 0 && lo == 0 && hi == levels - 1 && uniq == 0) {
+      // Interior column (every level a candidate): horizontal update, left minimum and
+      // right view in one pass over the blocks, costs kept in acc.
+      const ca = col + <usize>clampI(x + r, 0, wm1) * rowBytes;
+      const cs = col + <usize>clampI(x - r - 1, 0, wm1) * rowBytes;
+      const qb = <usize>((wm1 - x) << 1);
+      // per lane: smallest cost and its first level (strict <, so earlier blocks win ties)
+      let vmin = vmax;
+      let vidx = vmax;
+      let lvec = iota;
+      for (let b = 0; b < nb; b++) {
+        const o = <usize>(b << 4);
+        let a = i16x8.add(v128.load(acc + o), i16x8.sub(v128.load(ca + o), v128.load(cs + o)));
+        v128.store(acc + o, a);
+        if (b == last) a = v128.or(a, padMask);
+        vidx = v128.bitselect(lvec, vidx, i16x8.lt_u(a, vmin));
+        vmin = i16x8.min_u(vmin, a);
+        if (right != 0) {
+          const pc = br + qb + o;
+          const cur = v128.load(pc);
+          const lt = i16x8.lt_u(a, cur);
+          v128.store(pc, i16x8.min_u(a, cur));
+          const pl = bl + qb + o;
+          v128.store(pl, v128.bitselect(lvec, v128.load(pl), lt));
+        }
+        lvec = i16x8.add(lvec, eight);
+      }
+      const best = hmin16(vmin);
+      // lowest level among the lanes holding the best cost
+      const win = hmin16(v128.bitselect(vidx, vmax, i16x8.eq(vmin, i16x8.splat(<i16>best))));
+      const cm = win > 0 ? <i32>load<u16>(acc + (<usize>(win - 1) << 1)) : MAX16;
+      const cp = win < hi ? <i32>load<u16>(acc + (<usize>(win + 1) << 1)) : MAX16;
+      store<f32>(po, finalDisparity(minD, win, cm, best, cp, cm != MAX16, cp != MAX16, subpix));
+      continue;
+    }
     if (x == 0) {
       for (let b = 0; b < nb; b++) {
         const o = <usize>(b << 4);
@@ -226,12 +272,6 @@ export function wtaRow16(
         v128.store(tmp + o, a);
       }
     }
-    const po = outL + (<usize>x << 2);
-    // candidates: 0 <= x - (minD + l) <= width - 1, 0 <= l < levels
-    let lo = x - wm1 - minD;
-    if (lo < 0) lo = 0;
-    let hi = x - minD;
-    if (hi > levels - 1) hi = levels - 1;
     if (hi < lo) {
       store<f32>(po, NaN);
       continue;
@@ -323,7 +363,8 @@ export function wtaRow32(
   factor: f64,
   right: i32,
 ): void {
-  const nb = stride >> 2;
+  // blocks of 4 levels that hold a level (stride is a multiple of 8, so one more block may follow)
+  const nb = (levels + 3) >> 2;
   const rowBytes = <usize>(stride << 2);
   const wm1 = width - 1;
   const vmax = i32x4.splat(MAX32);
@@ -337,7 +378,53 @@ export function wtaRow32(
       v128.store(acc + o, i32x4.add(v128.load(acc + o), v128.load(c + o)));
     }
   }
+  // lanes of the last block beyond `levels` (MAX32 there), built in tmp
+  const last = nb - 1;
+  v128.store(tmp + <usize>(last << 4), i32x4.splat(0));
+  for (let l = levels, e = nb << 2; l < e; l++) store<i32>(tmp + (<usize>l << 2), MAX32);
+  const padMask = v128.load(tmp + <usize>(last << 4));
   for (let x = 0; x < width; x++) {
+    const po = outL + (<usize>x << 2);
+    // candidates: 0 <= x - (minD + l) <= width - 1, 0 <= l < levels
+    let lo = x - wm1 - minD;
+    if (lo < 0) lo = 0;
+    let hi = x - minD;
+    if (hi > levels - 1) hi = levels - 1;
+    if (x > 0 && lo == 0 && hi == levels - 1 && uniq == 0) {
+      // Interior column (every level a candidate): horizontal update, left minimum and
+      // right view in one pass over the blocks, costs kept in acc.
+      const ca = col + <usize>clampI(x + r, 0, wm1) * rowBytes;
+      const cs = col + <usize>clampI(x - r - 1, 0, wm1) * rowBytes;
+      const qb = <usize>((wm1 - x) << 2);
+      // per lane: smallest cost and its first level (strict <, so earlier blocks win ties)
+      let vmin = vmax;
+      let vidx = vmax;
+      let lvec = iota;
+      for (let b = 0; b < nb; b++) {
+        const o = <usize>(b << 4);
+        let a = i32x4.add(v128.load(acc + o), i32x4.sub(v128.load(ca + o), v128.load(cs + o)));
+        v128.store(acc + o, a);
+        if (b == last) a = v128.or(a, padMask);
+        vidx = v128.bitselect(lvec, vidx, i32x4.lt_s(a, vmin));
+        vmin = i32x4.min_s(vmin, a);
+        if (right != 0) {
+          const pc = br + qb + o;
+          const cur = v128.load(pc);
+          const lt = i32x4.lt_s(a, cur);
+          v128.store(pc, i32x4.min_s(a, cur));
+          const pl = bl + qb + o;
+          v128.store(pl, v128.bitselect(lvec, v128.load(pl), lt));
+        }
+        lvec = i32x4.add(lvec, four);
+      }
+      const best = hmin32(vmin);
+      // lowest level among the lanes holding the best cost
+      const win = hmin32(v128.bitselect(vidx, vmax, i32x4.eq(vmin, i32x4.splat(best))));
+      const cm = win > 0 ? <i32>load<i32>(acc + (<usize>(win - 1) << 2)) : MAX32;
+      const cp = win < hi ? <i32>load<i32>(acc + (<usize>(win + 1) << 2)) : MAX32;
+      store<f32>(po, finalDisparity(minD, win, cm, best, cp, cm != MAX32, cp != MAX32, subpix));
+      continue;
+    }
     if (x == 0) {
       for (let b = 0; b < nb; b++) {
         const o = <usize>(b << 4);
@@ -353,11 +440,6 @@ export function wtaRow32(
         v128.store(tmp + o, a);
       }
     }
-    const po = outL + (<usize>x << 2);
-    let lo = x - wm1 - minD;
-    if (lo < 0) lo = 0;
-    let hi = x - minD;
-    if (hi > levels - 1) hi = levels - 1;
     if (hi < lo) {
       store<f32>(po, NaN);
       continue;
