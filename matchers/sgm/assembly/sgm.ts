@@ -46,6 +46,115 @@ function pathPixel(cPtr: usize, prevPtr: usize, outPtr: usize, nblocks: i32, pad
   return hmin(vmin);
 }
 
+// One block of L for one direction: C + min(L'(d), min(L'(d-1), L'(d+1)) + P1, m' + P2') - m'.
+@inline
+function lBlock(before: v128, cur: v128, next: v128, c: v128, vp1: v128, vt2: v128, vmp: v128): v128 {
+  const lm = i16x8.shuffle(before, cur, 7, 8, 9, 10, 11, 12, 13, 14);
+  const lp = i16x8.shuffle(cur, next, 1, 2, 3, 4, 5, 6, 7, 8);
+  let m = i16x8.min_u(cur, i16x8.add_sat_u(i16x8.min_u(lm, lp), vp1));
+  m = i16x8.min_u(m, vt2);
+  return i16x8.sub(i16x8.add(c, m), vmp);
+}
+
+// All four directions of a pass at one interior pixel (every p - r inside the image),
+// fused block by block, with S updated in the same loop. Same results as four
+// pathPixel calls followed by the S loop of pathRow.
+@inline
+function fusedPixel(
+  cPtr: usize,
+  sPtr: usize,
+  outPtr: usize,
+  rowBytes: usize,
+  minsOut: usize,
+  minStride: usize,
+  p0: usize,
+  p1: usize,
+  p2: usize,
+  p3: usize,
+  mp0: i32,
+  mp1: i32,
+  mp2: i32,
+  mp3: i32,
+  t20: i32,
+  t21: i32,
+  t22: i32,
+  t23: i32,
+  nblocks: i32,
+  padMask: v128,
+  pen1: i32,
+  accumulate: i32,
+): void {
+  const vp1 = i16x8.splat(<i16>pen1);
+  const ones = i16x8.splat(<i16>PAD);
+  const zero = i16x8.splat(0);
+  const vmp0 = i16x8.splat(<i16>mp0);
+  const vmp1 = i16x8.splat(<i16>mp1);
+  const vmp2 = i16x8.splat(<i16>mp2);
+  const vmp3 = i16x8.splat(<i16>mp3);
+  const vt0 = i16x8.splat(<i16>t20);
+  const vt1 = i16x8.splat(<i16>t21);
+  const vt2 = i16x8.splat(<i16>t22);
+  const vt3 = i16x8.splat(<i16>t23);
+  let b0 = ones;
+  let b1 = ones;
+  let b2 = ones;
+  let b3 = ones;
+  let c0 = v128.load(p0);
+  let c1 = v128.load(p1);
+  let c2 = v128.load(p2);
+  let c3 = v128.load(p3);
+  let m0 = ones;
+  let m1 = ones;
+  let m2 = ones;
+  let m3 = ones;
+  const o1 = outPtr + rowBytes;
+  const o2 = o1 + rowBytes;
+  const o3 = o2 + rowBytes;
+  const last = nblocks - 1;
+  for (let b = 0; b < nblocks; b++) {
+    const off = <usize>(b << 4);
+    const isLast = b == last;
+    const c = v128.load(cPtr + off);
+    let acc = accumulate != 0 ? v128.load(sPtr + off) : zero;
+    const n0 = isLast ? ones : v128.load(p0 + off + 16);
+    const n1 = isLast ? ones : v128.load(p1 + off + 16);
+    const n2 = isLast ? ones : v128.load(p2 + off + 16);
+    const n3 = isLast ? ones : v128.load(p3 + off + 16);
+    let l0 = lBlock(b0, c0, n0, c, vp1, vt0, vmp0);
+    let l1 = lBlock(b1, c1, n1, c, vp1, vt1, vmp1);
+    let l2 = lBlock(b2, c2, n2, c, vp1, vt2, vmp2);
+    let l3 = lBlock(b3, c3, n3, c, vp1, vt3, vmp3);
+    if (isLast) {
+      l0 = v128.or(l0, padMask);
+      l1 = v128.or(l1, padMask);
+      l2 = v128.or(l2, padMask);
+      l3 = v128.or(l3, padMask);
+    }
+    v128.store(outPtr + off, l0);
+    v128.store(o1 + off, l1);
+    v128.store(o2 + off, l2);
+    v128.store(o3 + off, l3);
+    m0 = i16x8.min_u(m0, l0);
+    m1 = i16x8.min_u(m1, l1);
+    m2 = i16x8.min_u(m2, l2);
+    m3 = i16x8.min_u(m3, l3);
+    acc = i16x8.add(i16x8.add(acc, i16x8.add(l0, l1)), i16x8.add(l2, l3));
+    v128.store(sPtr + off, acc);
+    b0 = c0;
+    c0 = n0;
+    b1 = c1;
+    c1 = n1;
+    b2 = c2;
+    c2 = n2;
+    b3 = c3;
+    c3 = n3;
+  }
+  store<u16>(minsOut, <u16>hmin(m0));
+  store<u16>(minsOut + minStride, <u16>hmin(m1));
+  store<u16>(minsOut + 2 * minStride, <u16>hmin(m2));
+  store<u16>(minsOut + 3 * minStride, <u16>hmin(m3));
+}
+
 // First pixel of a path: L = C (padded lanes PAD); returns min_k L.
 @inline
 function startPixel(cPtr: usize, outPtr: usize, nblocks: i32, padMask: v128): i32 {
@@ -94,10 +203,59 @@ export function pathRow(
     }
   }
   const xStart = step > 0 ? 0 : width - 1;
+  const minStride = <usize>(width * 2);
   for (let i = 0; i < width; i++) {
     const x = xStart + i * step;
     const cPtr = costRow + <usize>x * pxBytes;
     const g = <i32>load<u8>(grayRow + <usize>x);
+    if (dirMask == 15 && hasPrev != 0 && i > 0 && x > 0 && x < width - 1) {
+      // interior pixel, all four directions: fused
+      const xa = x - step;
+      const xb = x + step;
+      const mp0 = <i32>load<u16>(curMins + (<usize>xa << 1));
+      const mp1 = <i32>load<u16>(prevMins + minStride + (<usize>xa << 1));
+      const mp2 = <i32>load<u16>(prevMins + 2 * minStride + (<usize>x << 1));
+      const mp3 = <i32>load<u16>(prevMins + 3 * minStride + (<usize>xb << 1));
+      let q0 = p2;
+      let q1 = p2;
+      let q2 = p2;
+      let q3 = p2;
+      if (edgeK > 0) {
+        const g0 = <i32>load<u8>(grayRow + <usize>xa);
+        const g1 = <i32>load<u8>(grayPrev + <usize>xa);
+        const g2 = <i32>load<u8>(grayPrev + <usize>x);
+        const g3 = <i32>load<u8>(grayPrev + <usize>xb);
+        q0 = load<i32>(P2_TABLE + (<usize>(g > g0 ? g - g0 : g0 - g) << 2));
+        q1 = load<i32>(P2_TABLE + (<usize>(g > g1 ? g - g1 : g1 - g) << 2));
+        q2 = load<i32>(P2_TABLE + (<usize>(g > g2 ? g - g2 : g2 - g) << 2));
+        q3 = load<i32>(P2_TABLE + (<usize>(g > g3 ? g - g3 : g3 - g) << 2));
+      }
+      fusedPixel(
+        cPtr,
+        sumRow + <usize>x * pxBytes,
+        curRows + <usize>x * pxBytes,
+        rowBytes,
+        curMins + (<usize>x << 1),
+        minStride,
+        curRows + <usize>xa * pxBytes,
+        prevRows + rowBytes + <usize>xa * pxBytes,
+        prevRows + 2 * rowBytes + <usize>x * pxBytes,
+        prevRows + 3 * rowBytes + <usize>xb * pxBytes,
+        mp0,
+        mp1,
+        mp2,
+        mp3,
+        mp0 + q0,
+        mp1 + q1,
+        mp2 + q2,
+        mp3 + q3,
+        nblocks,
+        padMask,
+        p1,
+        accumulate,
+      );
+      continue;
+    }
     for (let dir = 0; dir < 4; dir++) {
       if ((dirMask & (1 << dir)) == 0) continue;
       let nx: i32;
