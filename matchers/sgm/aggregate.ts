@@ -99,13 +99,14 @@ function warnOnce(msg: string): void {
   process.emitWarning(msg, { code: 'PARALLAX_SGM_WASM' });
 }
 
-/** Creates the arena with the chosen kernel (cost, sum and gray zeroed). */
+/** Creates the arena with the chosen kernel (cost, sum and gray zeroed). `wasmName` names build/wasm/<name>.wasm. */
 export async function createArena(
   width: number,
   height: number,
   levels: number,
   choice: KernelChoice,
   words = 2,
+  wasmName = 'sgm',
 ): Promise<SgmArena> {
   const layout = sgmLayout(width, height, levels, words);
   let kernel: 'ts' | 'wasm' = 'ts';
@@ -113,10 +114,10 @@ export async function createArena(
   let wasmFn: PathRowFn | null = null;
   let stages: SgmWasmStages | null = null;
   if (choice !== 'ts') {
-    const mod = await loadWasmModule('sgm');
+    const mod = await loadWasmModule(wasmName);
     if (!mod) {
-      if (choice === 'wasm') throw new MatcherFailure(`sgm: the wasm kernel ${wasmPath('sgm')} is missing; run npm run build:wasm`);
-      warnOnce(`sgm: ${wasmPath('sgm')} not found (run npm run build:wasm); using the slower TypeScript kernel`);
+      if (choice === 'wasm') throw new MatcherFailure(`sgm: the wasm kernel ${wasmPath(wasmName)} is missing; run npm run build:wasm`);
+      warnOnce(`sgm: ${wasmPath(wasmName)} not found (run npm run build:wasm); using the slower TypeScript kernel`);
     } else if (layout.bytes > WASM_MAX_BYTES) {
       if (choice === 'wasm') throw new MatcherFailure(`sgm: ${width}x${height} with ${levels} levels needs ${gib(layout.bytes)} GiB, beyond the 4 GiB of a wasm32 memory`);
     } else {

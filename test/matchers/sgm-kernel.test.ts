@@ -333,3 +333,22 @@ describe('SGM WebAssembly pipeline stages', () => {
     }
   });
 });
+
+describe('SGM kernel choice', () => {
+  it('falls back to TypeScript with one warning when the wasm file is missing, and fails on kernel=wasm', async () => {
+    const seen: string[] = [];
+    const onWarn = (w: Error) => seen.push(w.message);
+    process.on('warning', onWarn);
+    try {
+      const a = await createArena(4, 3, 5, 'auto', 2, 'no-such-kernel');
+      const b = await createArena(4, 3, 5, 'auto', 2, 'no-such-kernel');
+      expect(a.kernel).toBe('ts');
+      expect(b.kernel).toBe('ts');
+      await new Promise((r) => setTimeout(r, 10)); // warnings are emitted on the next tick
+      expect(seen.filter((m) => m.includes('no-such-kernel.wasm not found'))).toHaveLength(1);
+      await expect(createArena(4, 3, 5, 'wasm', 2, 'no-such-kernel')).rejects.toThrow(/no-such-kernel\.wasm is missing/);
+    } finally {
+      process.off('warning', onWarn);
+    }
+  });
+});
