@@ -78,6 +78,20 @@ describe('block wasm kernel', () => {
       [NaN, 0],
     ];
     for (const [v, want] of cases) expect(roundLevel(v)).toBe(want);
+    // roundLevel computes floor(x + 0.5); it must equal Math.round (ECMAScript) clamped to
+    // 0..255 for every float32 input, including the float32 neighbours of each half.
+    const f = new Float32Array(1);
+    for (let k = -2; k <= 258; k++) {
+      for (const base of [k, k + 0.5]) {
+        for (const step of [-1, 0, 1]) {
+          f[0] = base;
+          const u = new Uint32Array(f.buffer);
+          if (base !== 0) u[0] += step;
+          const x = f[0];
+          expect(roundLevel(x)).toBe(Math.min(255, Math.max(0, Math.round(x))));
+        }
+      }
+    }
     expect(Array.from(roundLuminance(Float32Array.of(1.4, 1.6, 2.5)))).toEqual([1, 2, 3]);
   });
 
