@@ -264,7 +264,7 @@ export const REPORT_JS = String.raw`
     var side = el('div');
     if (p.scale) {
       side.appendChild(el('div', { class: 'ci' }, 'disparity colours (shared by truth and every configuration):'));
-      side.appendChild(legendBar(data.viridis, p.scale[0], p.scale[1], 'px'));
+      side.appendChild(legendBar(data.dispColors, p.scale[0], p.scale[1], 'px'));
     }
     var t = el('table', { class: 'figs' });
     var hr = el('tr');
@@ -300,6 +300,6 @@ export const REPORT_JS = String.raw`
     });
   });
   var errLegend = document.getElementById('error-legend');
-  if (errLegend) errLegend.insertBefore(legendBar(data.magma, 0, data.errorClip, 'px'), errLegend.firstChild);
+  if (errLegend) errLegend.insertBefore(legendBar(data.errColors, 0, data.errorClip, 'px'), errLegend.firstChild);
 })();
 `;

@@ -9,30 +9,31 @@
  * the embedded JSON escapes < > & U+2028 U+2029.
  */
 import { createHash } from 'node:crypto';
-import { join } from 'node:path';
-import type { FloatImage, RasterImage } from '../core/image.js';
+import { mkdir, readFile } from 'node:fs/promises';
+import { dirname, join } from 'node:path';
+import type { FloatImage } from '../core/image.js';
 import { toLuminance } from '../core/image.js';
 import type { JobResult, RegionFigures } from '../core/score.js';
 import { DEFAULT_REGION_PARAMS, REGION_IDS, type RegionParams } from '../core/regions.js';
-import { encodePng } from '../io/png.js';
-import { readDisparityFile, readImageFile, readMaskFile, writeFileAtomic } from '../io/files.js';
+import { decodePng, encodePng, readPngHeader } from '../io/png.js';
+import { maskFromRaster, readDisparityFile, readFileBytes, writeFileAtomic } from '../io/files.js';
 import { loadManifest, type Manifest } from '../dataset/manifest.js';
-import { truthReadOptions } from '../dataset/load.js';
+import { assertSameSize, truthReadOptions } from '../dataset/load.js';
 import { buildRegions } from '../dataset/regions.js';
 import { aggregate, cmp, latestJobs, sortJobs, type SummaryRow } from '../stats/aggregate.js';
 import { DEFAULT_LEVEL } from '../stats/bootstrap.js';
 import { metricDirection, metricNames, metricUnit, pooledSpec } from '../stats/metrics.js';
 import { thresholdName } from '../metrics/types.js';
-import { colorHex } from './colormaps.js';
+import { colorHex, ERROR_MAP, type DisparityMapName } from './colormaps.js';
 import { encodePalettePng, type IndexedImage } from './png-palette.js';
 import { REPORT_CSS } from './html-style.js';
 import { REPORT_JS } from './html-client.js';
-import { readPairPreview, readPreview, previewFactor } from './preview.js';
+import { pairPreviewPaths, previewFactor, readPreview } from './preview.js';
 import { readRunFolder, type RunInfoView } from './run-folder.js';
-import { downscaleNanMean } from './preview.js';
 import {
   ERROR_CLIP_PX,
   REGION_COLORS,
+  blockMeanThumb,
   colorizeDisparity,
   colorizeError,
   colorizeRegions,
@@ -61,10 +62,6 @@ export function scriptSafeJson(value: unknown): string {
     .replace(/&/g, '\\u0026')
     .replace(/\u2028/g, '\\u2028')
     .replace(/\u2029/g, '\\u2029');
-}
-
-function pngUri(img: RasterImage): string {
-  return `data:image/png;base64,${encodePng(img).toString('base64')}`;
 }
 
 function indexedUri(img: IndexedImage): string {
@@ -106,45 +103,126 @@ function regionParamsOf(info: RunInfoView): RegionParams {
   return p;
 }
 
-async function pairView(runDir: string, info: RunInfoView, manifest: Manifest | null, manifestProblem: string | null, dataset: string, pair: string, jobs: JobResult[], thresholds: number[]): Promise<PairView> {
-  const view: PairView = { dataset, pair, scale: null, left: null, truth: null, regions: null, note: null, jobs: [] };
-  let truthPreviewGrid: { img: FloatImage; factor: number; width: number; height: number; f: number } | null = null;
+/** Everything a pair view needs from disk, read ahead of the pair being drawn. */
+interface PairInputs {
+  /** Truth at the thumbnail grid (block means), or null with `problem` set. */
+  truth: { thumb: FloatImage; pf: number; width: number; height: number; f: number } | null;
+  problem: string | null;
+  /** The runner's (or an earlier report's) stored pair thumbnails: left PNG bytes as stored, region bits. */
+  stored: { leftPng: Buffer; regionBits: Uint8Array } | null;
+  /** Without stored thumbnails: the full truth and the raw bytes of the left image and occlusion mask. */
+  dataset: { truth: FloatImage; truthPath: string; left: Buffer; leftPath: string; occlusion: Buffer | null; occlusionPath: string | null } | null;
+  /** Stored preview of each job's output (null: none, e.g. a failed job). */
+  previews: (FloatImage | null)[];
+}
+
+async function readStoredPairPreview(runDir: string, dataset: string, pair: string, w: number, h: number): Promise<PairInputs['stored']> {
+  const paths = pairPreviewPaths(runDir, dataset, pair);
+  let lb: Buffer;
+  let rb: Buffer;
+  try {
+    [lb, rb] = await Promise.all([readFile(paths.left), readFile(paths.regions)]);
+  } catch {
+    return null;
+  }
+  try {
+    const lh = readPngHeader(lb, paths.left);
+    if (lh.width !== w || lh.height !== h) return null;
+    const r = decodePng(rb, paths.regions);
+    if (r.width !== w || r.height !== h || r.channels !== 1 || r.bitDepth !== 8) return null;
+    return { leftPng: lb, regionBits: r.data as Uint8Array };
+  } catch {
+    return null;
+  }
+}
+
+/** Read (never rejects) what the view of one pair needs. */
+async function loadPairInputs(runDir: string, manifest: Manifest | null, manifestProblem: string | null, dataset: string, pair: string, jobs: JobResult[]): Promise<PairInputs> {
+  const inputs: PairInputs = { truth: null, problem: null, stored: null, dataset: null, previews: jobs.map(() => null) };
   const entry = manifest?.pairs.find((p) => p.id === pair);
-  if (!manifest) view.note = `Dataset images not shown: ${manifestProblem ?? 'manifest not found'}`;
-  else if (!entry) view.note = `Pair ${pair} is no longer in the dataset manifest.`;
+  let truth: FloatImage | null = null;
+  if (!manifest) inputs.problem = `Dataset images not shown: ${manifestProblem ?? 'manifest not found'}`;
+  else if (!entry) inputs.problem = `Pair ${pair} is no longer in the dataset manifest.`;
   else {
     try {
-      const truth = await readDisparityFile(entry.truth, truthReadOptions(manifest));
-      const W = truth.width;
-      const H = truth.height;
-      const f = thumbFactor(W);
-      const pf = previewFactor(W);
-      const tPrev = downscaleNanMean(truth, pf);
-      const tThumb = toThumbGrid(tPrev, pf, W, H, f);
-      const [lo, hi] = finiteRange(tThumb.data);
-      if (Number.isFinite(lo)) view.scale = [lo, hi];
-      view.truth = indexedUri(colorizeDisparity(tThumb, lo, hi));
-      // Left thumbnail and region map: from the runner's pair preview when there is one
-      // (fast), else from the dataset files (decode the left image, rebuild the regions).
-      const stored = await readPairPreview(runDir, dataset, pair).catch(() => null);
-      if (stored && stored.width === tThumb.width && stored.height === tThumb.height) {
-        view.left = pngUri(stored.left);
-        view.regions = indexedUri(colorizeRegions(stored.regionBits, stored.width, stored.height));
-      } else {
-        const left = await readImageFile(entry.left);
-        view.left = pngUri(downscaleRaster(left, f));
-        let occ: Uint8Array | undefined;
-        if (entry.occlusion) occ = (await readMaskFile(entry.occlusion)).data;
-        const regions = buildRegions(truth.data, toLuminance(left), occ, W, H, regionParamsOf(info));
-        view.regions = indexedUri(colorizeRegions(regionsToThumb(regions.bits, W, H, f), tThumb.width, tThumb.height));
-      }
-      truthPreviewGrid = { img: tThumb, factor: pf, width: W, height: H, f };
+      truth = await readDisparityFile(entry.truth, truthReadOptions(manifest));
+      const f = thumbFactor(truth.width);
+      const pf = previewFactor(truth.width);
+      inputs.truth = { thumb: blockMeanThumb(truth, pf, f), pf, width: truth.width, height: truth.height, f };
+    } catch (e) {
+      inputs.problem = `Dataset images not shown: ${(e as Error).message}`;
+    }
+  }
+  const t = inputs.truth;
+  if (!t || !truth || !entry) return inputs;
+  const [stored, ...previews] = await Promise.all([
+    readStoredPairPreview(runDir, dataset, pair, t.thumb.width, t.thumb.height),
+    ...jobs.map((j) => (j.status === 'ok' ? readPreview(runDir, j.matcher, dataset, pair).catch(() => null) : Promise.resolve(null))),
+  ]);
+  inputs.stored = stored;
+  inputs.previews = previews;
+  if (!stored) {
+    try {
+      const [left, occlusion] = await Promise.all([readFileBytes(entry.left), entry.occlusion ? readFileBytes(entry.occlusion) : Promise.resolve(null)]);
+      inputs.dataset = { truth, truthPath: entry.truth, left, leftPath: entry.left, occlusion, occlusionPath: entry.occlusion ?? null };
+    } catch (e) {
+      inputs.problem = `Dataset images not shown: ${(e as Error).message}`;
+    }
+  }
+  return inputs;
+}
+
+/**
+ * Left thumbnail and region bits from the dataset files (decode the left image, rebuild
+ * the regions), for runs without stored pair thumbnails; with `store`, they are written to
+ * the run folder (previews/@pairs) so that the next report reads them instead.
+ */
+async function pairThumbsFromDataset(runDir: string, info: RunInfoView, d: NonNullable<PairInputs['dataset']>, dataset: string, pair: string, f: number, store: boolean): Promise<{ leftPng: Buffer; regionBits: Uint8Array }> {
+  const { truth } = d;
+  const left = decodePng(d.left, d.leftPath);
+  assertSameSize(d.truthPath, truth, d.leftPath, left);
+  let occ: Uint8Array | undefined;
+  if (d.occlusion && d.occlusionPath) {
+    const mask = maskFromRaster(decodePng(d.occlusion, d.occlusionPath));
+    assertSameSize(d.truthPath, truth, d.occlusionPath, mask);
+    occ = mask.data;
+  }
+  const regions = buildRegions(truth.data, toLuminance(left), occ, truth.width, truth.height, regionParamsOf(info));
+  const leftThumb = downscaleRaster(left, f);
+  const regionBits = regionsToThumb(regions.bits, truth.width, truth.height, f);
+  const leftPng = encodePng(leftThumb);
+  if (store) {
+    const paths = pairPreviewPaths(runDir, dataset, pair);
+    await mkdir(dirname(paths.left), { recursive: true });
+    await writeFileAtomic(paths.left, leftPng);
+    await writeFileAtomic(paths.regions, encodePng({ width: leftThumb.width, height: leftThumb.height, channels: 1, bitDepth: 8, data: regionBits }));
+  }
+  return { leftPng, regionBits };
+}
+
+function pngBytesUri(png: Uint8Array): string {
+  return `data:image/png;base64,${Buffer.from(png.buffer, png.byteOffset, png.byteLength).toString('base64')}`;
+}
+
+async function pairView(runDir: string, info: RunInfoView, manifest: Manifest | null, dataset: string, pair: string, jobs: JobResult[], thresholds: number[], inputs: PairInputs, opts: HtmlReportOptions): Promise<PairView> {
+  const view: PairView = { dataset, pair, scale: null, left: null, truth: null, regions: null, note: inputs.problem, jobs: [] };
+  const t = inputs.truth;
+  const map = opts.disparityMap ?? 'viridis';
+  if (t && manifest) {
+    const [lo, hi] = finiteRange(t.thumb.data);
+    if (Number.isFinite(lo)) view.scale = [lo, hi];
+    view.truth = indexedUri(colorizeDisparity(t.thumb, lo, hi, map));
+    try {
+      const thumbs = inputs.stored ?? (inputs.dataset ? await pairThumbsFromDataset(runDir, info, inputs.dataset, dataset, pair, t.f, opts.storePairThumbs ?? false) : null);
+      if (!thumbs) throw new Error('no left image');
+      view.left = pngBytesUri(thumbs.leftPng);
+      view.regions = indexedUri(colorizeRegions(thumbs.regionBits, t.thumb.width, t.thumb.height));
     } catch (e) {
       view.note = `Dataset images not shown: ${(e as Error).message}`;
     }
   }
-  for (const j of jobs) {
-    const rateMap = thresholds.map((t) => j.thresholds.indexOf(t));
+  jobs.forEach((j, k) => {
+    const rateMap = thresholds.map((th) => j.thresholds.indexOf(th));
     const jv: PairJobView = {
       label: j.matcher,
       status: j.status,
@@ -154,19 +232,16 @@ async function pairView(runDir: string, info: RunInfoView, manifest: Manifest | 
       err: null,
       fig: { known: figView(j.scores.known.figures, rateMap), visible: figView(j.scores.visible.figures, rateMap) },
     };
-    if (truthPreviewGrid && j.status === 'ok') {
-      const prev = await readPreview(runDir, j.matcher, dataset, pair).catch(() => null);
-      if (prev) {
-        const g = truthPreviewGrid;
-        const pThumb = toThumbGrid(prev, g.factor, g.width, g.height, g.f);
-        if (pThumb.width === g.img.width && pThumb.height === g.img.height) {
-          jv.disp = indexedUri(colorizeDisparity(pThumb, view.scale ? view.scale[0] : 0, view.scale ? view.scale[1] : 1));
-          jv.err = indexedUri(colorizeError(pThumb, g.img, ERROR_CLIP_PX));
-        }
+    const prev = inputs.previews[k];
+    if (t && prev && j.status === 'ok') {
+      const pThumb = toThumbGrid(prev, t.pf, t.width, t.height, t.f);
+      if (pThumb.width === t.thumb.width && pThumb.height === t.thumb.height) {
+        jv.disp = indexedUri(colorizeDisparity(pThumb, view.scale ? view.scale[0] : 0, view.scale ? view.scale[1] : 1, map));
+        jv.err = indexedUri(colorizeError(pThumb, t.thumb, ERROR_CLIP_PX));
       }
     }
     view.jobs.push(jv);
-  }
+  });
   return view;
 }
 
@@ -224,7 +299,18 @@ function provenanceHtml(info: RunInfoView, jobs: JobResult[]): string {
 export interface HtmlReportOptions {
   /** Bootstrap resamples for the intervals (default that of bootstrap.ts). */
   resamples?: number;
+  /** Colour map of disparity (default viridis). */
+  disparityMap?: DisparityMapName;
+  /**
+   * Where a run has no stored pair thumbnails, store the ones made from the dataset
+   * (previews/@pairs) so the next report need not decode the dataset images again.
+   * writeHtmlReport sets it; buildHtmlReport alone writes nothing by default.
+   */
+  storePairThumbs?: boolean;
 }
+
+/** Pairs whose files are read ahead of the one being drawn. */
+const READ_AHEAD = 4;
 
 /** Build the report HTML of a run folder (does not write it). */
 export async function buildHtmlReport(runDir: string, opts: HtmlReportOptions = {}): Promise<string> {
@@ -260,11 +346,22 @@ export async function buildHtmlReport(runDir: string, opts: HtmlReportOptions = 
   }
   const pairKeys = [...byPair.keys()].sort(cmp);
   const pairs: PairView[] = [];
-  for (const k of pairKeys) {
+  // Files of the next few pairs are read while this one is drawn (I/O overlaps the
+  // CPU work; one thread, a bounded number of pairs in memory).
+  const load = (k: string): Promise<PairInputs> => {
     const list = byPair.get(k)!;
     const { dataset, pair } = list[0]!;
     const man = manifests.get(dataset) ?? { m: null, problem: `dataset ${dataset} is not in run.json` };
-    pairs.push(await pairView(runDir, info, man.m, man.problem, dataset, pair, list, thresholds));
+    return loadPairInputs(runDir, man.m, man.problem, dataset, pair, list);
+  };
+  const ahead: Promise<PairInputs>[] = pairKeys.slice(0, READ_AHEAD).map(load);
+  for (let i = 0; i < pairKeys.length; i++) {
+    const inputs = await ahead[i]!;
+    delete ahead[i];
+    if (i + READ_AHEAD < pairKeys.length) ahead[i + READ_AHEAD] = load(pairKeys[i + READ_AHEAD]!);
+    const list = byPair.get(pairKeys[i]!)!;
+    const { dataset, pair } = list[0]!;
+    pairs.push(await pairView(runDir, info, manifests.get(dataset)?.m ?? null, dataset, pair, list, thresholds, inputs, opts));
   }
 
   const names = metricNames(thresholds);
@@ -280,8 +377,10 @@ export async function buildHtmlReport(runDir: string, opts: HtmlReportOptions = 
     datasets,
     configs: labels,
     summary: summaryView(rows, thresholds),
-    viridis: Array.from({ length: 17 }, (_, i) => colorHex('viridis', i / 16)),
-    magma: Array.from({ length: 17 }, (_, i) => colorHex('magma', i / 16)),
+    dispMap: opts.disparityMap ?? 'viridis',
+    dispColors: Array.from({ length: 33 }, (_, i) => colorHex(opts.disparityMap ?? 'viridis', i / 32)),
+    errMap: ERROR_MAP,
+    errColors: Array.from({ length: 33 }, (_, i) => colorHex(ERROR_MAP, i / 32)),
     errorClip: ERROR_CLIP_PX,
     pairs,
   };
@@ -361,7 +460,7 @@ ${provenanceHtml(info, jobs)}
 
 /** Write `<runDir>/index.html` and return its path. */
 export async function writeHtmlReport(runDir: string, opts: HtmlReportOptions = {}): Promise<string> {
-  const html = await buildHtmlReport(runDir, opts);
+  const html = await buildHtmlReport(runDir, { storePairThumbs: true, ...opts });
   const path = join(runDir, REPORT_FILE);
   await writeFileAtomic(path, html);
   return path;

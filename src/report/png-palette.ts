@@ -14,6 +14,12 @@ export interface IndexedImage {
   palette: Uint8Array;
 }
 
+/**
+ * zlib level of the thumbnails: level 3 takes a quarter of level 6's time on colour-mapped
+ * thumbnails and makes them about 3 % larger (measured on the report benchmark's data).
+ */
+export const PALETTE_DEFLATE_LEVEL = 3;
+
 const SIGNATURE = Uint8Array.from([137, 80, 78, 71, 13, 10, 26, 10]);
 
 function chunk(type: string, body: Uint8Array): Buffer {
@@ -41,7 +47,7 @@ export function encodePalettePng(img: IndexedImage): Buffer {
     Buffer.from(SIGNATURE),
     chunk('IHDR', ihdr),
     chunk('PLTE', palette),
-    chunk('IDAT', deflateSync(raw, { level: 6 })),
+    chunk('IDAT', deflateSync(raw, { level: PALETTE_DEFLATE_LEVEL })),
     chunk('IEND', new Uint8Array(0)),
   ]);
 }
