@@ -51,6 +51,9 @@ describe('run -> compare -> report through the CLI', () => {
     expect(await runCli(['compare', base, cand, '--gate', 'visible/sharpness:1'], io)).toBe(2);
 
     expect(await runCli(['report', base, '--resamples', '200'], io)).toBe(0);
+    // Only the two perceptual disparity maps are offered (DESIGN: no rainbow map); a usage error exits 2.
+    expect(await runCli(['report', base, '--disparity-colors', 'jet'], io)).toBe(2);
+    expect(errs.join('')).toContain('--disparity-colors: must be viridis or cividis');
     const html = await readFile(join(base, 'index.html'), 'utf8');
     expect(html).toContain('imported');
     expect(existsSync(join(base, 'summary.csv'))).toBe(true);
