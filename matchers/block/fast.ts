@@ -46,16 +46,6 @@ interface WasmSyncApi {
 const WA = (globalThis as unknown as { WebAssembly: WasmSyncApi }).WebAssembly;
 
 type AddRowFn = (col: number, lRow: number, rpRow: number, width: number, stride: number, ssd: number) => void;
-type AdvanceFn = (
-  col: number,
-  lIn: number,
-  rpIn: number,
-  lOut: number,
-  rpOut: number,
-  width: number,
-  stride: number,
-  ssd: number,
-) => void;
 type WtaRowFn = (
   col: number,
   acc: number,
@@ -72,14 +62,18 @@ type WtaRowFn = (
   uniq: number,
   factor: number,
   right: number,
+  adv: number,
+  lIn: number,
+  rpIn: number,
+  lOut: number,
+  rpOut: number,
+  ssd: number,
 ) => void;
 type FinishRightFn = (br: number, bl: number, outR: number, width: number, stride: number, minD: number) => void;
 
 interface BlockExports {
   addRow16: AddRowFn;
-  advance16: AdvanceFn;
   addRow32: AddRowFn;
-  advance32: AdvanceFn;
   wtaRow16: WtaRowFn;
   wtaRow32: WtaRowFn;
   finishRight16: FinishRightFn;
@@ -198,7 +192,6 @@ export function blockWasmMaps(
   if (L.wide) new Int32Array(buf, L.br, brLen).fill(0x7fffffff);
   else new Uint16Array(buf, L.br, brLen).fill(0xffff);
   const addRow = L.wide ? k.addRow32 : k.addRow16;
-  const advance = L.wide ? k.advance32 : k.advance16;
   const wtaRow = L.wide ? k.wtaRow32 : k.wtaRow16;
   const finishRight = L.wide ? k.finishRight32 : k.finishRight16;
   const ssd = a.cost === 'ssd' ? 1 : 0;
@@ -213,11 +206,11 @@ export function blockWasmMaps(
   const factor = 1 + a.uniq / 100;
   for (let y = 0; y < height; y++) {
     if (signal?.aborted) throw new AbortedError();
-    if (y > 0) {
-      const yin = clampY(y + r);
-      const yout = clampY(y - 1 - r);
-      if (yin !== yout) advance(L.col, L.lq + yin * width, L.rp + yin * L.pw, L.lq + yout * width, L.rp + yout * L.pw, width, L.stride, ssd);
-    }
+    // Column sums move down one row (entering row y + r, leaving row y - 1 - r, clamped);
+    // wtaRow does this column by column, just before the column is summed.
+    const yin = clampY(y + r);
+    const yout = clampY(y - 1 - r);
+    const adv = y > 0 && yin !== yout ? 1 : 0;
     wtaRow(
       L.col,
       L.acc,
@@ -234,6 +227,12 @@ export function blockWasmMaps(
       a.uniq > 0 ? 1 : 0,
       factor,
       a.rightView ? 1 : 0,
+      adv,
+      L.lq + yin * width,
+      L.rp + yin * L.pw,
+      L.lq + yout * width,
+      L.rp + yout * L.pw,
+      ssd,
     );
     if (a.rightView) finishRight(L.br, L.bl, L.outR + y * width * 4, width, L.stride, L.minD);
   }

@@ -2,8 +2,9 @@
 // Compiled by scripts/build-wasm.sh into build/wasm/block.wasm (--enable simd -O3,
 // imported memory, stub runtime). The host (matchers/block/fast.ts) lays out every
 // buffer and calls, per image row y:
-//   advance*  column sums of the rows entering / leaving the window (addRow* to start),
-//   wtaRow*   horizontal running sum over the window width, masking of candidates
+//   wtaRow*   column sums moved down one row (the entering row's differences added, the
+//             leaving row's subtracted; addRow* builds row 0's), column by column just
+//             before use; horizontal running sum over the window width, masking of candidates
 //             outside the right image, left-view WTA (+ uniqueness, subpixel) and the
 //             right view's running minimum,
 //   finishRight*  the right view's disparities of the row.
@@ -88,23 +89,20 @@ export function addRow16(col: usize, lRow: usize, rpRow: usize, width: i32, stri
   }
 }
 
-// col += |L - R| of the entering row - |L - R| of the leaving row.
-export function advance16(col: usize, lIn: usize, rpIn: usize, lOut: usize, rpOut: usize, width: i32, stride: i32): void {
-  const nb = stride >> 3;
-  const rowBytes = <usize>(stride << 1);
-  for (let x = 0; x < width; x++) {
-    const li = i16x8.splat(<i16>load<u8>(lIn + <usize>x));
-    const lo = i16x8.splat(<i16>load<u8>(lOut + <usize>x));
-    const ri = rpIn + <usize>(width - 1 - x);
-    const ro = rpOut + <usize>(width - 1 - x);
-    const cp = col + <usize>x * rowBytes;
-    for (let b = 0; b < nb; b++) {
-      const k = <usize>(b << 3);
-      const ei = i16x8.abs(i16x8.sub(li, v128.load8x8_u(ri + k)));
-      const eo = i16x8.abs(i16x8.sub(lo, v128.load8x8_u(ro + k)));
-      const o = cp + <usize>(b << 4);
-      v128.store(o, i16x8.add(v128.load(o), i16x8.sub(ei, eo)));
-    }
+// Column x: col += |L - R| of the entering row - |L - R| of the leaving row.
+@inline
+function advanceCol16(col: usize, lIn: usize, rpIn: usize, lOut: usize, rpOut: usize, width: i32, nb: i32, rowBytes: usize, x: i32): void {
+  const li = i16x8.splat(<i16>load<u8>(lIn + <usize>x));
+  const lo = i16x8.splat(<i16>load<u8>(lOut + <usize>x));
+  const ri = rpIn + <usize>(width - 1 - x);
+  const ro = rpOut + <usize>(width - 1 - x);
+  const cp = col + <usize>x * rowBytes;
+  for (let b = 0; b < nb; b++) {
+    const k = <usize>(b << 3);
+    const ei = i16x8.abs(i16x8.sub(li, v128.load8x8_u(ri + k)));
+    const eo = i16x8.abs(i16x8.sub(lo, v128.load8x8_u(ro + k)));
+    const o = cp + <usize>(b << 4);
+    v128.store(o, i16x8.add(v128.load(o), i16x8.sub(ei, eo)));
   }
 }
 
@@ -138,23 +136,19 @@ function addRow32Impl(col: usize, lRow: usize, rpRow: usize, width: i32, stride:
 }
 
 @inline
-function advance32Impl(col: usize, lIn: usize, rpIn: usize, lOut: usize, rpOut: usize, width: i32, stride: i32, ssd: bool): void {
-  const n8 = stride >> 3;
-  const rowBytes = <usize>(stride << 2);
-  for (let x = 0; x < width; x++) {
-    const li = i16x8.splat(<i16>load<u8>(lIn + <usize>x));
-    const lo = i16x8.splat(<i16>load<u8>(lOut + <usize>x));
-    const ri = rpIn + <usize>(width - 1 - x);
-    const ro = rpOut + <usize>(width - 1 - x);
-    const cp = col + <usize>x * rowBytes;
-    for (let b = 0; b < n8; b++) {
-      const k = <usize>(b << 3);
-      const di = i16x8.sub(li, v128.load8x8_u(ri + k));
-      const dout = i16x8.sub(lo, v128.load8x8_u(ro + k));
-      const o = cp + <usize>(b << 5);
-      v128.store(o, i32x4.add(v128.load(o), i32x4.sub(errLo(di, ssd), errLo(dout, ssd))));
-      v128.store(o + 16, i32x4.add(v128.load(o + 16), i32x4.sub(errHi(di, ssd), errHi(dout, ssd))));
-    }
+function advanceCol32(col: usize, lIn: usize, rpIn: usize, lOut: usize, rpOut: usize, width: i32, n8: i32, rowBytes: usize, x: i32, ssd: bool): void {
+  const li = i16x8.splat(<i16>load<u8>(lIn + <usize>x));
+  const lo = i16x8.splat(<i16>load<u8>(lOut + <usize>x));
+  const ri = rpIn + <usize>(width - 1 - x);
+  const ro = rpOut + <usize>(width - 1 - x);
+  const cp = col + <usize>x * rowBytes;
+  for (let b = 0; b < n8; b++) {
+    const k = <usize>(b << 3);
+    const di = i16x8.sub(li, v128.load8x8_u(ri + k));
+    const dout = i16x8.sub(lo, v128.load8x8_u(ro + k));
+    const o = cp + <usize>(b << 5);
+    v128.store(o, i32x4.add(v128.load(o), i32x4.sub(errLo(di, ssd), errLo(dout, ssd))));
+    v128.store(o + 16, i32x4.add(v128.load(o + 16), i32x4.sub(errHi(di, ssd), errHi(dout, ssd))));
   }
 }
 
@@ -163,10 +157,6 @@ export function addRow32(col: usize, lRow: usize, rpRow: usize, width: i32, stri
   else addRow32Impl(col, lRow, rpRow, width, stride, false);
 }
 
-export function advance32(col: usize, lIn: usize, rpIn: usize, lOut: usize, rpOut: usize, width: i32, stride: i32, ssd: i32): void {
-  if (ssd != 0) advance32Impl(col, lIn, rpIn, lOut, rpOut, width, stride, true);
-  else advance32Impl(col, lIn, rpIn, lOut, rpOut, width, stride, false);
-}
 
 // ---------------------------------------------------------------------------
 // One row of window sums + WTA, u16 lanes.
@@ -194,6 +184,12 @@ export function wtaRow16(
   uniq: i32,
   factor: f64,
   right: i32,
+  adv: i32,
+  lIn: usize,
+  rpIn: usize,
+  lOut: usize,
+  rpOut: usize,
+  ssd: i32,
 ): void {
   const nb = stride >> 3;
   const rowBytes = <usize>(stride << 1);
@@ -203,6 +199,8 @@ export function wtaRow16(
   const eight = i16x8.splat(8);
   // acc = sum of col over clamp(-r .. r)
   for (let b = 0; b < nb; b++) v128.store(acc + <usize>(b << 4), i16x8.splat(0));
+  // column sums of this row: columns 0..r now, column x + r at column x (fresh in cache)
+  if (adv != 0) for (let x = 0; x <= r && x <= wm1; x++) advanceCol16(col, lIn, rpIn, lOut, rpOut, width, nb, rowBytes, x);
   for (let i = -r; i <= r; i++) {
     const c = col + <usize>clampI(i, 0, wm1) * rowBytes;
     for (let b = 0; b < nb; b++) {
@@ -216,6 +214,7 @@ export function wtaRow16(
   for (let l = levels; l < stride; l++) store<u16>(tmp + (<usize>l << 1), MAX16);
   const padMask = v128.load(tmp + <usize>(last << 4));
   for (let x = 0; x < width; x++) {
+    if (adv != 0 && x > 0 && x + r <= wm1) advanceCol16(col, lIn, rpIn, lOut, rpOut, width, nb, rowBytes, x + r);
     const po = outL + (<usize>x << 2);
     // candidates: 0 <= x - (minD + l) <= width - 1, 0 <= l < levels
     let lo = x - wm1 - minD;
@@ -362,6 +361,12 @@ export function wtaRow32(
   uniq: i32,
   factor: f64,
   right: i32,
+  adv: i32,
+  lIn: usize,
+  rpIn: usize,
+  lOut: usize,
+  rpOut: usize,
+  ssd: i32,
 ): void {
   // blocks of 4 levels that hold a level (stride is a multiple of 8, so one more block may follow)
   const nb = (levels + 3) >> 2;
@@ -371,6 +376,13 @@ export function wtaRow32(
   const iota = i32x4(0, 1, 2, 3);
   const four = i32x4.splat(4);
   for (let b = 0; b < nb; b++) v128.store(acc + <usize>(b << 4), i32x4.splat(0));
+  const n8 = stride >> 3;
+  if (adv != 0) {
+    for (let x = 0; x <= r && x <= wm1; x++) {
+      if (ssd != 0) advanceCol32(col, lIn, rpIn, lOut, rpOut, width, n8, rowBytes, x, true);
+      else advanceCol32(col, lIn, rpIn, lOut, rpOut, width, n8, rowBytes, x, false);
+    }
+  }
   for (let i = -r; i <= r; i++) {
     const c = col + <usize>clampI(i, 0, wm1) * rowBytes;
     for (let b = 0; b < nb; b++) {
@@ -384,6 +396,10 @@ export function wtaRow32(
   for (let l = levels, e = nb << 2; l < e; l++) store<i32>(tmp + (<usize>l << 2), MAX32);
   const padMask = v128.load(tmp + <usize>(last << 4));
   for (let x = 0; x < width; x++) {
+    if (adv != 0 && x > 0 && x + r <= wm1) {
+      if (ssd != 0) advanceCol32(col, lIn, rpIn, lOut, rpOut, width, n8, rowBytes, x + r, true);
+      else advanceCol32(col, lIn, rpIn, lOut, rpOut, width, n8, rowBytes, x + r, false);
+    }
     const po = outL + (<usize>x << 2);
     // candidates: 0 <= x - (minD + l) <= width - 1, 0 <= l < levels
     let lo = x - wm1 - minD;
