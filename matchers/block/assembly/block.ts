@@ -160,14 +160,16 @@ export function addRow32(col: usize, lRow: usize, rpRow: usize, width: i32, stri
 
 // ---------------------------------------------------------------------------
 // One row of window sums + WTA, u16 lanes.
-//   col    column sums of this row (width * stride u16)
+//   col    column sums (width * stride u16): of the previous row when adv = 1 (moved down
+//          here with the entering row lIn/rpIn and the leaving row lOut/rpOut), else
+//          already this row's (row 0, or the same clamped row entering and leaving)
 //   acc    running horizontal sum (stride u16); tmp: its masked copy (stride u16)
 //   br, bl right view: running best cost (u16) and level (u16) per index
 //          q = width - 1 - x + l, i.e. right column xr = width - 1 - minD - q;
-//          width + stride + 8 entries each, br set to MAX16 before the row
+//          width + stride + 16 entries each, br set to MAX16 before the row
 //   outL   width f32: left disparity (NaN = no candidate or not unique)
 //   levels, minD  the (clipped) levels; r = window radius
-//   subpix, uniq (0/1), factor = 1 + uniqueness% / 100, right (0/1)
+//   subpix, uniq (0/1), factor = 1 + uniqueness% / 100, right (0/1); ssd is read by wtaRow32
 export function wtaRow16(
   col: usize,
   acc: usize,
