@@ -31,6 +31,9 @@ export const REPORT_JS = String.raw`
     if (a >= 0.001) return x.toFixed(3);
     return x.toPrecision(2);
   }
+  // Axis and legend labels: at most 6 (ticks) or 3 (legend ends) significant digits, no trailing zeros.
+  function tickFmt(v) { return String(Number(v.toPrecision(6))); }
+  function legendFmt(v) { return String(Number(v.toPrecision(3))); }
   function cellsNow() { return ((data.summary[state.dataset] || {})[state.tag]) || {}; }
   function rowsNow() { return cellsNow()[state.region] || []; }
   function cell(row, metric) {
@@ -159,12 +162,12 @@ export const REPORT_JS = String.raw`
     function Y(v) { return H - pad.b - (v - y0) / (y1 - y0) * (H - pad.t - pad.b); }
     ticks(y0, y1, 5).forEach(function (v) {
       svg.appendChild(sv('line', { x1: pad.l - 4, y1: Y(v), x2: W - pad.r, y2: Y(v), stroke: '#e3e6ea' }));
-      svg.appendChild(sv('text', { x: pad.l - 6, y: Y(v) + 4, 'text-anchor': 'end' }, fmt(v)));
+      svg.appendChild(sv('text', { x: pad.l - 6, y: Y(v) + 4, 'text-anchor': 'end' }, tickFmt(v)));
     });
     var xt = logx ? logTicks(x0, x1) : ticks(x0, x1, 5);
     xt.forEach(function (t) {
       if (logx && !(t > 0)) return;
-      svg.appendChild(sv('text', { x: X(t), y: H - pad.b + 14, 'text-anchor': 'middle' }, fmt(t)));
+      svg.appendChild(sv('text', { x: X(t), y: H - pad.b + 14, 'text-anchor': 'middle' }, tickFmt(t)));
     });
     var higher = data.better[metric] === 'higher';
     var sorted = pts.slice().sort(function (a, b) { return a.t - b.t || (higher ? b.y - a.y : a.y - b.y); });
@@ -231,17 +234,18 @@ export const REPORT_JS = String.raw`
   renderCurves();
 
   // ---------------------------------------------------------------- pairs
-  function legendBar(lut, lo, hi, unit, width) {
+  function legendBar(lut, lo, hi, unit, width, clipped) {
     var H = 34, W = width || 220;
-    var svg = sv('svg', { width: W, height: H, viewBox: '0 0 ' + W + ' ' + H, role: 'img', 'aria-label': 'colour scale ' + fmt(lo) + ' to ' + fmt(hi) + ' ' + unit });
+    var hiText = (clipped ? '\u2265 ' : '') + legendFmt(hi) + ' ' + unit;
+    var svg = sv('svg', { width: W, height: H, viewBox: '0 0 ' + W + ' ' + H, role: 'img', 'aria-label': 'colour scale ' + legendFmt(lo) + ' ' + unit + ' to ' + hiText });
     var gid = 'g' + Math.random().toString(36).slice(2);
     var defs = sv('defs');
     var grad = sv('linearGradient', { id: gid, x1: 0, x2: 1, y1: 0, y2: 0 });
     lut.forEach(function (c, i) { grad.appendChild(sv('stop', { offset: (i / (lut.length - 1) * 100) + '%', 'stop-color': c })); });
     defs.appendChild(grad); svg.appendChild(defs);
     svg.appendChild(sv('rect', { x: 10, y: 2, width: W - 20, height: 12, fill: 'url(#' + gid + ')', stroke: '#999' }));
-    svg.appendChild(sv('text', { x: 10, y: 28, 'text-anchor': 'start' }, fmt(lo) + ' ' + unit));
-    svg.appendChild(sv('text', { x: W - 10, y: 28, 'text-anchor': 'end' }, fmt(hi) + ' ' + unit));
+    svg.appendChild(sv('text', { x: 10, y: 28, 'text-anchor': 'start' }, legendFmt(lo) + ' ' + unit));
+    svg.appendChild(sv('text', { x: W - 10, y: 28, 'text-anchor': 'end' }, hiText));
     return svg;
   }
   function tile(src, caption, alt) {
@@ -250,6 +254,38 @@ export const REPORT_JS = String.raw`
     f.appendChild(img);
     f.appendChild(el('figcaption', null, caption));
     return f;
+  }
+  function swatchKey(bg, cls, label) {
+    var s = el('span');
+    var sw = el('span', { class: 'swatch' + (cls ? ' ' + cls : '') });
+    if (bg) sw.setAttribute('style', 'background:' + bg);
+    s.appendChild(sw);
+    s.appendChild(document.createTextNode(label));
+    return s;
+  }
+  // Every pair view carries its own legends: the disparity scale of this pair (shared by
+  // the truth and every configuration), the error scale, hatching, no truth, regions.
+  function pairLegend(p) {
+    var leg = el('div', { class: 'pairlegend' });
+    if (p.scale) {
+      var a = el('div');
+      a.appendChild(el('div', { class: 'ci' }, 'disparity (' + data.dispMap + '), one scale for the truth and every configuration'));
+      a.appendChild(legendBar(data.dispColors, p.scale[0], p.scale[1], 'px'));
+      leg.appendChild(a);
+    }
+    var b = el('div');
+    b.appendChild(el('div', { class: 'ci' }, '|error| (' + data.errMap + '), linear, clipped at ' + legendFmt(data.errorClip) + ' px'));
+    b.appendChild(legendBar(data.errColors, 0, data.errorClip, 'px', 220, true));
+    leg.appendChild(b);
+    var keys = el('div', { class: 'keys' });
+    keys.appendChild(swatchKey(null, 'hatch', 'no prediction'));
+    keys.appendChild(swatchKey(data.noTruth, null, 'no truth'));
+    leg.appendChild(keys);
+    var rk = el('div', { class: 'keys' });
+    rk.appendChild(el('span', null, 'regions:'));
+    data.regionKeys.forEach(function (r) { rk.appendChild(swatchKey(r[1], null, r[0])); });
+    leg.appendChild(rk);
+    return leg;
   }
   function buildPair(p, host) {
     var tiles = el('div', { class: 'tiles' });
@@ -261,11 +297,8 @@ export const REPORT_JS = String.raw`
       if (j.disp) tiles.appendChild(tile(j.disp, j.label + ' \u2014 disparity', 'disparity of ' + j.label));
       if (j.err) tiles.appendChild(tile(j.err, j.label + ' \u2014 |error|', 'absolute error of ' + j.label));
     });
-    var side = el('div');
-    if (p.scale) {
-      side.appendChild(el('div', { class: 'ci' }, 'disparity colours (shared by truth and every configuration):'));
-      side.appendChild(legendBar(data.dispColors, p.scale[0], p.scale[1], 'px'));
-    }
+    var side = el('div', { class: 'side' });
+    host.appendChild(pairLegend(p));
     var t = el('table', { class: 'figs' });
     var hr = el('tr');
     ['configuration', 'status', 'time ms', 'known coverage %', 'known epe px', 'visible epe px'].concat(data.rateNames.map(function (n) { return 'visible ' + n + ' %'; })).forEach(function (h) { hr.appendChild(el('th', { scope: 'col' }, h)); });
@@ -299,7 +332,5 @@ export const REPORT_JS = String.raw`
       buildPair(data.pairs[Number(d.getAttribute('data-index'))], d.querySelector('.pairbody'));
     });
   });
-  var errLegend = document.getElementById('error-legend');
-  if (errLegend) errLegend.insertBefore(legendBar(data.errColors, 0, data.errorClip, 'px'), errLegend.firstChild);
 })();
 `;

@@ -19,6 +19,9 @@ table{border-collapse:collapse;font-variant-numeric:tabular-nums}
 .rank th,.rank td{border-bottom:1px solid var(--line);padding:4px 8px;text-align:right;white-space:nowrap;vertical-align:top}
 .rank th:first-child,.rank td:first-child{text-align:left}
 .rank thead th{position:sticky;top:0;background:#eef2f6}
+.rank tbody th,.rank thead th:first-child{position:sticky;left:0;z-index:1}
+.rank tbody th{background:var(--card)}
+.rank thead th:first-child{z-index:2}
 .rank th button{font:inherit;font-weight:600;border:0;background:none;cursor:pointer;padding:2px 4px;color:var(--ink)}
 .rank th button:focus-visible{outline:2px solid var(--accent)}
 .rank th[aria-sort=ascending] button::after{content:" \\25B2";color:var(--accent)}
@@ -41,7 +44,12 @@ details.pair summary .st{font-weight:400;color:var(--muted);margin-left:8px}
 .tiles img{width:100%;height:auto;image-rendering:pixelated;border:1px solid var(--line);background:#ddd}
 .tiles figcaption{font-size:11px;color:var(--muted);overflow-wrap:anywhere}
 .figs th,.figs td{border-bottom:1px solid var(--line);padding:2px 6px;text-align:right;font-size:12px}
-.figs th:first-child,.figs td:first-child{text-align:left;overflow-wrap:anywhere;max-width:220px}
+.figs th{vertical-align:bottom}
+.figs th:first-child,.figs td:first-child{text-align:left;max-width:220px}
+.figs td:first-child{overflow-wrap:anywhere}
+.pairlegend{display:flex;gap:8px 26px;flex-wrap:wrap;align-items:flex-end;margin:8px 0 4px;font-size:12px;color:var(--muted)}
+.pairlegend .keys{display:flex;gap:4px 12px;flex-wrap:wrap;align-items:center;padding-bottom:14px}
+.side{overflow-x:auto;max-width:100%}
 .failed{color:var(--warn)}
 .prov dl{display:grid;grid-template-columns:max-content 1fr;gap:2px 14px;margin:0}
 .prov dt{color:var(--muted)}

@@ -32,6 +32,7 @@ import { pairPreviewPaths, previewFactor, readPreview } from './preview.js';
 import { readRunFolder, type RunInfoView } from './run-folder.js';
 import {
   ERROR_CLIP_PX,
+  NO_TRUTH,
   REGION_COLORS,
   blockMeanThumb,
   colorizeDisparity,
@@ -382,6 +383,8 @@ export async function buildHtmlReport(runDir: string, opts: HtmlReportOptions = 
     errMap: ERROR_MAP,
     errColors: Array.from({ length: 33 }, (_, i) => colorHex(ERROR_MAP, i / 32)),
     errorClip: ERROR_CLIP_PX,
+    noTruth: `rgb(${NO_TRUTH.join(',')})`,
+    regionKeys: (['visible', 'occluded', 'flat', 'jump', 'unknown'] as const).map((k) => [k === 'unknown' ? 'no truth' : k, `rgb(${REGION_COLORS[k].join(',')})`]),
     pairs,
   };
 
@@ -397,7 +400,6 @@ export async function buildHtmlReport(runDir: string, opts: HtmlReportOptions = 
     })
     .join('\n');
   const opt = (v: string, label = v): string => `<option value="${escapeHtml(v)}">${escapeHtml(label)}</option>`;
-  const swatch = (rgb: readonly number[], label: string): string => `<span><span class="swatch" style="background:rgb(${rgb.join(',')})"></span>${escapeHtml(label)}</span>`;
 
   return `<!doctype html>
 <html lang="en">
@@ -437,13 +439,7 @@ ${tags.length ? `<label>pairs<select id="sel-tag">${opt('', 'all pairs')}${tags.
 </section>
 <section aria-labelledby="h-pairs">
 <h2 id="h-pairs">Pairs</h2>
-<div class="legend-row" id="error-legend">
-<span>|error| colours, linear, clipped at ${escapeHtml(ERROR_CLIP_PX)} px (brightest = ${escapeHtml(ERROR_CLIP_PX)} px or more)</span>
-<span><span class="swatch hatch"></span>no prediction</span>
-<span><span class="swatch" style="background:rgb(150,158,166)"></span>no truth</span>
-</div>
-<div class="legend-row">regions: ${swatch(REGION_COLORS.visible, 'visible')} ${swatch(REGION_COLORS.occluded, 'occluded')} ${swatch(REGION_COLORS.flat, 'flat')} ${swatch(REGION_COLORS.jump, 'jump')} ${swatch(REGION_COLORS.unknown, 'no truth')}</div>
-<p class="ci">Thumbnails are downscaled (block means of valid pixels); the error images compare the downscaled output with the downscaled truth. The figures beside them are the exact per-pair scores.</p>
+<p class="ci">Open a pair to see its left image, truth, region map and, per configuration, the disparity and the absolute error, each with its legend. Thumbnails are downscaled (block means of valid pixels); the error images compare the downscaled output with the downscaled truth. The figures beside them are the exact per-pair scores.</p>
 ${pairList}
 </section>
 <section class="prov" aria-labelledby="h-prov">

@@ -115,6 +115,38 @@ describe('HTML report in chromium', () => {
     await page.waitForFunction(() => Array.from(document.querySelectorAll('details.pair[open] img')).every((i) => (i as HTMLImageElement).complete));
     const decoded = await imgs.evaluateAll((list) => list.map((i) => (i as HTMLImageElement).complete && (i as HTMLImageElement).naturalWidth > 0));
     expect(decoded.every(Boolean)).toBe(true);
+    // The open pair carries its own legends: the pair's disparity scale in px and the error
+    // scale clipped at 4 px (thumbs.ts ERROR_CLIP_PX), both starting at the maps' first
+    // colours (viridis #440154, magma #000004: matplotlib's tables, see colormaps.test.ts).
+    const legend = page.locator('details.pair').nth(1).locator('.pairlegend');
+    const bars = legend.locator('svg');
+    expect(await bars.count()).toBe(2);
+    const labels2 = await bars.locator('text').allTextContents();
+    expect(labels2.filter((t) => / px$/.test(t)).length).toBe(4);
+    expect(labels2).toContain('\u2265 4 px');
+    const firstStops = await bars.evaluateAll((list) => list.map((s) => s.querySelector('stop')!.getAttribute('stop-color')));
+    expect(firstStops).toEqual(['#440154', '#000004']);
+    expect(await legend.locator('.swatch.hatch').count()).toBe(1);
+    // Hatching is really drawn: the block tile (8 % holes) holds both hatch grays
+    // (HATCH_DARK 96,96,96 and HATCH_LIGHT 236,236,236), read back from a canvas.
+    const hatch = await page.locator('details.pair').nth(1).locator('img[alt="disparity of block:window=9"]').evaluate((img) => {
+      const im = img as HTMLImageElement;
+      const c = document.createElement('canvas');
+      c.width = im.naturalWidth;
+      c.height = im.naturalHeight;
+      const g = c.getContext('2d')!;
+      g.drawImage(im, 0, 0);
+      const d = g.getImageData(0, 0, c.width, c.height).data;
+      let dark = 0;
+      let light = 0;
+      for (let i = 0; i < d.length; i += 4) {
+        if (d[i] === 96 && d[i + 1] === 96 && d[i + 2] === 96) dark++;
+        if (d[i] === 236 && d[i + 1] === 236 && d[i + 2] === 236) light++;
+      }
+      return { dark, light };
+    });
+    expect(hatch.dark).toBeGreaterThan(0);
+    expect(hatch.light).toBeGreaterThan(0);
     const failedText = await page.locator('details.pair').nth(1).locator('td.failed').allTextContents();
     expect(failedText.join(' ')).toContain('</script><script>alert(5)</script>');
 
