@@ -296,6 +296,15 @@ export const REPORT_JS = String.raw`
     p.jobs.forEach(function (j) {
       if (j.disp) tiles.appendChild(tile(j.disp, j.label + ' \u2014 disparity', 'disparity of ' + j.label));
       if (j.err) tiles.appendChild(tile(j.err, j.label + ' \u2014 |error|', 'absolute error of ' + j.label));
+      if (j.status === 'failed') {
+        // A failed job has no output to show; say so where its pictures would be.
+        var f = el('figure', { class: 'nothumb' });
+        var box = el('div', { class: 'failedbox' }, 'failed: no output');
+        if (p.size) box.setAttribute('style', 'aspect-ratio:' + p.size[0] + '/' + p.size[1]);
+        f.appendChild(box);
+        f.appendChild(el('figcaption', null, j.label + ' \u2014 failed (scored as all-invalid)'));
+        tiles.appendChild(f);
+      }
     });
     var side = el('div', { class: 'side' });
     host.appendChild(pairLegend(p));

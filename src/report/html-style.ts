@@ -42,6 +42,7 @@ details.pair summary .st{font-weight:400;color:var(--muted);margin-left:8px}
 .tiles{display:grid;grid-template-columns:repeat(auto-fill,minmax(200px,1fr));gap:10px;flex:1 1 640px}
 .tiles figure{margin:0}
 .tiles img{width:100%;height:auto;image-rendering:pixelated;border:1px solid var(--line);background:#ddd}
+.failedbox{aspect-ratio:4/3;display:flex;align-items:center;justify-content:center;border:1px dashed var(--warn);color:var(--warn);background:#fff7f0;font-size:12px}
 .tiles figcaption{font-size:11px;color:var(--muted);overflow-wrap:anywhere}
 .figs th,.figs td{border-bottom:1px solid var(--line);padding:2px 6px;text-align:right;font-size:12px}
 .figs th{vertical-align:bottom}

@@ -83,6 +83,8 @@ interface PairView {
   dataset: string;
   pair: string;
   scale: [number, number] | null;
+  /** Thumbnail width and height (px). */
+  size: [number, number] | null;
   left: string | null;
   truth: string | null;
   regions: string | null;
@@ -206,13 +208,14 @@ function pngBytesUri(png: Uint8Array): string {
 }
 
 async function pairView(runDir: string, info: RunInfoView, manifest: Manifest | null, dataset: string, pair: string, jobs: JobResult[], thresholds: number[], inputs: PairInputs, opts: HtmlReportOptions): Promise<PairView> {
-  const view: PairView = { dataset, pair, scale: null, left: null, truth: null, regions: null, note: inputs.problem, jobs: [] };
+  const view: PairView = { dataset, pair, scale: null, size: null, left: null, truth: null, regions: null, note: inputs.problem, jobs: [] };
   const t = inputs.truth;
   const map = opts.disparityMap ?? 'viridis';
   if (t && manifest) {
     const [lo, hi] = finiteRange(t.thumb.data);
     if (Number.isFinite(lo)) view.scale = [lo, hi];
-    view.truth = indexedUri(colorizeDisparity(t.thumb, lo, hi, map));
+    view.size = [t.thumb.width, t.thumb.height];
+    view.truth = indexedUri(colorizeDisparity(t.thumb, lo, hi, map, 'no-truth'));
     try {
       const thumbs = inputs.stored ?? (inputs.dataset ? await pairThumbsFromDataset(runDir, info, inputs.dataset, dataset, pair, t.f, opts.storePairThumbs ?? false) : null);
       if (!thumbs) throw new Error('no left image');

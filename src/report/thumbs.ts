@@ -186,20 +186,25 @@ const PALETTES: Record<ColorMapName, Uint8Array> = {
   magma: mapPalette('magma'),
 };
 
-/** Disparity in viridis (or cividis) on the shared scale [lo, hi] (clamped); invalid pixels hatched. */
-export function colorizeDisparity(d: FloatImage, lo: number, hi: number, map: DisparityMapName = 'viridis'): IndexedImage {
+/**
+ * Disparity in viridis (or cividis) on the shared scale [lo, hi] (clamped). Invalid
+ * pixels are hatched (a matcher output: no prediction), or flat grey with
+ * `invalid: 'no-truth'` (the truth itself: no truth there).
+ */
+export function colorizeDisparity(d: FloatImage, lo: number, hi: number, map: DisparityMapName = 'viridis', invalid: 'hatch' | 'no-truth' = 'hatch'): IndexedImage {
   const { width, height, data } = d;
   const index = new Uint8Array(width * height);
   // Level = round(t * top) with t = (v - lo) / span clamped to [0, 1]; t >= 0, so
   // round(u) = floor(u + 0.5) (the `| 0` truncation of a non-negative number).
   const k = (MAP_LEVELS - 1) / (hi > lo ? hi - lo : 1);
   const top = MAP_LEVELS - 1;
+  const flat = invalid === 'no-truth';
   for (let y = 0; y < height; y++) {
     const row = y * width;
     for (let x = 0; x < width; x++) {
       const v = data[row + x]!;
       if (v - v !== 0) {
-        index[row + x] = ((x + y) & 3) < 2 ? IDX_HATCH_DARK : IDX_HATCH_LIGHT;
+        index[row + x] = flat ? IDX_NO_TRUTH : ((x + y) & 3) < 2 ? IDX_HATCH_DARK : IDX_HATCH_LIGHT;
         continue;
       }
       const u = (v - lo) * k;

@@ -8,7 +8,7 @@ import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import { afterAll, describe, expect, it } from 'vitest';
 import { downscaleNanMean } from '../../src/report/preview.js';
-import { blockMeanThumb, colorizeDisparity, colorizeError, downscaleRaster, MAP_LEVELS, toThumbGrid } from '../../src/report/thumbs.js';
+import { blockMeanThumb, colorizeDisparity, colorizeError, downscaleRaster, HATCH_DARK, HATCH_LIGHT, MAP_LEVELS, NO_TRUTH, toThumbGrid } from '../../src/report/thumbs.js';
 import { createPrng } from '../../src/stats/prng.js';
 
 const dir = mkdtempSync(join(tmpdir(), 'plx-thumbs-'));
@@ -137,6 +137,14 @@ describe('colour levels', () => {
     const img = colorizeDisparity({ width: 6, height: 1, data: Float32Array.from([10, 15, 12, 25, 0, NaN]) }, 10, 20);
     expect(Array.from(img.index.subarray(0, 5))).toEqual([0, 32, 13, 63, 0]);
     expect(img.index[5]).toBeGreaterThan(top);
+    // The truth's own NaN means "no truth": flat NO_TRUTH grey, not the no-prediction hatch.
+    const t = colorizeDisparity({ width: 4, height: 1, data: Float32Array.from([NaN, NaN, NaN, NaN]) }, 10, 20, 'viridis', 'no-truth');
+    const p = t.palette;
+    for (const i of t.index) expect([p[i * 3], p[i * 3 + 1], p[i * 3 + 2]]).toEqual([...NO_TRUTH]);
+    // Hatch: (x + y) & 3 < 2 is dark (x = 0, 1), else light (x = 2, 3) (thumbs.ts definition).
+    const h = colorizeDisparity({ width: 4, height: 1, data: Float32Array.from([NaN, NaN, NaN, NaN]) }, 10, 20);
+    const rgb = (i: number) => [h.palette[h.index[i]! * 3], h.palette[h.index[i]! * 3 + 1], h.palette[h.index[i]! * 3 + 2]];
+    expect([rgb(0), rgb(1), rgb(2), rgb(3)]).toEqual([[...HATCH_DARK], [...HATCH_DARK], [...HATCH_LIGHT], [...HATCH_LIGHT]]);
   });
 
   it('error: level = round(|p - t| / clip * 63), clipped at the stated px value (worked by hand)', () => {
