@@ -195,10 +195,15 @@ async function pairThumbsFromDataset(runDir: string, info: RunInfoView, d: NonNu
   const regionBits = regionsToThumb(regions.bits, truth.width, truth.height, f);
   const leftPng = encodePng(leftThumb);
   if (store) {
+    // Best effort: a run folder that cannot take them only makes the next report slower.
     const paths = pairPreviewPaths(runDir, dataset, pair);
-    await mkdir(dirname(paths.left), { recursive: true });
-    await writeFileAtomic(paths.left, leftPng);
-    await writeFileAtomic(paths.regions, encodePng({ width: leftThumb.width, height: leftThumb.height, channels: 1, bitDepth: 8, data: regionBits }));
+    try {
+      await mkdir(dirname(paths.left), { recursive: true });
+      await writeFileAtomic(paths.left, leftPng);
+      await writeFileAtomic(paths.regions, encodePng({ width: leftThumb.width, height: leftThumb.height, channels: 1, bitDepth: 8, data: regionBits }));
+    } catch {
+      /* not stored */
+    }
   }
   return { leftPng, regionBits };
 }
