@@ -14,7 +14,8 @@
  * rounded to whole levels 0..255 (roundLuminance in ./cost.ts), so they give the same
  * map bit for bit; test/matchers/block-wasm.test.ts checks this on random images.
  *
- *   blockWasmModule(): WasmModuleSync | null   the compiled module (sync; cached per thread), null when not built
+ *   blockWasmModule(): WasmModuleSync | null   the compiled module (sync; cached per thread), null when
+ *     not built or out of date (an export the driver calls is missing)
  *   blockWasmMaps(args: FastBlockArgs, signal?): { left: Float32Array; right: Float32Array | null } | null
  *     Left-view disparity (WTA, uniqueness, subpixel) and, when args.rightView, the right
  *     view's integer disparity; no post-processing. null when the module is missing or
@@ -39,7 +40,10 @@ interface WasmMemorySync {
   readonly buffer: ArrayBuffer;
 }
 interface WasmSyncApi {
-  Module: new (bytes: Uint8Array) => WasmModuleSync;
+  Module: {
+    new (bytes: Uint8Array): WasmModuleSync;
+    exports(mod: WasmModuleSync): { name: string; kind: string }[];
+  };
   Instance: new (mod: WasmModuleSync, imports: object) => { exports: Record<string, unknown> };
   Memory: new (d: { initial: number; maximum?: number }) => WasmMemorySync;
 }
@@ -89,11 +93,19 @@ export const WASM_BLOCK_U16_SIDE = 15;
 
 let moduleCache: WasmModuleSync | null | undefined;
 
-/** The compiled kernel, or null when build/wasm/block.wasm is missing. */
+/** Exports this driver calls; a build/wasm/block.wasm without them (out of date) counts as missing. */
+const KERNEL_EXPORTS = ['addRow16', 'addRow32', 'wtaRow16', 'wtaRow32', 'finishRight16', 'finishRight32'];
+
+/** The compiled kernel, or null when build/wasm/block.wasm is missing or out of date. */
 export function blockWasmModule(): WasmModuleSync | null {
   if (moduleCache !== undefined) return moduleCache;
   const path = wasmPath('block');
-  moduleCache = path && existsSync(path) ? new WA.Module(readFileSync(path)) : null;
+  moduleCache = null;
+  if (path && existsSync(path)) {
+    const mod = new WA.Module(readFileSync(path));
+    const names = new Set(WA.Module.exports(mod).map((e) => e.name));
+    if (KERNEL_EXPORTS.every((n) => names.has(n))) moduleCache = mod;
+  }
   return moduleCache;
 }
 

@@ -70,7 +70,7 @@ export function blockMatch(
   if (opts.cost !== 'zncc') {
     if (opts.kernel !== 'ts') {
       if (!blockWasmModule()) {
-        const msg = `block: the wasm kernel ${wasmPath('block')} is missing; run npm run build:wasm`;
+        const msg = `block: the wasm kernel ${wasmPath('block')} is missing or out of date; run npm run build:wasm`;
         if (opts.kernel === 'wasm') throw new MatcherFailure(msg);
         warnOnce(`${msg} (using the slower TypeScript kernel)`);
       } else {
