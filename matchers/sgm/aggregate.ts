@@ -9,7 +9,7 @@
  */
 import { AbortedError, MatcherFailure } from '../../src/core/errors.js';
 import { pathRowTs, sgmLayout, type SgmLayout } from '../kernels/sgm.js';
-import { instantiateKernel, loadWasmModule, wasmPath, WASM_MAX_BYTES } from './wasm.js';
+import { leaseKernel, loadWasmModule, wasmPath, WASM_MAX_BYTES } from './wasm.js';
 
 export type KernelChoice = 'auto' | 'ts' | 'wasm';
 
@@ -77,6 +77,8 @@ export interface SgmArena {
   readonly pathRow: PathRowFn;
   /** The wasm module's other stages, when kernel = 'wasm'. */
   readonly stages: SgmWasmStages | null;
+  /** Hands a pooled wasm memory back (see wasm.ts leaseKernel); views become invalid. */
+  readonly release: () => void;
 }
 
 export interface SgmAggregateOptions {
@@ -99,7 +101,11 @@ function warnOnce(msg: string): void {
   process.emitWarning(msg, { code: 'PARALLAX_SGM_WASM' });
 }
 
-/** Creates the arena with the chosen kernel (cost, sum and gray zeroed). `wasmName` names build/wasm/<name>.wasm. */
+/**
+ * Creates the arena with the chosen kernel. `wasmName` names build/wasm/<name>.wasm.
+ * A wasm arena may reuse a pooled memory (not zeroed: every stage writes what it reads);
+ * call release() when done. A TypeScript arena is a fresh zeroed ArrayBuffer.
+ */
 export async function createArena(
   width: number,
   height: number,
@@ -113,6 +119,7 @@ export async function createArena(
   let buffer: ArrayBuffer | null = null;
   let wasmFn: PathRowFn | null = null;
   let stages: SgmWasmStages | null = null;
+  let release = (): void => {};
   if (choice !== 'ts') {
     const mod = await loadWasmModule(wasmName);
     if (!mod) {
@@ -121,7 +128,8 @@ export async function createArena(
     } else if (layout.bytes > WASM_MAX_BYTES) {
       if (choice === 'wasm') throw new MatcherFailure(`sgm: ${width}x${height} with ${levels} levels needs ${gib(layout.bytes)} GiB, beyond the 4 GiB of a wasm32 memory`);
     } else {
-      const inst = await instantiateKernel(mod, layout.bytes);
+      const inst = await leaseKernel(wasmName, mod, layout.bytes);
+      release = inst.release;
       buffer = inst.memory.buffer;
       wasmFn = inst.exports.pathRow as PathRowFn;
       stages = inst.exports as unknown as SgmWasmStages;
@@ -145,7 +153,7 @@ export async function createArena(
     wasmFn ??
     ((c, s, g, gp, w, l, st, step, pr, cr, pm, cm, hp, dm, p1, p2, k, acc) =>
       pathRowTs(u16, u8, c, s, g, gp, w, l, st, step, pr, cr, pm, cm, hp, dm, p1, p2, k, acc));
-  return { layout, kernel, buffer, u8, u16, cost, sum, gray, pathRow, stages };
+  return { layout, kernel, buffer, u8, u16, cost, sum, gray, pathRow, stages, release };
 }
 
 function checkAbort(signal: AbortSignal | undefined): void {

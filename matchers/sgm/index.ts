@@ -15,11 +15,12 @@ import { AbortedError, UsageError } from '../../src/core/errors.js';
 import type { MatcherPlugin, MatchInput, ParamSpec, ParamValues } from '../../src/plugins/contract.js';
 import { btExtremes, btPair } from '../kernels/bt.js';
 import { censusTransform, censusWords } from '../kernels/census.js';
-import { applyPostprocess, POSTPROCESS_PARAMS, readPostprocess } from '../kernels/postprocess.js';
+import { applyPostprocess, POSTPROCESS_PARAMS, readPostprocess, type PostprocessOptions } from '../kernels/postprocess.js';
 import { checkInputSizes, disparityLevels } from '../kernels/range.js';
 import { SGM_MAX_COST, SGM_MAX_P2 } from '../kernels/sgm.js';
 import { EXCLUDED_U16, wta, wtaRight } from '../kernels/wta.js';
 import { aggregatePaths, createArena, type KernelChoice, type SgmArena } from './aggregate.js';
+import { dropKernelPool } from './wasm.js';
 
 export interface SgmOptions {
   p1: number;
@@ -265,6 +266,25 @@ export async function sgmMatch(input: MatchInput, params: ParamValues, signal?: 
   };
   const words = o.cost === 'census' ? censusWords(o.censusW, o.censusH) : 1;
   const arena = await createArena(width, height, levels, o.kernel, words);
+  try {
+    return runPipeline(arena, input, minDisparity, levels, o, post, words, lap, signal);
+  } finally {
+    arena.release();
+  }
+}
+
+function runPipeline(
+  arena: SgmArena,
+  input: MatchInput,
+  minDisparity: number,
+  levels: number,
+  o: SgmOptions,
+  post: PostprocessOptions,
+  words: number,
+  lap: (name: string) => void,
+  signal: AbortSignal | undefined,
+): Float32Array {
+  const { width, height } = input;
   fillGray(input.left, arena.gray);
   lap('setup');
   const st = arena.stages;
@@ -332,5 +352,8 @@ export const sgmMatcher: MatcherPlugin = {
   params: SGM_PARAMS,
   match(input, params, signal) {
     return sgmMatch(input, params, signal);
+  },
+  dispose() {
+    dropKernelPool();
   },
 };

@@ -17,6 +17,7 @@ export interface WasmModule {
 }
 export interface WasmMemory {
   readonly buffer: ArrayBuffer;
+  grow(pages: number): number;
 }
 export type WasmExports = Record<string, unknown>;
 interface WasmApi {
@@ -84,4 +85,69 @@ export async function instantiateKernel(
   const memory = new WA.Memory({ initial: pages, maximum: pages });
   const instance = await WA.instantiate(mod, { env: { memory } });
   return { exports: instance.exports, memory };
+}
+
+/** wasm32 page count limit (4 GiB). */
+const MAX_PAGES = 65536;
+
+interface Pooled {
+  readonly exports: WasmExports;
+  readonly memory: WasmMemory;
+  busy: boolean;
+}
+
+const pool = new Map<string, Pooled>();
+
+export interface LeasedKernel {
+  readonly exports: WasmExports;
+  readonly memory: WasmMemory;
+  /** Hands the instance back for the next match (call once, when done with its memory). */
+  release(): void;
+}
+
+/**
+ * An instance with at least `bytes` of memory. One instance per kernel name is kept
+ * and reused by the next match in this thread (its memory grown when too small), so
+ * a run of many pairs does not fault in a fresh memory each time; while it is leased,
+ * callers get a fresh instance. The pooled memory stays allocated (at the largest size
+ * used) until dropKernelPool().
+ */
+export async function leaseKernel(name: string, mod: WasmModule, bytes: number): Promise<LeasedKernel> {
+  const pages = Math.ceil(bytes / 65536);
+  let p = pool.get(name);
+  if (!p) {
+    const memory = new WA.Memory({ initial: pages, maximum: MAX_PAGES });
+    const instance = await WA.instantiate(mod, { env: { memory } });
+    p = pool.get(name); // another match may have pooled one meanwhile
+    if (!p) {
+      p = { exports: instance.exports, memory, busy: false };
+      pool.set(name, p);
+    } else {
+      return { exports: instance.exports, memory, release: () => {} };
+    }
+  }
+  if (p.busy) {
+    const inst = await instantiateKernel(mod, bytes);
+    return { ...inst, release: () => {} };
+  }
+  // synchronous from here: no other match can take or grow it in between
+  const have = p.memory.buffer.byteLength / 65536;
+  if (have < pages) p.memory.grow(pages - have);
+  p.busy = true;
+  const leased = p;
+  let done = false;
+  return {
+    exports: leased.exports,
+    memory: leased.memory,
+    release: () => {
+      if (done) return;
+      done = true;
+      leased.busy = false;
+    },
+  };
+}
+
+/** Forgets the pooled instances (their memory is freed once no arena refers to it). */
+export function dropKernelPool(): void {
+  pool.clear();
 }

@@ -7,7 +7,7 @@ import { existsSync } from 'node:fs';
 import { describe, expect, it } from 'vitest';
 import { aggregatePaths, createArena, type SgmArena } from '../../matchers/sgm/aggregate.js';
 import { pathRowTs, SGM_MAX_COST, SGM_MAX_P2, SGM_PAD, sgmLayout } from '../../matchers/kernels/sgm.js';
-import { wasmPath } from '../../matchers/sgm/wasm.js';
+import { dropKernelPool, wasmPath } from '../../matchers/sgm/wasm.js';
 import { sgmMatch } from '../../matchers/sgm/index.js';
 import { censusTransform } from '../../matchers/kernels/census.js';
 import { EXCLUDED_U16, wta, wtaRight } from '../../matchers/kernels/wta.js';
@@ -350,5 +350,24 @@ describe('SGM kernel choice', () => {
     } finally {
       process.off('warning', onWarn);
     }
+  });
+});
+
+describe('SGM wasm memory pool', () => {
+  it('reuses one memory for consecutive matches and gives a fresh one while it is leased', async () => {
+    // common practice (buffer pooling); checked here because views must never alias
+    dropKernelPool();
+    const a = await createArena(16, 8, 8, 'wasm');
+    const b = await createArena(16, 8, 8, 'wasm'); // a still leased
+    expect(b.buffer).not.toBe(a.buffer);
+    a.release();
+    b.release();
+    const c = await createArena(16, 8, 8, 'wasm');
+    expect(c.buffer).toBe(a.buffer); // same memory, not grown
+    c.release();
+    const d = await createArena(64, 48, 40, 'wasm'); // larger: the pooled memory grows
+    expect(d.buffer.byteLength).toBeGreaterThanOrEqual(d.layout.bytes);
+    d.release();
+    dropKernelPool();
   });
 });
