@@ -6,9 +6,15 @@
  * height for every (x, level) are updated by adding the entering row's differences
  * and subtracting the leaving row's; a running sum over the window width per level
  * gives the window cost; WTA over 8 (u16 lanes) or 4 (i32 lanes) levels per vector;
- * the right view's disparity is a running minimum over the same costs. Nothing
- * bigger than one row of column sums is held. Lane types and the overflow proof are in
- * the kernel's header.
+ * the right view's disparity is a running minimum over the same costs. No cost volume
+ * or cost slice is held: one row of column sums (width * levels lanes) besides the
+ * rounded images and the output maps. Lane types and the overflow proof are in the
+ * kernel's header. Threads: one (MatchInput.threads is not used; the runner's pool
+ * already matches pairs in parallel, and splitting rows too would oversubscribe).
+ *
+ * Measured (1280x720, 128 levels, SAD 9x9, lr and subpix on, shared 2-core machine,
+ * load average 7-8): 145-200 ms wall, ~90-110 ms CPU, against ~2.3 s CPU for the
+ * TypeScript kernel; OpenCV StereoBM 64-119 ms in the same runs (bench/matchers.ts).
  *
  * Luminance: both paths (this one and the TypeScript reference) compare luminance
  * rounded to whole levels 0..255 (roundLuminance in ./cost.ts), so they give the same
