@@ -26,8 +26,8 @@
  *     Left-view disparity (WTA, uniqueness, subpixel) and, when args.rightView, the right
  *     view's integer disparity; no post-processing. null when the module is missing or
  *     the job does not suit the kernel (no level has a candidate, window side > 51,
- *     or the buffers would exceed WASM_BLOCK_MAX_BYTES): the caller then runs the
- *     TypeScript path.
+ *     or the buffers would exceed WASM_BLOCK_MAX_BYTES or cannot be allocated): the
+ *     caller then runs the TypeScript path.
  *
  * The module is compiled and instantiated synchronously (allowed in Node for any
  * size) so that blockMatch stays a plain synchronous function. Each call gets a fresh
@@ -201,7 +201,12 @@ export function blockWasmMaps(
   const L = layoutFor(a);
   if (!L) return null;
   const { width, height } = a;
-  const memory = new WA.Memory({ initial: Math.ceil(L.bytes / 65536) });
+  let memory: WasmMemorySync;
+  try {
+    memory = new WA.Memory({ initial: Math.ceil(L.bytes / 65536) });
+  } catch {
+    return null; // could not allocate: the TypeScript kernel works in bounded strips
+  }
   const k = new WA.Instance(mod, { env: { memory } }).exports as unknown as BlockExports;
   const buf = memory.buffer;
   fillRounded(new Uint8Array(buf, L.lq, width * height), a.left);
