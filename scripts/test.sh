@@ -25,4 +25,13 @@ if [ ${#need[@]} -gt 0 ]; then
 fi
 
 npm run build --silent
-npx vitest run "$@"
+mkdir -p test-artifacts
+status=0
+npx vitest run --reporter=default --reporter=json --outputFile.json=test-artifacts/vitest.json "$@" || status=$?
+# A plain closing line for CI logs: "Tests: N passed, N failed".
+node -e '
+  const r = JSON.parse(require("fs").readFileSync("test-artifacts/vitest.json", "utf8"));
+  const skipped = r.numPendingTests + r.numTodoTests;
+  console.log(`Tests: ${r.numPassedTests} passed, ${r.numFailedTests} failed` + (skipped ? `, ${skipped} skipped` : ""));
+' || true
+exit $status
