@@ -1,6 +1,7 @@
 /**
  * The match pool: worker threads (piscina) that run matcher configurations on pairs.
- * See worker.ts for what crosses the thread boundary (SharedArrayBuffers, no copies).
+ * See worker.ts for what crosses the thread boundary: the pair in SharedArrayBuffers
+ * (one copy per pair, slots reused pair after pair), the output in a transferred buffer.
  * A task aborted through its signal is cancelled: a queued task is dropped, a running
  * one ends with its worker thread (piscina terminates it), which is the only way to
  * stop a synchronous matcher.
@@ -12,7 +13,7 @@ import { Piscina } from 'piscina';
 import { InputError } from '../core/errors.js';
 import type { LoadedPair } from '../core/pair.js';
 import type { RasterImage } from '../core/image.js';
-import type { MatchReply, MatchTask, SharedRaster } from './worker.js';
+import { decodeReply, type DecodedReply, type MatchReply, type MatchTask, type SharedRaster } from './worker.js';
 
 /**
  * The compiled worker file. From dist/src/runner/pool.js it is the neighbour
@@ -34,22 +35,32 @@ export interface SharedPair {
   rightColor: SharedRaster;
 }
 
-function sharedFloats(a: Float32Array): SharedArrayBuffer {
-  const sab = new SharedArrayBuffer(a.length * 4);
+function sharedFloats(a: Float32Array, reuse?: SharedArrayBuffer): SharedArrayBuffer {
+  const sab = reuse && reuse.byteLength === a.length * 4 ? reuse : new SharedArrayBuffer(a.length * 4);
   new Float32Array(sab).set(a);
   return sab;
 }
 
-function sharedRaster(img: RasterImage): SharedRaster {
+function sharedRaster(img: RasterImage, reuse?: SharedRaster): SharedRaster {
   const bytes = img.data.length * (img.bitDepth === 16 ? 2 : 1);
-  const sab = new SharedArrayBuffer(bytes);
+  const sab = reuse && reuse.buffer.byteLength === bytes ? reuse.buffer : new SharedArrayBuffer(bytes);
   if (img.bitDepth === 16) new Uint16Array(sab).set(img.data);
   else new Uint8Array(sab).set(img.data);
   return { width: img.width, height: img.height, channels: img.channels, bitDepth: img.bitDepth, buffer: sab };
 }
 
-export function sharePair(pair: LoadedPair): SharedPair {
-  return { left: sharedFloats(pair.leftGray), right: sharedFloats(pair.rightGray), leftColor: sharedRaster(pair.left), rightColor: sharedRaster(pair.right) };
+/**
+ * A pair in shared memory. `reuse` is a slot of an earlier pair whose tasks have all
+ * settled: its buffers are refilled when their sizes match (no new shared memory per
+ * pair, whose release would wait for every worker's garbage collection).
+ */
+export function sharePair(pair: LoadedPair, reuse?: SharedPair): SharedPair {
+  return {
+    left: sharedFloats(pair.leftGray, reuse?.left),
+    right: sharedFloats(pair.rightGray, reuse?.right),
+    leftColor: sharedRaster(pair.left, reuse?.leftColor),
+    rightColor: sharedRaster(pair.right, reuse?.rightColor),
+  };
 }
 
 export class MatchPool {
@@ -67,8 +78,8 @@ export class MatchPool {
   }
 
   /** Run one task; rejects (an AbortError) when the signal aborts it. */
-  run(task: MatchTask, signal: AbortSignal): Promise<MatchReply> {
-    return this.pool.run(task, { signal }) as Promise<MatchReply>;
+  async run(task: MatchTask, signal: AbortSignal): Promise<DecodedReply> {
+    return decodeReply((await this.pool.run(task, { signal })) as MatchReply);
   }
 
   async close(): Promise<void> {

@@ -56,6 +56,8 @@ export async function runScheduled(ctx: ScheduleContext): Promise<ScheduleStats>
   const groups = groupByPair(ctx.jobs);
   const needsPool = jobsN > 1 && groups.length > 0 && plan.configs.some((c) => c.kind === 'matcher' && c.source && c.source.kind !== 'program');
   const pool = needsPool ? new MatchPool(Math.min(jobsN, ctx.jobs.length)) : undefined;
+  /** Shared-memory slots of pairs whose tasks are all done, for reuse (at most jobs + 1 exist). */
+  const freeSlots: SharedPair[] = [];
   // One failure (a broken pair, an abort) stops the rest: a private controller.
   const stop = new AbortController();
   const onOuter = (): void => stop.abort();
@@ -129,7 +131,7 @@ export async function runScheduled(ctx: ScheduleContext): Promise<ScheduleStats>
       }
       if (!outcome) {
         if (pool && cfg.kind === 'matcher' && cfg.source && cfg.source.kind !== 'program') {
-          shared ??= sharePair(pair);
+          shared ??= sharePair(pair, freeSlots.pop());
           const got = await viaPool(cfg, pair, shared);
           if (signal.aborted) throw new AbortedError();
           outcome = scoredOutcome(cfg, pair, regions, plan.thresholds, got);
@@ -151,6 +153,8 @@ export async function runScheduled(ctx: ScheduleContext): Promise<ScheduleStats>
       for (const key of group) await one(key);
     } else {
       const settled = await Promise.allSettled(group.map(one));
+      // Every task of this pair has settled: its shared buffers may take the next pair.
+      if (shared) freeSlots.push(shared);
       const bad = settled.find((s) => s.status === 'rejected') as PromiseRejectedResult | undefined;
       if (bad) throw bad.reason;
     }

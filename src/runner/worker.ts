@@ -1,6 +1,6 @@
 /**
  * Worker-thread side of the match pool (pool.ts). Runs one matcher configuration on
- * one pair and hands the disparity back in shared memory (not cloned).
+ * one pair and hands the disparity back (its buffer is transferred, not cloned).
  *
  * The pair's luminance and colour samples arrive in SharedArrayBuffers that the main
  * thread filled once per pair: every configuration of the pair reads the same memory,
@@ -12,6 +12,7 @@
  * once per worker); program matchers stay in the main thread (they are processes anyway).
  * This file runs compiled (dist/src/runner/worker.js): worker threads cannot load .ts.
  */
+import { move } from 'piscina';
 import type { RasterImage } from '../core/image.js';
 import type { ParamValue } from '../core/params.js';
 import type { MatchInput, MatcherPlugin } from '../plugins/contract.js';
@@ -42,9 +43,21 @@ export interface MatchTask {
   threads: number;
 }
 
-export type MatchReply =
+/** A failure as a plain object; a success arrives as one transferred ArrayBuffer (decodeReply). */
+export type MatchReply = ArrayBuffer | { ok: false; error: string; timeMs: number | null; peakMb: number | null };
+
+export type DecodedReply =
   | { ok: true; disparity: Float32Array; timeMs: number; peakMb: number }
   | { ok: false; error: string; timeMs: number | null; peakMb: number | null };
+
+const REPLY_HEADER_BYTES = 16;
+
+/** The main thread's view of a reply (no copy: the disparity is a view of the moved buffer). */
+export function decodeReply(r: MatchReply): DecodedReply {
+  if (!(r instanceof ArrayBuffer)) return r;
+  const head = new Float64Array(r, 0, 2);
+  return { ok: true, timeMs: head[0]!, peakMb: head[1]!, disparity: new Float32Array(r, REPLY_HEADER_BYTES) };
+}
 
 const plugins = new Map<string, Promise<MatcherPlugin>>();
 
@@ -102,9 +115,12 @@ export default async function runMatchTask(task: MatchTask): Promise<MatchReply>
   } catch (e) {
     return { ok: false, error: oneLineError(e), timeMs, peakMb };
   }
-  // A copy the matcher holds no reference to, in shared memory: posting it to the main
-  // thread shares the buffer instead of cloning it.
-  const disparity = new Float32Array(new SharedArrayBuffer(arr.length * 4));
-  disparity.set(arr);
-  return { ok: true, disparity, timeMs, peakMb };
+  // A copy the matcher holds no reference to, moved (transferred, not cloned) to the main
+  // thread: float64 time and peak, then the float32 disparity (see decodeReply).
+  const buf = new ArrayBuffer(REPLY_HEADER_BYTES + arr.length * 4);
+  const head = new Float64Array(buf, 0, 2);
+  head[0] = timeMs;
+  head[1] = peakMb;
+  new Float32Array(buf, REPLY_HEADER_BYTES).set(arr);
+  return move(buf) as unknown as MatchReply;
 }
