@@ -37,7 +37,7 @@ function withDefault(p: ParamSpec): ParamSpec {
 
 export const BP_PARAMS: readonly ParamSpec[] = [
   { name: 'cost', type: 'enum', default: 'census', values: ['census', 'bt'], description: 'pixel cost of the data term' },
-  { name: 'censusW', type: 'int', default: 7, min: 1, max: 15, odd: true, description: 'census window width, px (odd)' },
+  { name: 'censusW', type: 'int', default: 7, min: 3, max: 15, odd: true, description: 'census window width, px (odd)' },
   { name: 'censusH', type: 'int', default: 5, min: 1, max: 15, odd: true, description: 'census window height, px (odd)' },
   { name: 'weight', type: 'number', default: 1, min: 0, max: 1000, description: 'data term weight' },
   { name: 'dataTrunc', type: 'number', default: 20, min: 0, max: 1000, description: 'data cost truncation (cost units)' },
