@@ -10,6 +10,7 @@
  * scored from the cached disparity and marked `cached: true` with its original time.
  * Results reach `onResult` in completion order; tables sort them later.
  */
+import { setMaxListeners } from 'node:events';
 import { AbortedError, InputError } from '../core/errors.js';
 import type { LoadedPair, PairEntry } from '../core/pair.js';
 import type { RegionMap } from '../core/regions.js';
@@ -60,6 +61,8 @@ export async function runScheduled(ctx: ScheduleContext): Promise<ScheduleStats>
   const freeSlots: SharedPair[] = [];
   // One failure (a broken pair, an abort) stops the rest: a private controller.
   const stop = new AbortController();
+  // piscina listens on the signal once per queued task: many at once is expected here.
+  setMaxListeners(0, stop.signal);
   const onOuter = (): void => stop.abort();
   if (ctx.signal.aborted) stop.abort();
   ctx.signal.addEventListener('abort', onOuter, { once: true });

@@ -58,6 +58,15 @@ describe('thread budget', () => {
   }, 60_000);
 });
 
+describe('many tasks in flight', () => {
+  it('--jobs 2 with 4 configurations x 3 pairs queued at once prints nothing on stderr (no listener warnings)', () => {
+    const r = parallax(['run', '-d', ds, '-m', 'block', '-m', 'block:window=5', '-m', 'census', '-m', 'census:window=7', '--jobs', '2', '--no-cache', '-o', join(root, 'many'), '-q'], root);
+    expect(r.stderr).toBe(''); // common practice: a clean run is silent under --quiet
+    expect(r.code).toBe(0);
+    expect(wholeLines(join(root, 'many', 'results.jsonl'))).toHaveLength(PAIRS * 4);
+  }, 60_000);
+});
+
 describe('program plugins beside the pool', () => {
   it('an outside program (answers with the truth) scores zero error with --jobs 2', () => {
     const script = join(root, 'oracle.mjs');
