@@ -18,6 +18,7 @@ import { createHash } from 'node:crypto';
 import { createReadStream, existsSync, mkdirSync, readdirSync, readFileSync, rmSync, statSync, utimesSync } from 'node:fs';
 import { endianness } from 'node:os';
 import { join, resolve } from 'node:path';
+import { InputError } from '../core/errors.js';
 import type { ParamValue } from '../core/params.js';
 import { writeFileAtomic } from '../io/files.js';
 
@@ -174,11 +175,23 @@ export interface CacheFileInfo {
 /** Every entry file of a cache folder. */
 export function listEntries(dir: string): CacheFileInfo[] {
   if (!existsSync(dir)) return [];
+  let subs;
+  try {
+    subs = readdirSync(dir, { withFileTypes: true });
+  } catch (e) {
+    throw new InputError(dir, `cannot read the cache folder (${(e as NodeJS.ErrnoException).code ?? 'error'})`);
+  }
   const out: CacheFileInfo[] = [];
-  for (const sub of readdirSync(dir, { withFileTypes: true })) {
+  for (const sub of subs) {
     if (!sub.isDirectory() || !/^[0-9a-f]{2}$/.test(sub.name)) continue;
     const d = join(dir, sub.name);
-    for (const f of readdirSync(d)) {
+    let names: string[];
+    try {
+      names = readdirSync(d);
+    } catch {
+      continue;
+    }
+    for (const f of names) {
       if (!f.endsWith(EXT)) continue;
       try {
         const st = statSync(join(d, f));

@@ -37,7 +37,7 @@ export interface RunHooks {
 /** Added to run.json by scaled runs: what --resume and merge need. */
 export interface ScaledRunInfo {
   rerun?: { settings: RunSettings; shard: string | null };
-  cache?: { dir: string; jobs_from_cache: number; jobs_computed: number } | null;
+  cache?: { dir: string; jobs_from_cache: number; jobs_computed: number; write_errors?: number } | null;
 }
 
 export interface RunOutcome {
@@ -132,7 +132,14 @@ export async function executeRun(plan: RunPlan, hooks: RunHooks = {}): Promise<R
   if (info.cache) {
     info.cache.jobs_from_cache = stats.cached;
     info.cache.jobs_computed = stats.computed;
-    if (scale?.cache?.maxMb !== undefined) pruneCache(scale.cache.dir, scale.cache.maxMb * 2 ** 20);
+    if (stats.cacheWriteErrors) info.cache.write_errors = stats.cacheWriteErrors;
+    if (scale?.cache?.maxMb !== undefined) {
+      try {
+        pruneCache(scale.cache.dir, scale.cache.maxMb * 2 ** 20);
+      } catch {
+        /* an unreadable cache folder must not fail a finished run */
+      }
+    }
   }
   await writeInfo(plan.runDir, info);
   // Tables and report from the journal alone (and run.json, for the report).

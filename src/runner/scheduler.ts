@@ -38,6 +38,8 @@ export interface ScheduleContext {
 export interface ScheduleStats {
   cached: number;
   computed: number;
+  /** Outputs that could not be stored in the cache (the run goes on). */
+  cacheWriteErrors?: number;
 }
 
 function isAbort(e: unknown): boolean {
@@ -145,7 +147,11 @@ export async function runScheduled(ctx: ScheduleContext): Promise<ScheduleStats>
         }
         stats.computed++;
         if (cache && ckey && outcome.disparity && outcome.result.status === 'ok') {
-          await cache.put(ckey, { width: pair.width, height: pair.height, data: outcome.disparity, timeMs: outcome.result.time_ms, peakMb: outcome.result.peak_mb, matcherId: cfg.matcherId });
+          try {
+            await cache.put(ckey, { width: pair.width, height: pair.height, data: outcome.disparity, timeMs: outcome.result.time_ms, peakMb: outcome.result.peak_mb, matcherId: cfg.matcherId });
+          } catch {
+            stats.cacheWriteErrors = (stats.cacheWriteErrors ?? 0) + 1; // the cache only saves time: a full or read-only disk must not end the run
+          }
         }
       }
       if (signal.aborted) throw new AbortedError();

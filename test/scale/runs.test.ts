@@ -96,6 +96,18 @@ describe('result cache', () => {
     expect(JSON.parse(pr.stdout)).toMatchObject({ removed: PAIRS * 3, entries: 0, bytes: 0 });
   }, 180_000);
 
+  it('a cache that cannot be written does not end the run; run.json counts the failed writes', () => {
+    const notADir = join(root, 'cache-is-a-file');
+    writeFileSync(notADir, 'x');
+    const out = join(root, 'cache-ro');
+    const r = parallax(['run', '-d', ds, '-m', 'block', '--cache-dir', notADir, '-o', out, '-q'], root);
+    expect(r.stderr).toBe('');
+    expect(r.code).toBe(0);
+    const info = JSON.parse(readFileSync(join(out, 'run.json'), 'utf8'));
+    expect(info.cache).toMatchObject({ jobs_from_cache: 0, jobs_computed: PAIRS, write_errors: PAIRS });
+    expect(info.jobs.ok).toBe(PAIRS);
+  }, 60_000);
+
   it('$PARALLAX_CACHE names the cache folder when --cache-dir is not given', () => {
     const cache = join(root, 'env-cache');
     const r = parallax(['run', '-d', ds, '-m', 'block', '-o', join(root, 'env-run'), '-q'], root, { PARALLAX_CACHE: cache });
