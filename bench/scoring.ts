@@ -17,22 +17,12 @@ import { scorePair } from '../src/metrics/score.js';
 import { DEFAULT_THRESHOLDS } from '../src/metrics/types.js';
 import { DEFAULT_REGION_PARAMS, REGION_IDS } from '../src/core/regions.js';
 import { encodeNpy } from '../src/io/npy.js';
+import { mulberry32 as rng } from '../src/core/prng.js';
 
 export const W = 2560;
 export const H = 1440;
 const RUNS = 5;
 const CAMERA = { focalPx: 1800, baselineM: 0.2, cxShiftPx: 0 };
-
-function rng(seed: number): () => number {
-  let a = seed >>> 0;
-  return () => {
-    a = (a + 0x6d2b79f5) >>> 0;
-    let t = a;
-    t = Math.imul(t ^ (t >>> 15), t | 1);
-    t ^= t + Math.imul(t ^ (t >>> 7), t | 61);
-    return ((t ^ (t >>> 14)) >>> 0) / 4294967296;
-  };
-}
 
 export function scoringScene(): { truth: Float32Array; pred: Float32Array; gray: Float32Array } {
   const r = rng(2026);

@@ -3,6 +3,8 @@
  * seeded through splitmix32 so that any 32-bit seed gives a well-mixed state.
  * Same seed -> same stream on every platform (pure 32-bit integer arithmetic).
  */
+import { splitmix32Words } from '../core/prng.js';
+
 export interface Prng {
   /** Uniform in [0, 1). */
   next(): number;
@@ -10,19 +12,8 @@ export interface Prng {
   int(n: number): number;
 }
 
-function splitmix32(seed: number): () => number {
-  let s = seed >>> 0;
-  return () => {
-    s = (s + 0x9e3779b9) >>> 0;
-    let z = s;
-    z = Math.imul(z ^ (z >>> 16), 0x85ebca6b) >>> 0;
-    z = Math.imul(z ^ (z >>> 13), 0xc2b2ae35) >>> 0;
-    return (z ^ (z >>> 16)) >>> 0;
-  };
-}
-
 export function createPrng(seed: number): Prng {
-  const sm = splitmix32(seed);
+  const sm = splitmix32Words(seed);
   let a = sm();
   let b = sm();
   let c = sm();

@@ -3,10 +3,15 @@
  * Math.random: every random choice comes from an explicit seed.
  *
  * - splitmix32: a 32-bit variant of Steele, Lea & Flood's SplitMix (2014) with the
- *   murmur3-style finaliser constants; one state word, period 2^32.
+ *   murmur3-style finaliser constants; one state word, period 2^32 (the word stream
+ *   and fmix32 live in src/core/prng.ts).
  * - hash32: an order-independent integer hash of up to three lattice coordinates and a
  *   seed, used for per-pixel jitter and for procedural textures (same finaliser).
  */
+
+import { fmix32, splitmix32Words } from '../core/prng.js';
+
+export { fmix32 };
 
 /** A seeded generator of uniform floats in [0, 1). */
 export interface Prng {
@@ -22,16 +27,6 @@ export interface Prng {
   int(n: number): number;
   /** One element of a non-empty array. */
   pick<T>(items: readonly T[]): T;
-}
-
-/** The murmur3 32-bit finaliser: a bijection on 32-bit words with good avalanche. */
-export function fmix32(h: number): number {
-  h ^= h >>> 16;
-  h = Math.imul(h, 0x85ebca6b);
-  h ^= h >>> 13;
-  h = Math.imul(h, 0xc2b2ae35);
-  h ^= h >>> 16;
-  return h >>> 0;
 }
 
 /** Hash of integers (a, b, c) under a seed, as an unsigned 32-bit integer. */
@@ -55,12 +50,8 @@ export function subSeed(seed: number, stream: number): number {
 
 /** splitmix32 generator with an explicit seed. */
 export function splitmix32(seed: number): Prng {
-  let state = seed >>> 0;
   let spare = NaN;
-  const nextU32 = (): number => {
-    state = (state + 0x9e3779b9) >>> 0;
-    return fmix32(state);
-  };
+  const nextU32 = splitmix32Words(seed);
   const next = (): number => nextU32() / 4294967296;
   return {
     nextU32,

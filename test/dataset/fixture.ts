@@ -11,6 +11,10 @@ import { mkdirSync, writeFileSync } from 'node:fs';
 import { join } from 'node:path';
 import { encodePfm } from '../../src/io/pfm.js';
 import { encodePng } from '../../src/io/png.js';
+import { mulberry32 } from '../support/rng.js';
+
+/** mulberry32, the shared seeded test generator (test/support/rng.ts). */
+export { mulberry32 };
 
 export interface FixturePair {
   id: string;
@@ -19,18 +23,6 @@ export interface FixturePair {
   truth: Float32Array;
   left: Uint8Array;
   right: Uint8Array;
-}
-
-/** Deterministic 32-bit PRNG (mulberry32, common practice for test data). */
-export function mulberry32(seed: number): () => number {
-  let a = seed >>> 0;
-  return () => {
-    a = (a + 0x6d2b79f5) >>> 0;
-    let t = a;
-    t = Math.imul(t ^ (t >>> 15), t | 1);
-    t ^= t + Math.imul(t ^ (t >>> 7), t | 61);
-    return ((t ^ (t >>> 14)) >>> 0) / 4294967296;
-  };
 }
 
 export function makePair(id: string, seed: number, width = 64, height = 48, bg = 4, fg = 10): FixturePair {

@@ -16,18 +16,7 @@ import {
   encodePngDisparity,
 } from '../../src/io/index.js';
 import type { FloatImage, RasterImage } from '../../src/core/image.js';
-
-/** A small deterministic pseudo-random generator (mulberry32) so the data are reproducible. */
-function rng(seed: number): () => number {
-  let a = seed >>> 0;
-  return () => {
-    a = (a + 0x6d2b79f5) >>> 0;
-    let t = a;
-    t = Math.imul(t ^ (t >>> 15), t | 1);
-    t ^= t + Math.imul(t ^ (t >>> 7), t | 61);
-    return ((t ^ (t >>> 14)) >>> 0) / 4294967296;
-  };
-}
+import { mulberry32 as rng } from '../support/rng.js';
 
 function floatImage(width: number, height: number, seed: number): FloatImage {
   const r = rng(seed);

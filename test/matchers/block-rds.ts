@@ -10,17 +10,9 @@
  * square is occluded; a pixel with x - d < 0 is outside the right frame.
  */
 
-/** mulberry32, a small seeded PRNG (public-domain 32-bit generator). */
-export function mulberry32(seed: number): () => number {
-  let a = seed >>> 0;
-  return () => {
-    a = (a + 0x6d2b79f5) >>> 0;
-    let t = a;
-    t = Math.imul(t ^ (t >>> 15), t | 1);
-    t ^= t + Math.imul(t ^ (t >>> 7), t | 61);
-    return ((t ^ (t >>> 14)) >>> 0) / 4294967296;
-  };
-}
+/** mulberry32, the shared seeded test generator (test/support/rng.ts). */
+import { mulberry32 } from '../support/rng.js';
+export { mulberry32 };
 
 export interface Stereogram {
   width: number;

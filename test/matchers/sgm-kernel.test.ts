@@ -11,18 +11,7 @@ import { dropKernelPool, wasmPath } from '../../matchers/sgm/wasm.js';
 import { sgmMatch } from '../../matchers/sgm/index.js';
 import { censusTransform } from '../../matchers/kernels/census.js';
 import { EXCLUDED_U16, wta, wtaRight } from '../../matchers/kernels/wta.js';
-
-/** mulberry32, a small seeded PRNG (common practice for reproducible test data). */
-function prng(seed: number): () => number {
-  let a = seed >>> 0;
-  return () => {
-    a = (a + 0x6d2b79f5) >>> 0;
-    let t = a;
-    t = Math.imul(t ^ (t >>> 15), t | 1);
-    t ^= t + Math.imul(t ^ (t >>> 7), t | 61);
-    return ((t ^ (t >>> 14)) >>> 0) / 4294967296;
-  };
-}
+import { mulberry32 as prng } from '../support/rng.js';
 
 function fillArena(arena: SgmArena, cost: number[][][], gray: number[][]): void {
   const { width, height, levels, stride } = arena.layout;

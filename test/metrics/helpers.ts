@@ -4,17 +4,9 @@ import { mkdtempSync, rmSync, writeFileSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 
-/** mulberry32: small seeded PRNG (common practice for reproducible test data). */
-export function rng(seed: number): () => number {
-  let a = seed >>> 0;
-  return () => {
-    a = (a + 0x6d2b79f5) >>> 0;
-    let t = a;
-    t = Math.imul(t ^ (t >>> 15), t | 1);
-    t ^= t + Math.imul(t ^ (t >>> 7), t | 61);
-    return ((t ^ (t >>> 14)) >>> 0) / 4294967296;
-  };
-}
+/** mulberry32, the shared seeded test generator (test/support/rng.ts). */
+import { mulberry32 as rng } from '../support/rng.js';
+export { rng };
 
 /** The default python3 (pyenv, numpy 2.x, scipy). */
 export const PYTHON = 'python3';
