@@ -13,26 +13,13 @@ import { leaseKernel, loadWasmModule, wasmPath, WASM_MAX_BYTES } from './wasm.js
 
 export type KernelChoice = 'auto' | 'ts' | 'wasm';
 
-type PathRowFn = (
-  costRow: number,
-  sumRow: number,
-  grayRow: number,
-  grayPrev: number,
-  width: number,
-  levels: number,
-  stride: number,
-  step: number,
-  prevRows: number,
-  curRows: number,
-  prevMins: number,
-  curMins: number,
-  hasPrev: number,
-  dirMask: number,
-  p1: number,
-  p2: number,
-  edgeK: number,
-  accumulate: number,
-) => void;
+/**
+ * A row kernel over one arena: pathRowTs's arguments without the two arena views
+ * (the WebAssembly export `pathRow` takes exactly these byte offsets and numbers).
+ */
+type PathRowFn = typeof pathRowTs extends (u16: Uint16Array, u8: Uint8Array, ...rest: infer A) => void
+  ? (...args: A) => void
+  : never;
 
 /** The other exports of the WebAssembly module (see matchers/sgm/assembly/sgm.ts). */
 export interface SgmWasmStages {
