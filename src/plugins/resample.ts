@@ -40,6 +40,35 @@ export function roundUpTo(v: number, n: number): number {
   return Math.ceil(v / n) * n;
 }
 
+/** Bilinear taps along one axis: for each output index, the two source indices and the weight of the second. */
+interface AxisTaps {
+  i0: Int32Array;
+  i1: Int32Array;
+  w: Float64Array;
+}
+
+/**
+ * Taps for resampling `n` source samples to `outN` with pixel centres aligned:
+ * f = (o + 0.5) * n / outN - 0.5 clamped to [0, n - 1], i0 = floor(f), i1 = i0 + 1
+ * (or i0 at the last sample), w = f - i0. Computed once per axis, outside pixel loops.
+ */
+function axisTaps(n: number, outN: number): AxisTaps {
+  const s = n / outN;
+  const i0 = new Int32Array(outN);
+  const i1 = new Int32Array(outN);
+  const w = new Float64Array(outN);
+  for (let o = 0; o < outN; o++) {
+    let f = (o + 0.5) * s - 0.5;
+    if (f < 0) f = 0;
+    if (f > n - 1) f = n - 1;
+    const a = Math.floor(f);
+    i0[o] = a;
+    i1[o] = a + 1 < n ? a + 1 : a;
+    w[o] = f - a;
+  }
+  return { i0, i1, w };
+}
+
 /**
  * Bilinear resampling of an interleaved image to `outW x outH` (values rounded and
  * clamped for integer arrays). Pixel centres are aligned.
@@ -55,22 +84,16 @@ export function resampleBilinear<T extends Float32Array | Uint8Array | Uint16Arr
   const out = new (src.constructor as { new (n: number): T })(outW * outH * channels);
   const isInt = !(src instanceof Float32Array);
   const maxV = src instanceof Uint8Array ? 255 : 65535;
-  const sx = width / outW;
-  const sy = height / outH;
+  const tx = axisTaps(width, outW);
+  const ty = axisTaps(height, outH);
   for (let y = 0; y < outH; y++) {
-    let fy = (y + 0.5) * sy - 0.5;
-    if (fy < 0) fy = 0;
-    if (fy > height - 1) fy = height - 1;
-    const y0 = Math.floor(fy);
-    const y1 = y0 + 1 < height ? y0 + 1 : y0;
-    const wy = fy - y0;
+    const y0 = ty.i0[y];
+    const y1 = ty.i1[y];
+    const wy = ty.w[y];
     for (let x = 0; x < outW; x++) {
-      let fx = (x + 0.5) * sx - 0.5;
-      if (fx < 0) fx = 0;
-      if (fx > width - 1) fx = width - 1;
-      const x0 = Math.floor(fx);
-      const x1 = x0 + 1 < width ? x0 + 1 : x0;
-      const wx = fx - x0;
+      const x0 = tx.i0[x];
+      const x1 = tx.i1[x];
+      const wx = tx.w[x];
       const i00 = (y0 * width + x0) * channels;
       const i01 = (y0 * width + x1) * channels;
       const i10 = (y1 * width + x0) * channels;
@@ -100,22 +123,16 @@ export function resampleDisparity(
   valueScale: number,
 ): Float32Array {
   const out = new Float32Array(outW * outH);
-  const sx = width / outW;
-  const sy = height / outH;
+  const tx = axisTaps(width, outW);
+  const ty = axisTaps(height, outH);
   for (let y = 0; y < outH; y++) {
-    let fy = (y + 0.5) * sy - 0.5;
-    if (fy < 0) fy = 0;
-    if (fy > height - 1) fy = height - 1;
-    const y0 = Math.floor(fy);
-    const y1 = y0 + 1 < height ? y0 + 1 : y0;
-    const wy = fy - y0;
+    const y0 = ty.i0[y];
+    const y1 = ty.i1[y];
+    const wy = ty.w[y];
     for (let x = 0; x < outW; x++) {
-      let fx = (x + 0.5) * sx - 0.5;
-      if (fx < 0) fx = 0;
-      if (fx > width - 1) fx = width - 1;
-      const x0 = Math.floor(fx);
-      const x1 = x0 + 1 < width ? x0 + 1 : x0;
-      const wx = fx - x0;
+      const x0 = tx.i0[x];
+      const x1 = tx.i1[x];
+      const wx = tx.w[x];
       const v00 = src[y0 * width + x0];
       const v01 = src[y0 * width + x1];
       const v10 = src[y1 * width + x0];
