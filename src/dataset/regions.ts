@@ -104,9 +104,14 @@ export function checkRegionParams(p: RegionParams): void {
 export function textureEnergy(gray: Float32Array, width: number, height: number, window: number): Float64Array {
   const h = rowBoxSums(gray, width, height, window);
   const out = new Float64Array(width * height);
-  columnBoxPass(h, width, height, window, (i, mean) => {
-    out[i] = mean;
-  });
+  const r = (window - 1) >> 1;
+  const inv = 1 / (window * window);
+  const s = firstColumnSums(h, width, height, r);
+  for (let y = 0; y < height; y++) {
+    const row = y * width;
+    for (let x = 0; x < width; x++) out[row + x] = s[x] * inv;
+    nextColumnSums(h, width, height, r, y, s);
+  }
   return out;
 }
 
@@ -116,20 +121,11 @@ export function flatMask(gray: Float32Array, width: number, height: number, wind
   const out = new Uint8Array(width * height);
   const r = (window - 1) >> 1;
   const inv = 1 / (window * window);
-  const s = new Float64Array(width);
-  const hm1 = height - 1;
-  for (let j = -r; j <= r; j++) {
-    const row = (j < 0 ? 0 : j > hm1 ? hm1 : j) * width;
-    for (let x = 0; x < width; x++) s[x] += h[row + x];
-  }
+  const s = firstColumnSums(h, width, height, r);
   for (let y = 0; y < height; y++) {
     const row = y * width;
-    const addRow = (y + r + 1 > hm1 ? hm1 : y + r + 1) * width;
-    const subRow = (y - r < 0 ? 0 : y - r) * width;
-    for (let x = 0; x < width; x++) {
-      out[row + x] = s[x] * inv < threshold ? 1 : 0;
-      s[x] += h[addRow + x] - h[subRow + x];
-    }
+    for (let x = 0; x < width; x++) out[row + x] = s[x] * inv < threshold ? 1 : 0;
+    nextColumnSums(h, width, height, r, y, s);
   }
   return out;
 }
@@ -162,31 +158,26 @@ function rowBoxSums(gray: Float32Array, width: number, height: number, window: n
   return out;
 }
 
-/** Vertical box pass (edge-replicated) over row sums; calls emit(index, mean). Not for hot paths. */
-function columnBoxPass(
-  h: Float64Array,
-  width: number,
-  height: number,
-  window: number,
-  emit: (i: number, mean: number) => void,
-): void {
-  const r = (window - 1) >> 1;
-  const inv = 1 / (window * window);
+/**
+ * Vertical box pass over row sums `h` (edge-replicated rows), radius r: the column sums
+ * s[x] of the window centred on row 0.
+ */
+function firstColumnSums(h: Float64Array, width: number, height: number, r: number): Float64Array {
   const s = new Float64Array(width);
   const hm1 = height - 1;
   for (let j = -r; j <= r; j++) {
     const row = (j < 0 ? 0 : j > hm1 ? hm1 : j) * width;
     for (let x = 0; x < width; x++) s[x] += h[row + x];
   }
-  for (let y = 0; y < height; y++) {
-    const row = y * width;
-    const addRow = (y + r + 1 > hm1 ? hm1 : y + r + 1) * width;
-    const subRow = (y - r < 0 ? 0 : y - r) * width;
-    for (let x = 0; x < width; x++) {
-      emit(row + x, s[x] * inv);
-      s[x] += h[addRow + x] - h[subRow + x];
-    }
-  }
+  return s;
+}
+
+/** Slides the column sums `s` from the window centred on row y to the one on row y + 1. */
+function nextColumnSums(h: Float64Array, width: number, height: number, r: number, y: number, s: Float64Array): void {
+  const hm1 = height - 1;
+  const addRow = (y + r + 1 > hm1 ? hm1 : y + r + 1) * width;
+  const subRow = (y - r < 0 ? 0 : y - r) * width;
+  for (let x = 0; x < width; x++) s[x] += h[addRow + x] - h[subRow + x];
 }
 
 /**
