@@ -13,7 +13,7 @@ import { AbortedError, UsageError } from '../../src/core/errors.js';
 import type { MatcherPlugin, MatchInput, ParamSpec, ParamValues } from '../../src/plugins/contract.js';
 import { btExtremes, btPair } from '../kernels/bt.js';
 import { censusTransform, popcount32 } from '../kernels/census.js';
-import { applyPostprocess, POSTPROCESS_PARAMS, readPostprocess } from '../kernels/postprocess.js';
+import { applyPostprocess, postprocessParamsWith, readPostprocess } from '../kernels/postprocess.js';
 import { checkInputSizes, disparityLevels } from '../kernels/range.js';
 import { wta, wtaRight } from '../kernels/wta.js';
 import { solveBp, type BpSolveOptions } from './bp.js';
@@ -30,11 +30,6 @@ export interface BpOptions extends BpSolveOptions {
 
 const BP_POST_DEFAULTS: Record<string, number | boolean> = { lr: 0, uniq: 0, speckle: 0, fill: true };
 
-function withDefault(p: ParamSpec): ParamSpec {
-  const d = BP_POST_DEFAULTS[p.name];
-  return d === undefined ? p : ({ ...p, default: d } as ParamSpec);
-}
-
 export const BP_PARAMS: readonly ParamSpec[] = [
   { name: 'cost', type: 'enum', default: 'census', values: ['census', 'bt'], description: 'pixel cost of the data term' },
   { name: 'censusW', type: 'int', default: 7, min: 3, max: 15, odd: true, description: 'census window width, px (odd)' },
@@ -46,7 +41,7 @@ export const BP_PARAMS: readonly ParamSpec[] = [
   { name: 'trunc', type: 'number', default: 18, min: 0, max: 10000, description: 'smoothness truncation (linear) or jump cost (potts)' },
   { name: 'iters', type: 'int', default: 5, min: 1, max: 200, description: 'message-passing iterations per scale' },
   { name: 'scales', type: 'int', default: 5, min: 1, max: 12, description: 'coarse-to-fine scales (1 = single scale)' },
-  ...POSTPROCESS_PARAMS.map(withDefault),
+  ...postprocessParamsWith(BP_POST_DEFAULTS),
 ];
 
 function withBpDefaults(params: ParamValues): ParamValues {

@@ -31,6 +31,7 @@
  *   POSTPROCESS_PARAMS: ParamSpec[]  the shared parameter block:
  *     lr (px, 0 = off), subpix (boolean), uniq (%, 0 = off), speckle (px count, 0 = off),
  *     speckleDiff (px), fill (boolean; 'background' mode)
+ *   postprocessParamsWith(defaults): ParamSpec[]  the same block with a matcher's own defaults
  *   readPostprocess(params): PostprocessOptions   reads those names (after defaults)
  *   applyPostprocess(dispL, dispR | null, width, height, opts): void
  *     runs, in this order: left-right check (when lr > 0 and dispR is given),
@@ -253,6 +254,14 @@ function num(params: ParamValues, name: string, dflt: number): number {
 function bool(params: ParamValues, name: string, dflt: boolean): boolean {
   const v = params[name];
   return typeof v === 'boolean' ? v : dflt;
+}
+
+/** POSTPROCESS_PARAMS with some defaults replaced (a matcher's own choice of defaults). */
+export function postprocessParamsWith(defaults: Readonly<Record<string, number | boolean>>): ParamSpec[] {
+  return POSTPROCESS_PARAMS.map((p) => {
+    const d = defaults[p.name];
+    return d === undefined ? p : ({ ...p, default: d } as ParamSpec);
+  });
 }
 
 /** Reads the shared post-processing parameters (missing ones take the defaults above). */

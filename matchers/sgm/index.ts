@@ -15,7 +15,7 @@ import { AbortedError, UsageError } from '../../src/core/errors.js';
 import type { MatcherPlugin, MatchInput, ParamSpec, ParamValues } from '../../src/plugins/contract.js';
 import { btExtremes, btPair } from '../kernels/bt.js';
 import { censusTransform, censusWords } from '../kernels/census.js';
-import { applyPostprocess, POSTPROCESS_PARAMS, readPostprocess, type PostprocessOptions } from '../kernels/postprocess.js';
+import { applyPostprocess, postprocessParamsWith, readPostprocess, type PostprocessOptions } from '../kernels/postprocess.js';
 import { checkInputSizes, disparityLevels } from '../kernels/range.js';
 import { SGM_MAX_COST, SGM_MAX_P2 } from '../kernels/sgm.js';
 import { EXCLUDED_U16, wta, wtaRight } from '../kernels/wta.js';
@@ -36,12 +36,6 @@ export interface SgmOptions {
 
 /** Shared post-processing block with the defaults that suit SGM. */
 const SGM_POST_DEFAULTS: Record<string, number | boolean> = { uniq: 5, speckle: 50, speckleDiff: 1, fill: true };
-
-function withDefault(p: ParamSpec): ParamSpec {
-  const d = SGM_POST_DEFAULTS[p.name];
-  if (d === undefined) return p;
-  return { ...p, default: d } as ParamSpec;
-}
 
 export const SGM_PARAMS: readonly ParamSpec[] = [
   { name: 'p1', type: 'int', default: 8, min: 0, max: SGM_MAX_P2, description: 'penalty for a 1-level change along a path' },
@@ -72,7 +66,7 @@ export const SGM_PARAMS: readonly ParamSpec[] = [
     values: ['auto', 'wasm', 'ts'],
     description: 'path kernel: WebAssembly SIMD, TypeScript, or wasm when built',
   },
-  ...POSTPROCESS_PARAMS.map(withDefault),
+  ...postprocessParamsWith(SGM_POST_DEFAULTS),
 ];
 
 export function readSgmOptions(params: ParamValues): SgmOptions {
