@@ -14,7 +14,7 @@
  */
 import type { RasterImage } from '../core/image.js';
 import { UsageError } from '../core/errors.js';
-import { hash32, subSeed, fmix32 } from './prng.js';
+import { hash32, polarDraw, subSeed } from './prng.js';
 import type { StereoRender } from './render.js';
 
 export interface DotLayer {
@@ -150,18 +150,12 @@ export function randomDotPair(opts: RandomDotOptions): StereoRender {
 /** Add seeded Gaussian noise (Marsaglia polar method) in place, rounding and clamping to 0-255. */
 function addNoise(data: Uint8Array, sigma: number, seed: number): void {
   let state = seed >>> 0;
+  const polar = new Float64Array(3);
   for (let i = 0; i < data.length; i += 2) {
-    let a = 0;
-    let b = 0;
-    let q = 0;
-    do {
-      state = (state + 0x9e3779b9) >>> 0;
-      a = (fmix32(state) / 4294967296) * 2 - 1;
-      state = (state + 0x9e3779b9) >>> 0;
-      b = (fmix32(state) / 4294967296) * 2 - 1;
-      q = a * a + b * b;
-    } while (q >= 1 || q === 0);
-    const k = Math.sqrt((-2 * Math.log(q)) / q) * sigma;
+    state = polarDraw(state, polar);
+    const a = polar[0];
+    const b = polar[1];
+    const k = polar[2] * sigma;
     const v0 = Math.round(data[i]! + a * k);
     data[i] = v0 < 0 ? 0 : v0 > 255 ? 255 : v0;
     if (i + 1 < data.length) {

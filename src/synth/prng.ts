@@ -48,6 +48,30 @@ export function subSeed(seed: number, stream: number): number {
   return hash32(stream, 0x5eed, 0, seed >>> 0);
 }
 
+/**
+ * One draw of Marsaglia & Bray's polar method (1964) on a splitmix32 state: uniform
+ * pairs (a, b) in [-1, 1)^2 until 0 < q = a^2 + b^2 < 1. Writes a, b and
+ * sqrt(-2 ln q / q) to out[0..2] (two independent normals are a * out[2] and
+ * b * out[2]) and returns the advanced state. For per-pixel noise loops: no objects,
+ * no closures.
+ */
+export function polarDraw(state: number, out: Float64Array): number {
+  let a = 0;
+  let b = 0;
+  let q = 0;
+  do {
+    state = (state + 0x9e3779b9) >>> 0;
+    a = (fmix32(state) / 4294967296) * 2 - 1;
+    state = (state + 0x9e3779b9) >>> 0;
+    b = (fmix32(state) / 4294967296) * 2 - 1;
+    q = a * a + b * b;
+  } while (q >= 1 || q === 0);
+  out[0] = a;
+  out[1] = b;
+  out[2] = Math.sqrt((-2 * Math.log(q)) / q);
+  return state;
+}
+
 /** splitmix32 generator with an explicit seed. */
 export function splitmix32(seed: number): Prng {
   let spare = NaN;

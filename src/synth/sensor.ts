@@ -9,7 +9,7 @@
 import type { RasterImage } from '../core/image.js';
 import { BT601 } from '../core/image.js';
 import { UsageError } from '../core/errors.js';
-import { fmix32 } from './prng.js';
+import { polarDraw } from './prng.js';
 
 export interface SensorModel {
   /** Multiplies linear radiance (default 1). */
@@ -79,6 +79,7 @@ export function applySensor(
   let state = seed >>> 0;
   let spare = 0;
   let haveSpare = false;
+  const polar = new Float64Array(3);
   for (let i = 0; i < n; i++) {
     for (let c = 0; c < ch; c++) {
       let L: number;
@@ -107,19 +108,10 @@ export function applySensor(
         } else {
           // Marsaglia & Bray's polar method (1964) on splitmix32 uniforms: exact normals,
           // no trigonometry.
-          let a = 0;
-          let b = 0;
-          let q = 0;
-          do {
-            state = (state + 0x9e3779b9) >>> 0;
-            a = (fmix32(state) / 4294967296) * 2 - 1;
-            state = (state + 0x9e3779b9) >>> 0;
-            b = (fmix32(state) / 4294967296) * 2 - 1;
-            q = a * a + b * b;
-          } while (q >= 1 || q === 0);
-          const k = Math.sqrt((-2 * Math.log(q)) / q);
-          g = a * k;
-          spare = b * k;
+          state = polarDraw(state, polar);
+          const k = polar[2];
+          g = polar[0] * k;
+          spare = polar[1] * k;
           haveSpare = true;
         }
         e += sigma * g;
