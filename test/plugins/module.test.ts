@@ -8,6 +8,7 @@ import { mkdtempSync, mkdirSync, readFileSync, rmSync, writeFileSync, copyFileSy
 import { tmpdir } from 'node:os';
 import { join, resolve } from 'node:path';
 import { UsageError } from '../../src/core/errors.js';
+import { lcg32 } from '../support/rng.js';
 import type { MatchOutput } from '../../src/plugins/contract.js';
 import {
   builtinCodeHash,
@@ -31,11 +32,8 @@ afterAll(() => {
 /** Deterministic pseudo-random texture (LCG, Numerical Recipes constants), values 0-255. */
 function texture(n: number, seed: number): Float32Array {
   const out = new Float32Array(n);
-  let s = seed >>> 0;
-  for (let i = 0; i < n; i++) {
-    s = (Math.imul(s, 1664525) + 1013904223) >>> 0;
-    out[i] = s >>> 24;
-  }
+  const next = lcg32(seed);
+  for (let i = 0; i < n; i++) out[i] = next() >>> 24;
   return out;
 }
 

@@ -14,6 +14,7 @@ import { decodeNpy } from '../../src/io/npy.js';
 import { encodePng } from '../../src/io/png.js';
 import type { MatchInput, MatchOutput } from '../../src/plugins/contract.js';
 import { resolveMatcherEntries, type MatcherConfig } from '../../src/plugins/registry.js';
+import { lcg32 } from '../support/rng.js';
 
 const REPO = resolve(__dirname, '..', '..');
 const EXAMPLES = join(REPO, 'matchers', 'examples');
@@ -40,11 +41,8 @@ function dots(seed: number): (x: number, y: number) => number {
   const cols = (W + 64) >> 1;
   const rows = H >> 1;
   const v = new Uint8Array(cols * rows);
-  let s = seed >>> 0;
-  for (let i = 0; i < v.length; i++) {
-    s = (Math.imul(s, 1664525) + 1013904223) >>> 0;
-    v[i] = s >>> 24;
-  }
+  const next = lcg32(seed); // LCG, Numerical Recipes constants
+  for (let i = 0; i < v.length; i++) v[i] = next() >>> 24;
   return (x, y) => v[(y >> 1) * cols + ((x + 64) >> 1)];
 }
 

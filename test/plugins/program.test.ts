@@ -12,6 +12,7 @@ import { encodePng } from '../../src/io/png.js';
 import type { MatchInput, MatchOutput, ParamValues } from '../../src/plugins/contract.js';
 import { parseProgramMatcherDef, programMatcher, type ProgramMatcherPlugin } from '../../src/plugins/program.js';
 import { programCodeHash } from '../../src/plugins/program.js';
+import { lcg32 } from '../support/rng.js';
 
 const REPO = resolve(__dirname, '..', '..');
 const W = 20;
@@ -103,11 +104,8 @@ rl.on('line', (line) => {
 
 function gray(seed: number): Float32Array {
   const out = new Float32Array(W * H);
-  let s = seed;
-  for (let i = 0; i < out.length; i++) {
-    s = (Math.imul(s, 1664525) + 1013904223) >>> 0; // LCG, Numerical Recipes constants
-    out[i] = s >>> 24;
-  }
+  const next = lcg32(seed); // LCG, Numerical Recipes constants
+  for (let i = 0; i < out.length; i++) out[i] = next() >>> 24;
   return out;
 }
 

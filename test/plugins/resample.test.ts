@@ -13,6 +13,7 @@ import { join } from 'node:path';
 import { decodeNpy, encodeNpy } from '../../src/io/npy.js';
 import { cropTopLeft, padEdge, resampleBilinear, resampleDisparity } from '../../src/plugins/resample.js';
 import { outputToPairFrame, programFrame } from '../../src/plugins/program-images.js';
+import { lcg32 } from '../support/rng.js';
 
 let tmp: string;
 beforeAll(() => {
@@ -24,11 +25,8 @@ afterAll(() => {
 
 function randomImage(w: number, h: number, seed: number): Float32Array {
   const out = new Float32Array(w * h);
-  let s = seed >>> 0;
-  for (let i = 0; i < out.length; i++) {
-    s = (Math.imul(s, 1664525) + 1013904223) >>> 0; // LCG, Numerical Recipes constants
-    out[i] = (s >>> 8) / 65536;
-  }
+  const next = lcg32(seed); // LCG, Numerical Recipes constants
+  for (let i = 0; i < out.length; i++) out[i] = (next() >>> 8) / 65536;
   return out;
 }
 

@@ -3,3 +3,16 @@
  * 32-bit generator, common practice for test data), from the project's one PRNG home.
  */
 export { mulberry32 } from '../../src/core/prng.js';
+
+/**
+ * 32-bit linear congruential stream with the Numerical Recipes constants
+ * (x' = 1664525 x + 1013904223 mod 2^32): each call returns the next unsigned word.
+ * Tests take its high bits (>>> 24 for a byte) for texture.
+ */
+export function lcg32(seed: number): () => number {
+  let s = seed >>> 0;
+  return () => {
+    s = (Math.imul(s, 1664525) + 1013904223) >>> 0;
+    return s;
+  };
+}
