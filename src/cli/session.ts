@@ -1,6 +1,8 @@
 /**
  * Running a plan from the command line: Ctrl-C handling, the progress bar (only when
  * stderr is a terminal and not --quiet), the final table and the exit code.
+ * A pair that cannot be loaded prints one line naming the file as it happens (also
+ * under --quiet); the run goes on and the command exits 2 at the end.
  */
 import { relative } from 'node:path';
 import cliProgress from 'cli-progress';
@@ -26,7 +28,7 @@ export async function runSession(plan: RunPlan, opts: SessionOptions): Promise<R
   const ac = new AbortController();
   const onSigint = (): void => {
     if (ac.signal.aborted) process.exit(130);
-    process.stderr.write('\nparallax: stopping after the current job (Ctrl-C again to quit at once)\n');
+    process.stderr.write('\nparallax: stopping; jobs in flight are cancelled, finished ones kept (Ctrl-C again to quit at once)\n');
     ac.abort();
   };
   process.on('SIGINT', onSigint);
@@ -38,16 +40,28 @@ export async function runSession(plan: RunPlan, opts: SessionOptions): Promise<R
       )
     : undefined;
   let outcome: RunOutcome;
+  const broken = new Set<string>();
+  const say = (line: string): void => {
+    if (bar) bar.stop();
+    process.stderr.write(line);
+  };
+  let done = 0;
   try {
     outcome = await executeRun(plan, {
       signal: ac.signal,
       onStart: (total) => bar?.start(total, 0, { job: '' }),
-      onJob: (r, done) => {
-        bar?.update(done, { job: `${r.matcher} ${r.dataset}/${r.pair}` });
-        if (r.status === 'failed' && !opts.quiet) {
-          if (bar) bar.stop();
-          process.stderr.write(`parallax: ${r.matcher} failed on ${r.dataset}/${r.pair}: ${r.error ?? 'no output'}\n`);
-          if (bar) bar.start(plan.jobs.length, done, { job: '' });
+      onPairError: (dataset, pair, message) => {
+        broken.add(`${dataset}\n${pair}`);
+        say(`parallax: ${message}\n`);
+        if (bar) bar.start(plan.jobs.length, done, { job: '' });
+      },
+      onJob: (r, n) => {
+        done = n;
+        bar?.update(n, { job: `${r.matcher} ${r.dataset}/${r.pair}` });
+        // A broken pair's jobs were announced once by onPairError.
+        if (r.status === 'failed' && !opts.quiet && !broken.has(`${r.dataset}\n${r.pair}`)) {
+          say(`parallax: ${r.matcher} failed on ${r.dataset}/${r.pair}: ${r.error ?? 'no output'}\n`);
+          if (bar) bar.start(plan.jobs.length, n, { job: '' });
         }
       },
     });
@@ -58,7 +72,7 @@ export async function runSession(plan: RunPlan, opts: SessionOptions): Promise<R
   const summary = outcome.outputs.summary;
   if (opts.json) {
     process.stdout.write(
-      JSON.stringify({ runDir: outcome.runDir, status: outcome.info.status, jobs: outcome.info.jobs, files: outcome.outputs.files, summary }, null, 2) + '\n',
+      JSON.stringify({ runDir: outcome.runDir, status: outcome.info.status, jobs: outcome.info.jobs, broken_pairs: outcome.brokenPairs, files: outcome.outputs.files, summary }, null, 2) + '\n',
     );
   } else if (!opts.quiet) {
     const rows = summary.length ? summary : aggregate(outcome.results, { thresholds: [...plan.thresholds], ci: false });
@@ -69,5 +83,13 @@ export async function runSession(plan: RunPlan, opts: SessionOptions): Promise<R
     );
   }
   if (outcome.aborted) throw new AbortedError(`run stopped; partial results in ${shownPath(outcome.runDir)}/`);
+  if (outcome.brokenPairs.length) {
+    // Everything else was computed and written; the exit code says the input was not all usable.
+    if (!opts.quiet) {
+      const n = outcome.brokenPairs.length;
+      process.stderr.write(`parallax: ${n} pair(s) could not be loaded (see above); their jobs are recorded as failed\n`);
+    }
+    process.exitCode = 2;
+  }
   return outcome;
 }

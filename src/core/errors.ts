@@ -43,11 +43,15 @@ export class MatcherFailure extends ParallaxError {
   }
 }
 
-/** Thrown when a job is aborted (Ctrl-C or a timeout). */
+/**
+ * Thrown when a job is aborted (Ctrl-C or a timeout). Exit code 130 (128 + SIGINT's 2)
+ * by default; a run stopped by SIGTERM passes 143 (128 + 15).
+ */
 export class AbortedError extends ParallaxError {
-  override readonly exitCode = 130;
-  constructor(message = 'aborted') {
+  override readonly exitCode: number;
+  constructor(message = 'aborted', exitCode = 130) {
     super(message);
+    this.exitCode = exitCode;
   }
 }
 

@@ -69,8 +69,14 @@ export interface JobResult {
   status: 'ok' | 'failed';
   /** One-line reason when failed (with the program's last stderr lines where there are any). */
   error?: string;
-  /** Wall time of the match (ms), null when failed before matching. */
+  /**
+   * Match time (ms): the time the matcher reported itself (MatchOutput.selfTimeMs, a
+   * long-lived program's `time_ms`) when it did, else the wall time around match();
+   * null when failed before matching.
+   */
   time_ms: number | null;
+  /** Added: wall time around match() (ms), including any overhead the self-reported time leaves out. Absent in older journals. */
+  wall_ms?: number | null;
   /** Peak memory (MB) while matching, null when unknown. */
   peak_mb: number | null;
   /** Served from the result cache. */

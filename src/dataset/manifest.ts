@@ -12,6 +12,7 @@ import { z } from 'zod';
 import type { Camera } from '../core/camera.js';
 import { InputError } from '../core/errors.js';
 import type { DisparityRange, PairEntry } from '../core/pair.js';
+import { quote } from '../io/text.js';
 
 export const MANIFEST_FILE = 'dataset.json';
 
@@ -72,14 +73,41 @@ export interface Manifest {
   readonly pairs: readonly PairEntry[];
 }
 
-/** Format a zod issue path as `pairs[2].truth`. */
+/** Format a zod issue path as `pairs[2].truth`; a key that is not a plain name is quoted (io/text.ts quote), so the text stays on one line. */
 export function formatFieldPath(path: readonly PropertyKey[]): string {
   let s = '';
   for (const k of path) {
     if (typeof k === 'number') s += `[${k}]`;
-    else s += s ? `.${String(k)}` : String(k);
+    else {
+      const name = /^[A-Za-z_][A-Za-z0-9_]{0,39}$/.test(String(k)) ? String(k) : quote(String(k));
+      s += s ? `.${name}` : name;
+    }
   }
   return s || '(top level)';
+}
+
+/**
+ * One line for a zod issue. Unknown keys come from the file and may hold newlines or
+ * control characters: they are quoted with io/text.ts quote() here, at the source.
+ */
+export function issueText(issue: ZodIssueLike): string {
+  return `field ${formatFieldPath(issue.path)}: ${issueMessage(issue)}`;
+}
+
+/** A zod issue as a line of text, without the field (see issueText). */
+export function issueMessage(issue: ZodIssueLike): string {
+  if (issue.code === 'unrecognized_keys' && Array.isArray(issue.keys)) {
+    return `unknown key${issue.keys.length === 1 ? '' : 's'} ${issue.keys.map((k) => quote(String(k))).join(', ')}`;
+  }
+  return issue.message.replace(/[\x00-\x1f\x7f]+/g, ' ');
+}
+
+/** The parts of a zod issue that issueText reads. */
+export interface ZodIssueLike {
+  code?: string;
+  message: string;
+  path: readonly PropertyKey[];
+  keys?: readonly string[];
 }
 
 /** Resolve a folder or a file argument to the manifest file path. */
@@ -148,7 +176,7 @@ export function validateManifest(text: string, file: string): ManifestValidation
   const parsed = manifestSchema.safeParse(json);
   if (!parsed.success) {
     for (const issue of parsed.error.issues) {
-      problems.push(`field ${formatFieldPath(issue.path)}: ${issue.message}`);
+      problems.push(issueText(issue as ZodIssueLike));
     }
     return { problems };
   }

@@ -60,12 +60,22 @@ export function matchInput(pair: LoadedPair, threads = 1): MatchInput {
   };
 }
 
+/** The match time a matcher reported itself (MatchOutput.selfTimeMs), when it is a finite number >= 0. */
+export function selfTime(out: unknown): number | undefined {
+  if (out === null || typeof out !== 'object' || out instanceof Float32Array) return undefined;
+  const t = (out as { selfTimeMs?: unknown }).selfTimeMs;
+  return typeof t === 'number' && Number.isFinite(t) && t >= 0 ? t : undefined;
+}
+
+/** Milliseconds kept to the microsecond. */
+const ms3 = (t: number): number => Math.round(t * 1000) / 1000;
+
 async function runMatcher(
   cfg: MatcherRunConfig,
   pair: LoadedPair,
   signal: AbortSignal,
   threads = 1,
-): Promise<{ disparity: Float32Array | null; error?: string; timeMs: number | null; peakMb: number | null }> {
+): Promise<{ disparity: Float32Array | null; error?: string; timeMs: number | null; wallMs: number | null; peakMb: number | null }> {
   const input = matchInput(pair, threads);
   const sampler = startPeakSampler();
   const t0 = performance.now();
@@ -80,13 +90,15 @@ async function runMatcher(
     }
     error = oneLineError(e);
   }
-  const timeMs = performance.now() - t0;
+  const wallMs = performance.now() - t0;
   const peakMb = sampler.stop();
-  if (error !== undefined) return { disparity: null, error, timeMs, peakMb };
+  if (error !== undefined) return { disparity: null, error, timeMs: wallMs, wallMs, peakMb };
+  const self = selfTime(out);
+  const timeMs = self ?? wallMs;
   try {
-    return { disparity: validateOutput(out, pair.width, pair.height), timeMs, peakMb };
+    return { disparity: validateOutput(out, pair.width, pair.height), timeMs, wallMs, peakMb };
   } catch (e) {
-    return { disparity: null, error: oneLineError(e), timeMs, peakMb };
+    return { disparity: null, error: oneLineError(e), timeMs, wallMs, peakMb };
   }
 }
 
@@ -103,12 +115,14 @@ export async function runJob(
   let disparity: Float32Array | null = null;
   let error: string | undefined;
   let timeMs: number | null = null;
+  let wallMs: number | undefined;
   let peakMb: number | null = null;
   if (cfg.kind === 'matcher') {
     const r = await runMatcher(cfg, pair, signal, threads);
     disparity = r.disparity;
     error = r.error;
-    timeMs = r.timeMs === null ? null : Math.round(r.timeMs * 1000) / 1000;
+    timeMs = r.timeMs === null ? null : ms3(r.timeMs);
+    if (r.wallMs !== null) wallMs = ms3(r.wallMs);
     peakMb = r.peakMb;
   } else {
     try {
@@ -117,7 +131,7 @@ export async function runJob(
       error = oneLineError(e);
     }
   }
-  return scoredOutcome(cfg, pair, regions, thresholds, { disparity, ...(error !== undefined ? { error } : {}), timeMs, peakMb });
+  return scoredOutcome(cfg, pair, regions, thresholds, { disparity, ...(error !== undefined ? { error } : {}), timeMs, ...(wallMs !== undefined ? { wallMs } : {}), peakMb });
 }
 
 /** Added: score a matcher's output obtained elsewhere (a worker thread, the result cache). */
@@ -126,7 +140,7 @@ export function scoredOutcome(
   pair: LoadedPair,
   regions: RegionMap,
   thresholds: readonly number[],
-  got: { disparity: Float32Array | null; error?: string; timeMs: number | null; peakMb: number | null; cached?: boolean },
+  got: { disparity: Float32Array | null; error?: string; timeMs: number | null; wallMs?: number | null; peakMb: number | null; cached?: boolean },
 ): JobOutcome {
   const { disparity, error, timeMs, peakMb } = got;
   const scores = scorePair(disparity, pair.truth.data, regions, {
@@ -142,6 +156,7 @@ export function scoredOutcome(
     status: disparity ? 'ok' : 'failed',
     ...(error !== undefined ? { error } : {}),
     time_ms: timeMs,
+    ...(got.wallMs !== undefined ? { wall_ms: got.wallMs } : {}),
     peak_mb: peakMb,
     ...(got.cached ? { cached: true } : {}),
     scores,

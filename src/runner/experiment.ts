@@ -14,7 +14,7 @@ import { dirname, resolve } from 'node:path';
 import { z } from 'zod';
 import { InputError, UsageError } from '../core/errors.js';
 import { DEFAULT_REGION_PARAMS, type RegionParams } from '../core/regions.js';
-import { formatFieldPath } from '../dataset/manifest.js';
+import { formatFieldPath, issueMessage, issueText, type ZodIssueLike } from '../dataset/manifest.js';
 import { DEFAULT_THRESHOLDS } from '../metrics/types.js';
 import type { PredictionSource } from './predictions.js';
 
@@ -103,7 +103,7 @@ export function regionParams(partial: Partial<RegionParams> | undefined, option 
   const r = regionParamsSchema.safeParse(partial ?? {});
   if (!r.success) {
     const i = r.error.issues[0]!;
-    throw new UsageError(`${option}.${formatFieldPath(i.path)}`, i.message);
+    throw new UsageError(`${option}.${formatFieldPath(i.path)}`, issueMessage(i as ZodIssueLike));
   }
   const out: RegionParams = { ...DEFAULT_REGION_PARAMS };
   for (const [k, v] of Object.entries(r.data)) if (v !== undefined) (out as unknown as Record<string, number>)[k] = v;
@@ -129,7 +129,7 @@ export function loadExperimentFile(path: string): RunSettings {
   const r = experimentFileSchema.safeParse(json);
   if (!r.success) {
     const i = r.error.issues[0]!;
-    throw new InputError(path, `field ${formatFieldPath(i.path)}: ${i.message}`);
+    throw new InputError(path, issueText(i as ZodIssueLike));
   }
   const f = r.data;
   const base = dirname(abs);

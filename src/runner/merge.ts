@@ -6,7 +6,7 @@
  * hash; see resume.ts configFingerprint), and shard runs name the same shard count.
  * Journals: the latest result of each job (dataset/pair/label) of every run is taken;
  * a job present in several runs is kept once when the copies agree (same status,
- * error, parameters, thresholds and scores; time_ms, peak_mb and `cached` may differ)
+ * error, parameters, thresholds and scores; time_ms, wall_ms, peak_mb and `cached` may differ)
  * and refused (InputError naming both runs) when they do not.
  * Output: results.jsonl in sorted job order, run.json (status `complete` when every
  * job of the configuration is there, else `aborted`, so `parallax run --resume <out>`

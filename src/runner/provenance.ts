@@ -66,7 +66,7 @@ export interface RunInfo {
   };
   jobs: { total: number; ok: number; failed: number };
   environment: { node: string; cpu: { model: string; count: number }; os: { platform: string; release: string; arch: string }; memoryMb: number };
-  notes: { peak_mb: string; time_ms: string };
+  notes: { peak_mb: string; time_ms: string; wall_ms?: string };
 }
 
 /** The provenance record of a plan (status `running`, no end time yet). */
@@ -107,7 +107,9 @@ export function runInfo(plan: RunPlan, started: Date): RunInfo {
     },
     notes: {
       peak_mb: 'peak resident set size (RSS) of the whole parallax process while the job ran, in MiB; includes the loaded pair and the runtime',
-      time_ms: 'wall time around the matcher call, in the harness process (a program matcher includes its process start)',
+      time_ms:
+        'match time in ms: the time a matcher reports itself when it does (a long-lived program\'s time_ms reply, a module\'s selfTimeMs), otherwise the wall time around the matcher call (a program matcher then includes its process start); a cached job keeps the time of the run that computed it',
+      wall_ms: 'wall time around the matcher call in ms, in the harness process (main thread or worker); written beside time_ms when the job ran in the main thread',
     },
   };
 }

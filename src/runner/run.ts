@@ -32,12 +32,23 @@ export interface RunHooks {
   onStart?(total: number): void;
   /** Called after each job's result is in the journal. */
   onJob?(result: JobResult, done: number, total: number): void;
+  /** Called when a pair cannot be loaded (one line naming the file), before its failed jobs reach onJob. */
+  onPairError?(dataset: string, pair: string, message: string): void;
+}
+
+/** A pair that could not be loaded in this run; its jobs are recorded as failed. */
+export interface BrokenPair {
+  dataset: string;
+  pair: string;
+  error: string;
 }
 
 /** Added to run.json by scaled runs: what --resume and merge need. */
 export interface ScaledRunInfo {
   rerun?: { settings: RunSettings; shard: string | null };
   cache?: { dir: string; jobs_from_cache: number; jobs_computed: number; write_errors?: number } | null;
+  /** Pairs that could not be loaded in this run (absent when none). */
+  broken_pairs?: BrokenPair[];
 }
 
 export interface RunOutcome {
@@ -46,6 +57,8 @@ export interface RunOutcome {
   outputs: WrittenOutputs;
   info: RunInfo;
   aborted: boolean;
+  /** Pairs that could not be loaded (their jobs are in the results as failed). The CLI exits 2 when any. */
+  brokenPairs: BrokenPair[];
 }
 
 /** Regions of a loaded pair: the manifest's occlusion mask, or one derived from the truth. */
@@ -58,7 +71,10 @@ async function writeInfo(runDir: string, info: RunInfo): Promise<void> {
   await writeFileAtomic(join(runDir, RUN_INFO_FILE), JSON.stringify(info, null, 2) + '\n');
 }
 
-/** Run every job of the plan. Dataset input errors (a broken pair) end the run with an InputError. */
+/**
+ * Run every job of the plan. A pair that cannot be loaded does not end the run: its
+ * jobs are recorded as failed (see broken-pair.ts) and listed in `brokenPairs`.
+ */
 export async function executeRun(plan: RunPlan, hooks: RunHooks = {}): Promise<RunOutcome> {
   try {
     mkdirSync(plan.runDir, { recursive: true });
@@ -89,12 +105,17 @@ export async function executeRun(plan: RunPlan, hooks: RunHooks = {}): Promise<R
   hooks.onStart?.(total);
   let done = 0;
   let aborted = false;
+  const brokenPairs: BrokenPair[] = [];
   try {
     await runScheduled({
       plan,
       jobs: todo,
       signal,
       stats,
+      onPairError: (dataset, pair, message) => {
+        brokenPairs.push({ dataset, pair, error: message });
+        hooks.onPairError?.(dataset, pair, message);
+      },
       onResult: async (result, disparity, cfg, pair) => {
         appendResult(journal, result);
         if (result.status === 'ok') info.jobs.ok++;
@@ -126,8 +147,10 @@ export async function executeRun(plan: RunPlan, hooks: RunHooks = {}): Promise<R
       }
     }
   }
+  const terminated = watch?.received() === 'SIGTERM';
   watch?.dispose();
   info.status = aborted ? 'aborted' : 'complete';
+  if (brokenPairs.length) info.broken_pairs = brokenPairs;
   info.ended = new Date().toISOString();
   if (info.cache) {
     info.cache.jobs_from_cache = stats.cached;
@@ -146,8 +169,12 @@ export async function executeRun(plan: RunPlan, hooks: RunHooks = {}): Promise<R
   const results = readJournal(journal);
   const outputs = await writeRunOutputs(plan.runDir, results, plan.thresholds);
   if (aborted && scale) {
-    throw new AbortedError(`run stopped after ${info.jobs.ok + info.jobs.failed} of ${info.jobs.total} jobs (partial tables written); resume with: parallax run --resume ${plan.runDir}`);
+    // Exit 143 (128 + SIGTERM's 15) after SIGTERM, 130 (128 + SIGINT's 2) after Ctrl-C.
+    throw new AbortedError(
+      `run stopped after ${info.jobs.ok + info.jobs.failed} of ${info.jobs.total} jobs (partial tables written); resume with: parallax run --resume ${plan.runDir}`,
+      terminated ? 143 : 130,
+    );
   }
-  return { runDir: plan.runDir, results, outputs, info, aborted };
+  return { runDir: plan.runDir, results, outputs, info, aborted, brokenPairs };
 }
 

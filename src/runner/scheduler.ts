@@ -9,8 +9,13 @@
  * Cache: before a matcher configuration runs, the result cache is asked; a hit is
  * scored from the cached disparity and marked `cached: true` with its original time.
  * Results reach `onResult` in completion order; tables sort them later.
+ * A pair that cannot be loaded (broken-pair.ts) is reported through `onPairError` and
+ * each of its configurations is recorded as failed; the other pairs go on.
+ * Pair thumbnails for the report (report/preview.ts writePairPreview) are written once
+ * per pair when it is loaded, unless the run folder already has them (resume).
  */
 import { setMaxListeners } from 'node:events';
+import { existsSync } from 'node:fs';
 import { AbortedError, InputError } from '../core/errors.js';
 import type { LoadedPair, PairEntry } from '../core/pair.js';
 import type { RegionMap } from '../core/regions.js';
@@ -18,6 +23,8 @@ import type { JobResult } from '../core/score.js';
 import { loadPair } from '../dataset/load.js';
 import { buildRegions } from '../dataset/regions.js';
 import type { Manifest } from '../dataset/manifest.js';
+import { pairPreviewPaths, writePairPreview } from '../report/preview.js';
+import { brokenPairResult, brokenPairScores } from './broken-pair.js';
 import { cacheKey, fileSha256, ResultCache } from './cache.js';
 import { oneLineError, runJob, scoredOutcome, type JobOutcome } from './execute.js';
 import { groupByPair, type JobKey } from './jobs.js';
@@ -29,8 +36,10 @@ export interface ScheduleContext {
   plan: RunPlan;
   jobs: readonly JobKey[];
   signal: AbortSignal;
-  /** Called once per finished job (in completion order). */
-  onResult(result: JobResult, disparity: Float32Array | null, cfg: RunConfig, pair: LoadedPair): Promise<void> | void;
+  /** Called once per finished job (in completion order). `pair` is the loaded pair, or only its ids and size (0x0 when unknown) for a broken pair. */
+  onResult(result: JobResult, disparity: Float32Array | null, cfg: RunConfig, pair: PairRef): Promise<void> | void;
+  /** Called once per pair that cannot be loaded (one-line message naming the file), before its failed results. */
+  onPairError?(dataset: string, pair: string, message: string): void;
   /** Filled as jobs finish (so the counts survive an abort). */
   stats?: ScheduleStats;
 }
@@ -41,6 +50,9 @@ export interface ScheduleStats {
   /** Outputs that could not be stored in the cache (the run goes on). */
   cacheWriteErrors?: number;
 }
+
+/** What onResult needs to know of a pair. */
+export type PairRef = Pick<LoadedPair, 'dataset' | 'id' | 'width' | 'height'>;
 
 function isAbort(e: unknown): boolean {
   return e instanceof AbortedError || (e instanceof Error && (e.name === 'AbortError' || (e as { code?: string }).code === 'ABORT_ERR'));
@@ -112,10 +124,32 @@ export async function runScheduled(ctx: ScheduleContext): Promise<ScheduleStats>
     const manifest = manifests.get(first.dataset)!;
     const entry: PairEntry | undefined = manifest.pairs.find((p) => p.id === first.pair);
     if (!entry) throw new InputError(manifest.file, `pair ${first.pair} is not in the manifest`);
-    const pair = await loadPair(manifest, entry);
+    let pair: LoadedPair;
+    try {
+      pair = await loadPair(manifest, entry);
+    } catch (e) {
+      if (signal.aborted || isAbort(e)) throw new AbortedError();
+      // A broken pair: recorded as failed for every configuration; the run goes on.
+      const message = oneLineError(e);
+      ctx.onPairError?.(manifest.name, entry.id, message);
+      const scores = await brokenPairScores(manifest, entry, plan.regions, plan.thresholds);
+      for (const key of group) {
+        if (signal.aborted) throw new AbortedError();
+        const cfg = configs.get(key.label)!;
+        await ctx.onResult(brokenPairResult(cfg, manifest.name, entry, message, scores, plan.thresholds), null, cfg, { dataset: manifest.name, id: entry.id, width: 0, height: 0 });
+      }
+      return;
+    }
     if (signal.aborted) throw new AbortedError();
     // As run.ts pairRegions: the manifest's occlusion mask, or one derived from the truth.
     const regions: RegionMap = buildRegions(pair.truth.data, pair.leftGray, pair.occlusion, pair.width, pair.height, plan.regions);
+    if (!existsSync(pairPreviewPaths(plan.runDir, pair.dataset, pair.id).regions)) {
+      try {
+        await writePairPreview(plan.runDir, pair.dataset, pair.id, pair.left, regions);
+      } catch {
+        /* thumbnails only save the report time: the report rebuilds them from the dataset */
+      }
+    }
     let shared: SharedPair | undefined;
     let hashes: Promise<[string, string]> | undefined;
     const fileHashes = (): Promise<[string, string]> => (hashes ??= Promise.all([fileSha256(pair.files.left), fileSha256(pair.files.right)]));

@@ -3,8 +3,11 @@
  * it is missing, run the built-in matchers on it with default parameters and write
  * reports/demo/. Every registered built-in runs except those in DEMO_LEFT_OUT (too slow
  * for a demo that should finish well under a minute); `--all` runs them too and
- * `--matcher` picks others.
+ * `--matcher` picks others. It runs through the same scheduler as `parallax run` with
+ * its defaults: a worker pool of --jobs threads (default: the cores) and the result
+ * cache (.parallax-cache/ or $PARALLAX_CACHE; --no-cache to match everything anew).
  */
+import { availableParallelism } from 'node:os';
 import { existsSync } from 'node:fs';
 import { join, resolve } from 'node:path';
 import type { Argv, CommandModule } from 'yargs';
@@ -13,6 +16,7 @@ import { MANIFEST_FILE } from '../../dataset/manifest.js';
 import { DEFAULT_THRESHOLDS } from '../../metrics/types.js';
 import { builtinMatchers } from '../../plugins/registry.js';
 import { planRun } from '../../runner/plan.js';
+import { cacheLine, scaleFromArgs } from '../scale-options.js';
 import { runSession, shownPath } from '../session.js';
 import { renderDemoDataset } from '../synth.js';
 
@@ -23,6 +27,8 @@ interface DemoArgs {
   matcher?: string[];
   quiet: boolean;
   json: boolean;
+  jobs?: number;
+  cache: boolean;
 }
 
 /**
@@ -48,10 +54,13 @@ export const demoCommand: CommandModule<object, DemoArgs> = {
       .option('out', { alias: 'o', type: 'string', default: 'reports/demo', describe: 'Run folder' })
       .option('matcher', { alias: 'm', type: 'string', array: true, describe: 'Matchers to run instead of the built-ins' })
       .option('all', { type: 'boolean', default: false, describe: `Run every built-in, including the slow ones left out by default (${[...DEMO_LEFT_OUT].join(', ')})` })
+      .option('jobs', { alias: 'j', type: 'number', describe: `Jobs matched at once in worker threads (default: the cores, here ${availableParallelism()}; 1 = no workers)` })
+      .option('cache', { type: 'boolean', default: true, describe: 'Use the result cache (--no-cache to match everything anew)' })
       .option('quiet', { alias: 'q', type: 'boolean', default: false })
       .option('json', { type: 'boolean', default: false, describe: 'Print the summary as JSON to stdout' }) as unknown as Argv<DemoArgs>,
   handler: async (a) => {
     const t0 = performance.now();
+    const scale = scaleFromArgs({ ...(a.jobs !== undefined ? { jobs: a.jobs } : {}), cache: a.cache });
     const data = resolve(a.data);
     if (!existsSync(join(data, MANIFEST_FILE))) {
       if (!a.quiet) process.stderr.write(`rendering the demo dataset into ${shownPath(data)}/ ...\n`);
@@ -69,8 +78,9 @@ export const demoCommand: CommandModule<object, DemoArgs> = {
       name: 'demo',
       baseDir: process.cwd(),
     });
-    const outcome = await runSession(plan, { quiet: a.quiet, json: a.json });
+    const outcome = await runSession({ ...plan, scale }, { quiet: a.quiet, json: a.json });
     if (!a.quiet && !a.json) {
+      process.stdout.write(cacheLine(outcome));
       const secs = ((performance.now() - t0) / 1000).toFixed(1);
       const html = outcome.outputs.files.includes('index.html') ? ` Open ${shownPath(join(outcome.runDir, 'index.html'))} in a browser.` : '';
       process.stdout.write(`Demo done in ${secs} s: ${shownPath(outcome.runDir)}/.${html}\n`);
