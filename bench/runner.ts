@@ -4,19 +4,25 @@
  *   1. Speed-up of --jobs 2 over --jobs 1: the demo set (datasets/demo, rendered when
  *      missing) with the built-in matchers at their defaults, cache off.
  *   2. A fully cached rerun of that run, as a share of the first run's time.
- *   3. Peak memory of a 500-pair run against a 20-pair run (640x480, block:window=5,
- *      --jobs 2): the largest resident set of the child process tree, from
- *      getrusage(RUSAGE_CHILDREN).ru_maxrss in a Python wrapper (GNU time is not
- *      installed). 20 distinct pairs are rendered by src/synth; the 500-pair manifest
- *      lists each of them 25 times under distinct ids (rendering 500 would take ~15 min
- *      on this machine), which loads, matches and scores 500 pairs all the same.
+ *   3. Peak memory of a 500-pair run against a 20-pair run (block:window=5, --jobs 2):
+ *      500 distinct pairs rendered by src/synth at 640x480 with 1 sample per pixel (see
+ *      bulkSet; rendered once in 2 processes and kept in the temp dir); the 20-pair run
+ *      takes the first 20 of them. Two peaks per run: the whole run's maximum resident set
+ *      of the CLI process (worker threads included, they share it), i.e. getrusage(
+ *      RUSAGE_CHILDREN).ru_maxrss in a Python wrapper (GNU time is not installed); and the
+ *      largest VmRSS sampled every 100 ms from /proc while jobs are still running (before
+ *      the tables and the report). Both runs again with PARALLAX_WORKER_GC=off (no
+ *      collection between tasks in the workers, see src/runner/worker.ts) for its effect
+ *      and its cost in CPU and wall time.
  * Wall times include process start. The machine is shared: the load average is printed.
  */
 import { spawn, spawnSync } from 'node:child_process';
-import { existsSync, mkdtempSync, readFileSync, rmSync, writeFileSync } from 'node:fs';
+import { createHash } from 'node:crypto';
+import { existsSync, mkdirSync, mkdtempSync, readdirSync, readFileSync, renameSync, rmSync, writeFileSync } from 'node:fs';
 import { availableParallelism, loadavg, tmpdir } from 'node:os';
 import { join, resolve } from 'node:path';
-import { writeDemoDataset, writeSyntheticDataset } from '../src/synth/dataset.js';
+import { pathToFileURL } from 'node:url';
+import { writeDemoDataset } from '../src/synth/dataset.js';
 
 const ROOT = resolve(import.meta.dirname, '..', '..');
 const BIN = join(ROOT, 'bin', 'parallax.js');
@@ -33,13 +39,20 @@ function cli(args: string[], cwd: string): { secs: number; cpu: number } {
   return { secs: secs!, cpu: cpu! };
 }
 
+interface Peak {
+  mb: number;
+  secs: number;
+  cpu: number;
+  matchingMb: number;
+}
+
 /**
  * Largest RSS (MiB) of the child tree of one CLI run (ru_maxrss), its wall time, and the
  * largest RSS sampled (every 100 ms from /proc) while jobs were still running, i.e.
  * before the tables and the report are written.
  */
-async function peakRun(args: string[], cwd: string, journal: string, total: number): Promise<{ mb: number; secs: number; matchingMb: number }> {
-  const child = spawn('/usr/bin/python3', ['-c', WRAP, process.execPath, BIN, ...args], { cwd, env: { ...process.env, FORCE_COLOR: '0' }, stdio: ['ignore', 'pipe', 'pipe'] });
+async function peakRun(args: string[], cwd: string, journal: string, total: number, env: Record<string, string> = {}): Promise<Peak> {
+  const child = spawn('/usr/bin/python3', ['-c', WRAP, process.execPath, BIN, ...args], { cwd, env: { ...process.env, FORCE_COLOR: '0', ...env }, stdio: ['ignore', 'pipe', 'pipe'] });
   let out = '';
   let err = '';
   child.stdout.on('data', (c: Buffer) => (out += c.toString()));
@@ -60,9 +73,61 @@ async function peakRun(args: string[], cwd: string, journal: string, total: numb
   }, 100);
   const code = await new Promise<number | null>((res) => child.on('exit', (c) => res(c)));
   clearInterval(timer);
-  const [rc, kb, secs] = out.trim().split(/\s+/).map(Number);
+  const [rc, kb, secs, cpu] = out.trim().split(/\s+/).map(Number);
   if (code !== 0 || rc !== 0) throw new Error(`peak run failed: ${err}`);
-  return { mb: kb! / 1024, secs: secs!, matchingMb: matchingKb / 1024 };
+  return { mb: kb! / 1024, secs: secs!, cpu: cpu!, matchingMb: matchingKb / 1024 };
+}
+
+/** The bulk set's parameters: distinct dock pairs from the renderer, 1 sample per pixel (no supersampling). */
+const BULK = { pairs: 500, small: 20, width: 640, height: 480, samples: 1, seed: 41, parts: 2 } as const;
+
+/** Run one node script (ESM) in a child process; rejects with its stderr on failure. */
+function nodeScript(code: string): Promise<void> {
+  return new Promise((res, rej) => {
+    const child = spawn(process.execPath, ['--input-type=module', '-e', code], { stdio: ['ignore', 'ignore', 'pipe'] });
+    let err = '';
+    child.stderr.on('data', (c: Buffer) => (err += c.toString()));
+    child.on('exit', (c) => (c === 0 ? res() : rej(new Error(`render child failed (${c}): ${err}`))));
+  });
+}
+
+/**
+ * 500 distinct pairs rendered by src/synth (writeSyntheticDataset, 640x480, samples=1), in
+ * BULK.parts processes at once (one seed each), and two manifests over them: m500.json (all)
+ * and m20.json (the first 20). Kept in the temp dir under a key of the parameters and the
+ * compiled renderer's code, so a rerun of the bench renders nothing.
+ */
+export async function bulkSet(): Promise<{ dir: string; note: string }> {
+  const synthDir = join(ROOT, 'dist', 'src', 'synth');
+  const h = createHash('sha256').update(JSON.stringify(BULK));
+  for (const f of readdirSync(synthDir).filter((n) => n.endsWith('.js')).sort()) h.update(f).update(readFileSync(join(synthDir, f)));
+  const dir = join(tmpdir(), `parallax-bench-bulk-${h.digest('hex').slice(0, 16)}`);
+  const what = `${BULK.pairs} distinct pairs from the renderer at ${BULK.width}x${BULK.height}, 1 sample per pixel`;
+  if (existsSync(join(dir, 'm500.json'))) return { dir, note: `${what} (cached in ${dir}).` };
+  rmSync(dir, { recursive: true, force: true });
+  mkdirSync(dir, { recursive: true });
+  const per = Math.ceil(BULK.pairs / BULK.parts);
+  const url = pathToFileURL(join(synthDir, 'dataset.js')).href;
+  const t0 = performance.now();
+  await Promise.all(
+    Array.from({ length: BULK.parts }, (_, k) => {
+      const opts = { count: Math.min(per, BULK.pairs - k * per), seed: BULK.seed + k, width: BULK.width, height: BULK.height, name: `part${k}`, samples: BULK.samples };
+      return nodeScript(`import { writeSyntheticDataset } from ${JSON.stringify(url)};\nawait writeSyntheticDataset(${JSON.stringify(join(dir, `p${k}`))}, ${JSON.stringify(opts)});`);
+    }),
+  );
+  const secs = (performance.now() - t0) / 1000;
+  type Part = { camera?: unknown; disparityRange: [number, number]; pairs: Record<string, unknown>[] };
+  const parts = Array.from({ length: BULK.parts }, (_, k) => JSON.parse(readFileSync(join(dir, `p${k}`, 'dataset.json'), 'utf8')) as Part);
+  const pairs = parts.flatMap((m, k) =>
+    m.pairs.map((p) => ({ ...p, id: `p${k}-${String(p.id)}`, left: `p${k}/${String(p.left)}`, right: `p${k}/${String(p.right)}`, truth: `p${k}/${String(p.truth)}`, occlusion: `p${k}/${String(p.occlusion)}` })),
+  );
+  const range: [number, number] = [Math.min(...parts.map((m) => m.disparityRange[0])), Math.max(...parts.map((m) => m.disparityRange[1]))];
+  const manifest = (name: string, list: typeof pairs): string => JSON.stringify({ name, camera: parts[0]!.camera, disparityRange: range, pairs: list });
+  // The 20-pair run takes the first 20 pairs of the 500-pair run's (sorted) order.
+  writeFileSync(join(dir, 'm20.json'), manifest('dock-bulk-20', pairs.slice(0, BULK.small)));
+  writeFileSync(join(dir, 'm500.tmp'), manifest('dock-bulk-500', pairs));
+  renameSync(join(dir, 'm500.tmp'), join(dir, 'm500.json'));
+  return { dir, note: `${what}, rendered now in ${BULK.parts} processes in ${secs.toFixed(0)} s (kept in ${dir} for reruns).` };
 }
 
 const load = (): string => loadavg().map((v) => v.toFixed(1)).join(' / ');
@@ -91,24 +156,29 @@ export default async function runnerBench(): Promise<void> {
     process.stdout.write(`Speed-up of --jobs 2 over --jobs 1: **${(t1.secs / t2.secs).toFixed(2)}x** in wall time (target >= 1.7x on two cores; `);
     process.stdout.write(`a "cores used" figure well under 2 with --jobs 2 means other processes held the cores). `);
     process.stdout.write(`Cached rerun: **${((100 * c2.secs) / c1.secs).toFixed(0)}%** of the first run's time. Load average now: ${load()}.\n\n`);
-    // Memory: 20 rendered pairs; manifests of 20 and of 500 entries over the same files.
-    const bulk = join(tmp, 'bulk');
-    await writeSyntheticDataset(bulk, { count: 20, seed: 41, width: 640, height: 480, name: 'dock-bulk', samples: 1 });
-    const base = JSON.parse(readFileSync(join(bulk, 'dataset.json'), 'utf8')) as { pairs: { id: string }[]; name: string };
-    writeFileSync(join(bulk, 'm20.json'), JSON.stringify({ ...base, name: 'dock-bulk-20' }));
-    const many = [];
-    for (let r = 0; r < 25; r++) for (const p of base.pairs) many.push({ ...p, id: `r${String(r).padStart(2, '0')}-${p.id}` });
-    writeFileSync(join(bulk, 'm500.json'), JSON.stringify({ ...base, name: 'dock-bulk-500', pairs: many }));
+    // Memory: 500 distinct rendered pairs (cached between bench runs); the 20-pair run uses the first 20.
+    const bulk = await bulkSet();
+    process.stdout.write(`Bulk set: ${bulk.note}\n\n`);
     const args = ['-m', 'block:window=5', '--jobs', '2', '--no-cache', '-q'];
-    const p20 = await peakRun(['run', '-d', join(bulk, 'm20.json'), ...args, '-o', join(tmp, 'p20')], tmp, join(tmp, 'p20', 'results.jsonl'), 20);
-    const p500 = await peakRun(['run', '-d', join(bulk, 'm500.json'), ...args, '-o', join(tmp, 'p500')], tmp, join(tmp, 'p500', 'results.jsonl'), 500);
-    process.stdout.write('| 640x480, block:window=5, --jobs 2 | peak RSS MiB (whole run) | largest sampled RSS MiB while matching | wall s |\n|---|---:|---:|---:|\n');
-    for (const [name, p] of [['20 pairs', p20], ['500 pairs', p500]] as const) {
-      process.stdout.write(`| ${name} | ${p.mb.toFixed(0)} | ${p.matchingMb.toFixed(0)} | ${p.secs.toFixed(1)} |\n`);
+    const runs: [string, Peak][] = [];
+    for (const gc of ['on', 'off']) {
+      const env = { PARALLAX_WORKER_GC: gc };
+      for (const n of [BULK.small, BULK.pairs]) {
+        const out = join(tmp, `p${n}-${gc}`);
+        const p = await peakRun(['run', '-d', join(bulk.dir, `m${n}.json`), ...args, '-o', out], tmp, join(out, 'results.jsonl'), n, env);
+        runs.push([`${n} pairs, collection between tasks ${gc}`, p]);
+        rmSync(out, { recursive: true, force: true });
+      }
     }
+    process.stdout.write('| 640x480, block:window=5, --jobs 2 | peak RSS MiB (whole run) | largest sampled RSS MiB while matching | wall s | CPU s |\n|---|---:|---:|---:|---:|\n');
+    for (const [name, p] of runs) process.stdout.write(`| ${name} | ${p.mb.toFixed(0)} | ${p.matchingMb.toFixed(0)} | ${p.secs.toFixed(1)} | ${p.cpu.toFixed(1)} |\n`);
+    const [on20, on500, off20, off500] = runs.map((r) => r[1]) as [Peak, Peak, Peak, Peak];
     process.stdout.write(
-      `\nPeak memory, 500 pairs / 20 pairs: **${(p500.mb / p20.mb).toFixed(2)}x** over the whole run (target <= 1.2x), ` +
-        `${(p500.matchingMb / p20.matchingMb).toFixed(2)}x while matching. Load average at the end: ${load()}.\n`,
+      `\nPeak memory, 500 pairs / 20 pairs: **${(on500.mb / on20.mb).toFixed(2)}x** over the whole run (target <= 1.2x), ` +
+        `**${(on500.matchingMb / on20.matchingMb).toFixed(2)}x** while matching; without the between-task collections ` +
+        `${(off500.mb / off20.mb).toFixed(2)}x and ${(off500.matchingMb / off20.matchingMb).toFixed(2)}x. ` +
+        `Cost of the collections on the 500-pair run: CPU ${((100 * (on500.cpu - off500.cpu)) / off500.cpu).toFixed(1)}%, wall ${((100 * (on500.secs - off500.secs)) / off500.secs).toFixed(1)}% ` +
+        `(on a shared machine, differences of a few % are noise). Load average at the end: ${load()}.\n`,
     );
   } finally {
     rmSync(tmp, { recursive: true, force: true });
