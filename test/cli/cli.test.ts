@@ -137,6 +137,43 @@ describe('experiment files', () => {
     expect(info.config.matchers.map((m: { label: string }) => m.label).sort()).toEqual(['block:window=7', 'oracle']);
   });
 
+  it('a long-lived program\'s time_ms reply is the job\'s time_ms; the wall time is kept as wall_ms', async () => {
+    const ds = writeDataset(join(root, 'exp-live'), { ids: ['lane-1'] });
+    // Long-lived protocol (src/plugins/registry.ts, agreed API): one JSON request per line,
+    // reply {"ok": true, "time_ms": n}. This program copies the truth, waits 80 ms and reports 2.5 ms.
+    const script = join(root, 'live.mjs');
+    writeFileSync(
+      script,
+      [
+        `import { copyFileSync } from 'node:fs';`,
+        `import { createInterface } from 'node:readline';`,
+        `const ds = process.argv[2];`,
+        `for await (const line of createInterface({ input: process.stdin })) {`,
+        `  const q = JSON.parse(line);`,
+        `  copyFileSync(ds + '/' + q.id + '/truth.pfm', q.out);`,
+        `  await new Promise((r) => setTimeout(r, 80));`,
+        `  process.stdout.write(JSON.stringify({ ok: true, time_ms: 2.5 }) + '\\n');`,
+        `}`,
+      ].join('\n'),
+    );
+    const exp = join(root, 'exp-live.json');
+    writeFileSync(
+      exp,
+      JSON.stringify({
+        datasets: ['exp-live'],
+        matchers: [{ program: { id: 'live', mode: 'long-lived', command: [process.execPath, script, ds.dir], output: { format: 'pfm' } } }],
+        out: 'exp-live-out',
+      }),
+    );
+    const r = await cli(['run', exp, '--quiet', '--no-cache']);
+    expect(r.err).toBe('');
+    expect(r.code).toBe(0);
+    const job = JSON.parse(readFileSync(join(root, 'exp-live-out', 'results.jsonl'), 'utf8').trim());
+    expect(job.status).toBe('ok');
+    expect(job.time_ms).toBe(2.5); // the program's own figure (the issue's requirement)
+    expect(job.wall_ms).toBeGreaterThanOrEqual(79); // at least the 80 ms wait (timers may fire ~1 ms early)
+  });
+
   it('a bad matcher entry in an experiment file names the file and the entry', async () => {
     writeDataset(join(root, 'exp-data2'), { ids: ['lane-1'] });
     const exp = join(root, 'exp-badmatcher.json');
