@@ -104,7 +104,8 @@ export async function bulkSet(): Promise<{ dir: string; note: string }> {
   const dir = join(tmpdir(), `parallax-bench-bulk-${h.digest('hex').slice(0, 16)}`);
   const what = `${BULK.pairs} distinct pairs from the renderer at ${BULK.width}x${BULK.height}, 1 sample per pixel`;
   if (existsSync(join(dir, 'm500.json'))) return { dir, note: `${what} (cached in ${dir}).` };
-  rmSync(dir, { recursive: true, force: true });
+  // Sets of other parameters or renderer code are stale: remove them, then render afresh.
+  for (const n of readdirSync(tmpdir()).filter((n) => n.startsWith('parallax-bench-bulk-'))) rmSync(join(tmpdir(), n), { recursive: true, force: true });
   mkdirSync(dir, { recursive: true });
   const per = Math.ceil(BULK.pairs / BULK.parts);
   const url = pathToFileURL(join(synthDir, 'dataset.js')).href;
