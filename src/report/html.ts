@@ -8,15 +8,15 @@
  * HTML-escaped where the server writes it, and set with textContent in the browser;
  * the embedded JSON escapes < > & U+2028 U+2029.
  */
-import { createHash } from 'node:crypto';
-import { mkdir, readFile } from 'node:fs/promises';
+import { createHash, randomBytes } from 'node:crypto';
+import { mkdir, open, readFile, rename, unlink, type FileHandle } from 'node:fs/promises';
 import { dirname, join } from 'node:path';
 import type { FloatImage } from '../core/image.js';
 import { toLuminance } from '../core/image.js';
 import type { JobResult, RegionFigures } from '../core/score.js';
 import { DEFAULT_REGION_PARAMS, REGION_IDS, type RegionParams } from '../core/regions.js';
 import { decodePng, encodePng, readPngHeader } from '../io/png.js';
-import { maskFromRaster, readDisparityFile, readFileBytes, writeFileAtomic } from '../io/files.js';
+import { fsError, maskFromRaster, readDisparityFile, readFileBytes, writeFileAtomic } from '../io/files.js';
 import { loadManifest, type Manifest } from '../dataset/manifest.js';
 import { assertSameSize, truthReadOptions } from '../dataset/load.js';
 import { buildRegions } from '../dataset/regions.js';
@@ -29,7 +29,7 @@ import { encodePalettePng, type IndexedImage } from './png-palette.js';
 import { REPORT_CSS } from './html-style.js';
 import { REPORT_JS } from './html-client.js';
 import { pairPreviewPaths, previewFactor, readPreview } from './preview.js';
-import { readRunFolder, type RunInfoView } from './run-folder.js';
+import { parseRunInfo, readRunFolder, RUN_JSON, type RunInfoView } from './run-folder.js';
 import {
   ERROR_CLIP_PX,
   NO_TRUTH,
@@ -316,17 +316,82 @@ export interface HtmlReportOptions {
    * writeHtmlReport sets it; buildHtmlReport alone writes nothing by default.
    */
   storePairThumbs?: boolean;
+  /**
+   * The run's results as already read from its results.jsonl (the runner passes the
+   * journal it has just read), so the report does not read and hold a second copy.
+   */
+  results?: readonly JobResult[];
 }
 
 /** Pairs whose files are read ahead of the one being drawn. */
 const READ_AHEAD = 4;
 
-/** Build the report HTML of a run folder (does not write it). */
+/** The pair views of the data object, in sorted pair order, each written as soon as it is drawn. */
+async function writePairViews(
+  runDir: string,
+  info: RunInfoView,
+  manifests: Map<string, { m: Manifest | null; problem: string | null }>,
+  byPair: Map<string, JobResult[]>,
+  pairKeys: string[],
+  thresholds: number[],
+  opts: HtmlReportOptions,
+  sink: HtmlSink,
+): Promise<void> {
+  // Files of the next few pairs are read while this one is drawn (I/O overlaps the
+  // CPU work; one thread, a bounded number of pairs in memory).
+  const load = (k: string): Promise<PairInputs> => {
+    const list = byPair.get(k)!;
+    const { dataset, pair } = list[0]!;
+    const man = manifests.get(dataset) ?? { m: null, problem: `dataset ${dataset} is not in run.json` };
+    return loadPairInputs(runDir, man.m, man.problem, dataset, pair, list);
+  };
+  const ahead: Promise<PairInputs>[] = pairKeys.slice(0, READ_AHEAD).map(load);
+  for (let i = 0; i < pairKeys.length; i++) {
+    const inputs = await ahead[i]!;
+    delete ahead[i];
+    if (i + READ_AHEAD < pairKeys.length) ahead[i + READ_AHEAD] = load(pairKeys[i + READ_AHEAD]!);
+    const list = byPair.get(pairKeys[i]!)!;
+    const { dataset, pair } = list[0]!;
+    const view = await pairView(runDir, info, manifests.get(dataset)?.m ?? null, dataset, pair, list, thresholds, inputs, opts);
+    await sink(i ? `,${scriptSafeJson(view)}` : scriptSafeJson(view));
+  }
+}
+
+/** Build the report HTML of a run folder as one string (does not write it; tests and small runs). */
 export async function buildHtmlReport(runDir: string, opts: HtmlReportOptions = {}): Promise<string> {
+  const parts: string[] = [];
+  await renderHtmlReport(runDir, (c) => void parts.push(c), opts);
+  return parts.join('');
+}
+
+/** Receives the page in order, piece by piece; the next piece waits for the returned promise. */
+export type HtmlSink = (chunk: string) => void | Promise<void>;
+
+/**
+ * Render the report of a run folder into `sink`, in page order: the head, overview,
+ * pair list and provenance first (they need only the results), then the embedded data
+ * with one pair view at a time (its thumbnails drawn, written, dropped), then the
+ * script. Memory holds the results and a few pairs' files, whatever the number of pairs.
+ * The pieces joined are the page buildHtmlReport returns.
+ */
+export async function renderHtmlReport(runDir: string, sink: HtmlSink, opts: HtmlReportOptions = {}): Promise<void> {
+  if (opts.results) {
+    const infoPath = join(runDir, RUN_JSON);
+    let text: string;
+    try {
+      text = await readFile(infoPath, 'utf8');
+    } catch (e) {
+      throw fsError(infoPath, e);
+    }
+    return renderRun(runDir, parseRunInfo(text, infoPath), opts.results, sink, opts);
+  }
   const run = await readRunFolder(runDir);
-  const info = run.info;
+  return renderRun(runDir, run.info, run.results, sink, opts);
+}
+
+async function renderRun(runDir: string, info: RunInfoView, results: readonly JobResult[], sink: HtmlSink, opts: HtmlReportOptions): Promise<void> {
   const thresholds = [...info.config.thresholds];
-  const jobs = sortJobs(latestJobs(run.results));
+  const jobs = sortJobs(latestJobs(results));
   const rows = aggregate(jobs, { thresholds, ci: opts.resamples ? { resamples: opts.resamples } : {} });
   const labels = [...new Set(jobs.map((j) => j.matcher))].sort(cmp);
   const datasets = [...new Set(jobs.map((j) => j.dataset))].sort(cmp);
@@ -354,25 +419,6 @@ export async function buildHtmlReport(runDir: string, opts: HtmlReportOptions = 
     l.push(j);
   }
   const pairKeys = [...byPair.keys()].sort(cmp);
-  const pairs: PairView[] = [];
-  // Files of the next few pairs are read while this one is drawn (I/O overlaps the
-  // CPU work; one thread, a bounded number of pairs in memory).
-  const load = (k: string): Promise<PairInputs> => {
-    const list = byPair.get(k)!;
-    const { dataset, pair } = list[0]!;
-    const man = manifests.get(dataset) ?? { m: null, problem: `dataset ${dataset} is not in run.json` };
-    return loadPairInputs(runDir, man.m, man.problem, dataset, pair, list);
-  };
-  const ahead: Promise<PairInputs>[] = pairKeys.slice(0, READ_AHEAD).map(load);
-  for (let i = 0; i < pairKeys.length; i++) {
-    const inputs = await ahead[i]!;
-    delete ahead[i];
-    if (i + READ_AHEAD < pairKeys.length) ahead[i + READ_AHEAD] = load(pairKeys[i + READ_AHEAD]!);
-    const list = byPair.get(pairKeys[i]!)!;
-    const { dataset, pair } = list[0]!;
-    pairs.push(await pairView(runDir, info, manifests.get(dataset)?.m ?? null, dataset, pair, list, thresholds, inputs, opts));
-  }
-
   const names = metricNames(thresholds);
   const data = {
     thresholds,
@@ -393,23 +439,29 @@ export async function buildHtmlReport(runDir: string, opts: HtmlReportOptions = 
     errorClip: ERROR_CLIP_PX,
     noTruth: `rgb(${NO_TRUTH.join(',')})`,
     regionKeys: (['visible', 'occluded', 'flat', 'jump', 'unknown'] as const).map((k) => [k === 'unknown' ? 'no truth' : k, `rgb(${REGION_COLORS[k].join(',')})`]),
-    pairs,
   };
 
   const scriptHash = createHash('sha256').update(REPORT_JS, 'utf8').digest('base64');
   const csp = `default-src 'none'; img-src data:; style-src 'unsafe-inline'; script-src 'sha256-${scriptHash}'; base-uri 'none'; form-action 'none'`;
   const title = info.name ? `parallax report: ${info.name}` : 'parallax report';
   const failedJobs = jobs.filter((j) => j.status === 'failed').length;
-  const pairList = pairs
-    .map((p, i) => {
-      const failed = p.jobs.filter((j) => j.status === 'failed').length;
-      const st = failed ? `${failed} of ${p.jobs.length} failed` : `${p.jobs.length} configuration${p.jobs.length === 1 ? '' : 's'}`;
-      return `<details class="pair" data-index="${i}"><summary>${escapeHtml(p.dataset)} / ${escapeHtml(p.pair)}<span class="st">${escapeHtml(st)}</span></summary><div class="pairbody"></div></details>`;
+  const pairList = pairKeys
+    .map((k, i) => {
+      const list = byPair.get(k)!;
+      const { dataset, pair } = list[0]!;
+      const failed = list.filter((j) => j.status === 'failed').length;
+      const st = failed ? `${failed} of ${list.length} failed` : `${list.length} configuration${list.length === 1 ? '' : 's'}`;
+      return `<details class="pair" data-index="${i}"><summary>${escapeHtml(dataset)} / ${escapeHtml(pair)}<span class="st">${escapeHtml(st)}</span></summary><div class="pairbody"></div></details>`;
     })
     .join('\n');
   const opt = (v: string, label = v): string => `<option value="${escapeHtml(v)}">${escapeHtml(label)}</option>`;
 
-  return `<!doctype html>
+  // The data object ends with its `pairs` array, written one view at a time: JSON.stringify
+  // of the whole object is the head's text without its closing brace, then ,"pairs":[,
+  // the views joined by commas, then ]}. (scriptSafeJson escapes single characters only,
+  // so escaping the pieces is escaping the whole.)
+  const dataHead = scriptSafeJson(data);
+  await sink(`<!doctype html>
 <html lang="en">
 <head>
 <meta charset="utf-8">
@@ -422,7 +474,7 @@ export async function buildHtmlReport(runDir: string, opts: HtmlReportOptions = 
 <body>
 <header class="top">
 <h1>${escapeHtml(title)}</h1>
-<div class="sub">${escapeHtml(labels.length)} configuration${labels.length === 1 ? '' : 's'} · ${escapeHtml(pairs.length)} pair${pairs.length === 1 ? '' : 's'} · ${escapeHtml(datasets.join(', '))} · ${escapeHtml(jobs.length)} jobs${failedJobs ? `, ${escapeHtml(failedJobs)} failed` : ''}${info.started ? ` · started ${escapeHtml(info.started)}` : ''}</div>
+<div class="sub">${escapeHtml(labels.length)} configuration${labels.length === 1 ? '' : 's'} · ${escapeHtml(pairKeys.length)} pair${pairKeys.length === 1 ? '' : 's'} · ${escapeHtml(datasets.join(', '))} · ${escapeHtml(jobs.length)} jobs${failedJobs ? `, ${escapeHtml(failedJobs)} failed` : ''}${info.started ? ` · started ${escapeHtml(info.started)}` : ''}</div>
 </header>
 <main>
 <section class="caution" aria-label="safety caution"><strong>Caution.</strong> ${escapeHtml(SAFETY_CAUTION)}</section>
@@ -455,17 +507,76 @@ ${pairList}
 ${provenanceHtml(info, jobs)}
 </section>
 </main>
-<script type="application/json" id="plx-data">${scriptSafeJson(data)}</script>
+<script type="application/json" id="plx-data">${dataHead.slice(0, -1)},"pairs":[`);
+  await writePairViews(runDir, info, manifests, byPair, pairKeys, thresholds, opts, sink);
+  await sink(`]}</script>
 <script>${REPORT_JS}</script>
 </body>
 </html>
-`;
+`);
 }
 
-/** Write `<runDir>/index.html` and return its path. */
+/** Pieces of the page are gathered up to this many UTF-16 units before one write. */
+const WRITE_CHUNK = 1 << 16;
+
+/**
+ * Write `<runDir>/index.html` and return its path. The page is streamed into a temporary
+ * file in the run folder as it is rendered (see renderHtmlReport), synced, then renamed
+ * into place: readers see the old page or the whole new one, never a part.
+ */
 export async function writeHtmlReport(runDir: string, opts: HtmlReportOptions = {}): Promise<string> {
-  const html = await buildHtmlReport(runDir, { storePairThumbs: true, ...opts });
   const path = join(runDir, REPORT_FILE);
-  await writeFileAtomic(path, html);
+  const tmp = join(runDir, `.${REPORT_FILE}.${process.pid}.${randomBytes(6).toString('hex')}.tmp`);
+  let fh: FileHandle;
+  try {
+    fh = await open(tmp, 'wx');
+  } catch (e) {
+    throw fsError(path, e, 'write');
+  }
+  let pending: string[] = [];
+  let pendingLength = 0;
+  let failedWrite: unknown = null;
+  const flush = async (): Promise<void> => {
+    if (!pendingLength) return;
+    const text = pending.join('');
+    pending = [];
+    pendingLength = 0;
+    try {
+      await fh.write(text, null, 'utf8');
+    } catch (e) {
+      failedWrite = e;
+      throw e;
+    }
+  };
+  try {
+    await renderHtmlReport(
+      runDir,
+      async (chunk) => {
+        pending.push(chunk);
+        pendingLength += chunk.length;
+        if (pendingLength >= WRITE_CHUNK) await flush();
+      },
+      { storePairThumbs: true, ...opts },
+    );
+    await flush();
+    try {
+      await fh.sync();
+      await fh.close();
+    } catch (e) {
+      failedWrite = e;
+      throw e;
+    }
+  } catch (e) {
+    await fh.close().catch(() => undefined);
+    await unlink(tmp).catch(() => undefined);
+    // A failed write names index.html; errors of the run folder's own files pass as they are.
+    throw failedWrite === e ? fsError(path, e, 'write') : e;
+  }
+  try {
+    await rename(tmp, path);
+  } catch (e) {
+    await unlink(tmp).catch(() => undefined);
+    throw fsError(path, e, 'write');
+  }
   return path;
 }

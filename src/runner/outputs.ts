@@ -20,7 +20,11 @@ export interface WrittenOutputs {
   summary: SummaryRow[];
 }
 
-/** Write pairs.csv, summary.csv and index.html (the report reads run.json: write it first). */
+/**
+ * Write pairs.csv, summary.csv and index.html (the report reads run.json: write it first).
+ * `results` must be the run folder's results.jsonl as it stands (the report takes them
+ * instead of reading the file again).
+ */
 export async function writeRunOutputs(runDir: string, results: readonly JobResult[], thresholds: readonly number[]): Promise<WrittenOutputs> {
   const jobs = latestJobs(results);
   const th = [...thresholds];
@@ -30,7 +34,9 @@ export async function writeRunOutputs(runDir: string, results: readonly JobResul
   const summary = aggregate(jobs, { thresholds: th });
   await writeFileAtomic(join(runDir, SUMMARY_CSV), summaryCsvText(summary, th));
   files.push(SUMMARY_CSV);
-  await writeHtmlReport(runDir);
+  // The report streams index.html pair by pair, from the results in hand (not a second
+  // copy read from results.jsonl: `results` is that file's content, as read by the caller).
+  await writeHtmlReport(runDir, { results });
   files.push(REPORT_HTML);
   return { files, summary };
 }
