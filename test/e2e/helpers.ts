@@ -21,33 +21,35 @@ export function parallax(args: string[], cwd: string, timeoutMs = 90_000): CliRe
   return { code: r.status, stdout: r.stdout, stderr: r.stderr };
 }
 
+/** One line of our own CSV files (no embedded newlines): cells with RFC 4180 quoting. */
+export function splitCsvLine(line: string): string[] {
+  const out: string[] = [];
+  let cur = '';
+  let q = false;
+  for (let i = 0; i < line.length; i++) {
+    const c = line[i]!;
+    if (q) {
+      if (c === '"' && line[i + 1] === '"') {
+        cur += '"';
+        i++;
+      } else if (c === '"') q = false;
+      else cur += c;
+    } else if (c === '"') q = true;
+    else if (c === ',') {
+      out.push(cur);
+      cur = '';
+    } else cur += c;
+  }
+  out.push(cur);
+  return out;
+}
+
 /** Minimal RFC 4180 reader for our own CSV files (no embedded newlines in our data). */
 export function readCsv(text: string): { header: string[]; rows: Record<string, string>[] } {
   const lines = text.trimEnd().split('\n');
-  const split = (line: string): string[] => {
-    const out: string[] = [];
-    let cur = '';
-    let q = false;
-    for (let i = 0; i < line.length; i++) {
-      const c = line[i]!;
-      if (q) {
-        if (c === '"' && line[i + 1] === '"') {
-          cur += '"';
-          i++;
-        } else if (c === '"') q = false;
-        else cur += c;
-      } else if (c === '"') q = true;
-      else if (c === ',') {
-        out.push(cur);
-        cur = '';
-      } else cur += c;
-    }
-    out.push(cur);
-    return out;
-  };
-  const header = split(lines[0]!);
+  const header = splitCsvLine(lines[0]!);
   const rows = lines.slice(1).map((l) => {
-    const cells = split(l);
+    const cells = splitCsvLine(l);
     return Object.fromEntries(header.map((h, i) => [h, cells[i] ?? '']));
   });
   return { header, rows };

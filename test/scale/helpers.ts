@@ -1,4 +1,5 @@
 /** Shared helpers of the scale tests: small datasets, the built CLI, table comparison. */
+import { splitCsvLine } from '../e2e/helpers.js';
 import { spawn, spawnSync, type ChildProcess } from 'node:child_process';
 import { existsSync, readFileSync, writeFileSync } from 'node:fs';
 import { join, resolve } from 'node:path';
@@ -56,28 +57,6 @@ export async function waitFor(pred: () => boolean, ms: number, what: string): Pr
   }
 }
 
-/** Our CSV files without embedded newlines: split cells with RFC 4180 quoting. */
-function splitCsvLine(line: string): string[] {
-  const out: string[] = [];
-  let cur = '';
-  let q = false;
-  for (let i = 0; i < line.length; i++) {
-    const c = line[i]!;
-    if (q) {
-      if (c === '"' && line[i + 1] === '"') {
-        cur += '"';
-        i++;
-      } else if (c === '"') q = false;
-      else cur += c;
-    } else if (c === '"') q = true;
-    else if (c === ',') {
-      out.push(cur);
-      cur = '';
-    } else cur += c;
-  }
-  out.push(cur);
-  return out;
-}
 
 /**
  * A CSV table with the timing columns removed (time_ms, peak_mb and every aggregate
