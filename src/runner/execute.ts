@@ -7,7 +7,7 @@
 import { AbortedError } from '../core/errors.js';
 import type { LoadedPair } from '../core/pair.js';
 import type { RegionMap } from '../core/regions.js';
-import type { JobResult, PairScore } from '../core/score.js';
+import type { JobResult } from '../core/score.js';
 import { scorePair } from '../metrics/score.js';
 import type { MatchInput } from '../plugins/contract.js';
 import { startPeakSampler } from './memory.js';
@@ -140,17 +140,13 @@ export function scoredOutcome(
   pair: LoadedPair,
   regions: RegionMap,
   thresholds: readonly number[],
-  got: { disparity: Float32Array | null; error?: string; timeMs: number | null; wallMs?: number | null; peakMb: number | null; cached?: boolean; scores?: PairScore },
+  got: { disparity: Float32Array | null; error?: string; timeMs: number | null; wallMs?: number | null; peakMb: number | null; cached?: boolean },
 ): JobOutcome {
   const { disparity, error, timeMs, peakMb } = got;
-  // `got.scores`: already scored where the output was made (a pool worker, same scorePair on the same data).
-  const scores =
-    got.scores && disparity
-      ? got.scores
-      : scorePair(disparity, pair.truth.data, regions, {
-          thresholds,
-          ...(pair.camera ? { camera: pair.camera } : {}),
-        });
+  const scores = scorePair(disparity, pair.truth.data, regions, {
+    thresholds,
+    ...(pair.camera ? { camera: pair.camera } : {}),
+  });
   const result: JobResult = {
     matcher: cfg.label,
     matcherId: cfg.matcherId,

@@ -13,7 +13,6 @@ import { Piscina } from 'piscina';
 import { InputError } from '../core/errors.js';
 import type { LoadedPair } from '../core/pair.js';
 import type { RasterImage } from '../core/image.js';
-import type { RegionMap } from '../core/regions.js';
 import { decodeReply, type DecodedReply, type MatchReply, type MatchTask, type SharedRaster } from './worker.js';
 
 /**
@@ -34,15 +33,6 @@ export interface SharedPair {
   right: SharedArrayBuffer;
   leftColor: SharedRaster;
   rightColor: SharedRaster;
-  /** Added: the truth (float32) and region bits, for scoring in the worker. */
-  truth: SharedArrayBuffer;
-  bits: SharedArrayBuffer;
-}
-
-function sharedBytes(a: Uint8Array, reuse?: SharedArrayBuffer): SharedArrayBuffer {
-  const sab = reuse && reuse.byteLength === a.length ? reuse : new SharedArrayBuffer(a.length);
-  new Uint8Array(sab).set(a);
-  return sab;
 }
 
 function sharedFloats(a: Float32Array, reuse?: SharedArrayBuffer): SharedArrayBuffer {
@@ -64,14 +54,12 @@ function sharedRaster(img: RasterImage, reuse?: SharedRaster): SharedRaster {
  * settled: its buffers are refilled when their sizes match (no new shared memory per
  * pair, whose release would wait for every worker's garbage collection).
  */
-export function sharePair(pair: LoadedPair, regions: RegionMap, reuse?: SharedPair): SharedPair {
+export function sharePair(pair: LoadedPair, reuse?: SharedPair): SharedPair {
   return {
     left: sharedFloats(pair.leftGray, reuse?.left),
     right: sharedFloats(pair.rightGray, reuse?.right),
     leftColor: sharedRaster(pair.left, reuse?.leftColor),
     rightColor: sharedRaster(pair.right, reuse?.rightColor),
-    truth: sharedFloats(pair.truth.data, reuse?.truth),
-    bits: sharedBytes(regions.bits, reuse?.bits),
   };
 }
 

@@ -106,12 +106,11 @@ export async function runScheduled(ctx: ScheduleContext): Promise<ScheduleStats>
           maxDisparity: pair.disparityRange[1],
           files: { pairId: pair.id, left: pair.files.left, right: pair.files.right },
           threads,
-          score: { truth: shared.truth, bits: shared.bits, thresholds: [...plan.thresholds], ...(pair.camera ? { camera: pair.camera } : {}) },
         },
         signal,
       );
       return reply.ok
-        ? { disparity: reply.disparity, timeMs: reply.timeMs, peakMb: reply.peakMb, ...(reply.scores ? { scores: reply.scores } : {}) }
+        ? { disparity: reply.disparity, timeMs: reply.timeMs, peakMb: reply.peakMb }
         : { disparity: null, error: reply.error, timeMs: reply.timeMs, peakMb: reply.peakMb };
     } catch (e) {
       if (signal.aborted || isAbort(e)) throw new AbortedError();
@@ -171,7 +170,7 @@ export async function runScheduled(ctx: ScheduleContext): Promise<ScheduleStats>
       }
       if (!outcome) {
         if (pool && cfg.kind === 'matcher' && cfg.source && cfg.source.kind !== 'program') {
-          shared ??= sharePair(pair, regions, freeSlots.pop());
+          shared ??= sharePair(pair, freeSlots.pop());
           const got = await viaPool(cfg, pair, shared);
           if (signal.aborted) throw new AbortedError();
           outcome = scoredOutcome(cfg, pair, regions, plan.thresholds, got);

@@ -15,10 +15,7 @@
 import { getHeapStatistics, setFlagsFromString } from 'node:v8';
 import { runInNewContext } from 'node:vm';
 import { move } from 'piscina';
-import type { Camera } from '../core/camera.js';
 import type { RasterImage } from '../core/image.js';
-import type { PairScore } from '../core/score.js';
-import { scorePair } from '../metrics/score.js';
 import type { ParamValue } from '../core/params.js';
 import type { MatchInput, MatcherPlugin } from '../plugins/contract.js';
 import { pluginFromSource, type MatcherSource } from '../plugins/registry.js';
@@ -46,38 +43,22 @@ export interface MatchTask {
   maxDisparity: number;
   files: { pairId: string; left: string; right: string };
   threads: number;
-  /**
-   * Added: score a successful output here, where it was made (the main thread then only
-   * waits): the pair's truth (float32) and region bits (one byte per pixel) in shared
-   * memory, with the run's thresholds and the pair's camera. Absent: the main thread scores.
-   */
-  score?: { truth: SharedArrayBuffer; bits: SharedArrayBuffer; thresholds: number[]; camera?: Camera };
 }
 
 /** A failure as a plain object; a success arrives as one transferred ArrayBuffer (decodeReply). */
 export type MatchReply = ArrayBuffer | { ok: false; error: string; timeMs: number | null; peakMb: number | null };
 
 export type DecodedReply =
-  | { ok: true; disparity: Float32Array; timeMs: number; peakMb: number; scores?: PairScore }
+  | { ok: true; disparity: Float32Array; timeMs: number; peakMb: number }
   | { ok: false; error: string; timeMs: number | null; peakMb: number | null };
 
-/** Header of a success reply: float64 time, peak, pixel count, byte length of the scores' JSON. */
-const REPLY_HEADER_BYTES = 32;
+const REPLY_HEADER_BYTES = 16;
 
-/**
- * The main thread's view of a reply (no copy: the disparity is a view of the moved buffer).
- * A success buffer holds the header, the float32 disparity, then the PairScore as UTF-8
- * JSON when the worker scored it (the same text results.jsonl gets).
- */
+/** The main thread's view of a reply (no copy: the disparity is a view of the moved buffer). */
 export function decodeReply(r: MatchReply): DecodedReply {
   if (!(r instanceof ArrayBuffer)) return r;
-  const head = new Float64Array(r, 0, 4);
-  const n = head[2]!;
-  const jsonBytes = head[3]!;
-  const disparity = new Float32Array(r, REPLY_HEADER_BYTES, n);
-  const out: DecodedReply = { ok: true, timeMs: head[0]!, peakMb: head[1]!, disparity };
-  if (jsonBytes > 0) out.scores = JSON.parse(new TextDecoder().decode(new Uint8Array(r, REPLY_HEADER_BYTES + n * 4, jsonBytes))) as PairScore;
-  return out;
+  const head = new Float64Array(r, 0, 2);
+  return { ok: true, timeMs: head[0]!, peakMb: head[1]!, disparity: new Float32Array(r, REPLY_HEADER_BYTES) };
 }
 
 const plugins = new Map<string, Promise<MatcherPlugin>>();
@@ -143,26 +124,13 @@ async function matchOnce(task: MatchTask): Promise<MatchReply> {
   } catch (e) {
     return { ok: false, error: oneLineError(e), timeMs, peakMb };
   }
-  let json: Uint8Array | undefined;
-  if (task.score) {
-    const regions = { width: task.width, height: task.height, bits: new Uint8Array(task.score.bits) };
-    const scores = scorePair(arr, new Float32Array(task.score.truth), regions, {
-      thresholds: task.score.thresholds,
-      ...(task.score.camera ? { camera: task.score.camera } : {}),
-    });
-    json = new TextEncoder().encode(JSON.stringify(scores));
-  }
   // A copy the matcher holds no reference to, moved (transferred, not cloned) to the main
-  // thread: the header, the float32 disparity, the scores (see decodeReply).
-  const jsonBytes = json ? json.length : 0;
-  const buf = new ArrayBuffer(REPLY_HEADER_BYTES + arr.length * 4 + jsonBytes);
-  const head = new Float64Array(buf, 0, 4);
+  // thread: float64 time and peak, then the float32 disparity (see decodeReply).
+  const buf = new ArrayBuffer(REPLY_HEADER_BYTES + arr.length * 4);
+  const head = new Float64Array(buf, 0, 2);
   head[0] = timeMs;
   head[1] = peakMb;
-  head[2] = arr.length;
-  head[3] = jsonBytes;
-  new Float32Array(buf, REPLY_HEADER_BYTES, arr.length).set(arr);
-  if (json) new Uint8Array(buf, REPLY_HEADER_BYTES + arr.length * 4, jsonBytes).set(json);
+  new Float32Array(buf, REPLY_HEADER_BYTES).set(arr);
   return move(buf) as unknown as MatchReply;
 }
 
