@@ -2,6 +2,7 @@
  * Reading a run folder for reports and comparisons: run.json (provenance) and
  * results.jsonl (one JobResult per line; a torn last line is skipped).
  */
+import { parseResultsJsonl } from '../io/results-jsonl.js';
 import { readFile } from 'node:fs/promises';
 import { join } from 'node:path';
 import { InputError } from '../core/errors.js';
@@ -57,21 +58,8 @@ export function parseRunInfo(text: string, file: string): RunInfoView {
   return j as RunInfoView;
 }
 
-export function parseResults(text: string, file: string): JobResult[] {
-  const lines = text.split('\n');
-  const out: JobResult[] = [];
-  for (let i = 0; i < lines.length; i++) {
-    const line = lines[i]!;
-    if (line.trim() === '') continue;
-    try {
-      out.push(JSON.parse(line) as JobResult);
-    } catch {
-      if (i === lines.length - 1) break; // torn last line of an interrupted run
-      throw new InputError(file, `line ${i + 1} is not valid JSON`);
-    }
-  }
-  return out;
-}
+/** results.jsonl of a run folder (a torn last line is skipped). */
+export const parseResults = parseResultsJsonl;
 
 export async function readRunFolder(dir: string): Promise<RunFolder> {
   const infoPath = join(dir, RUN_JSON);

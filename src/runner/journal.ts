@@ -4,7 +4,7 @@
  * run leaves only complete lines (and at worst one torn last line, which the reader skips).
  */
 import { appendFileSync, existsSync, readFileSync, truncateSync, writeFileSync } from 'node:fs';
-import { InputError } from '../core/errors.js';
+import { parseResultsJsonl } from '../io/results-jsonl.js';
 import type { JobResult } from '../core/score.js';
 
 export const JOURNAL_FILE = 'results.jsonl';
@@ -19,26 +19,8 @@ export function appendResult(path: string, result: JobResult): void {
   appendFileSync(path, JSON.stringify(result) + '\n');
 }
 
-/**
- * Parse journal text. A malformed line in the middle is an InputError naming the file
- * and the line; a torn last line (no newline at the end) is skipped.
- */
-export function parseJournal(text: string, file: string): JobResult[] {
-  const lines = text.split('\n');
-  const torn = lines.length > 0 && lines[lines.length - 1] !== '';
-  const out: JobResult[] = [];
-  for (let i = 0; i < lines.length; i++) {
-    const line = lines[i]!;
-    if (line.trim() === '') continue;
-    try {
-      out.push(JSON.parse(line) as JobResult);
-    } catch {
-      if (torn && i === lines.length - 1) break;
-      throw new InputError(file, `line ${i + 1} is not valid JSON`);
-    }
-  }
-  return out;
-}
+/** Parse journal text (see io/results-jsonl.ts: a torn last line is skipped). */
+export const parseJournal = parseResultsJsonl;
 
 /** Read a journal; a missing file reads as empty. */
 export function readJournal(path: string): JobResult[] {
