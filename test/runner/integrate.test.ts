@@ -10,32 +10,19 @@ import { AbortedError } from '../../src/core/errors.js';
 import { DEFAULT_REGION_PARAMS, REGION_IDS } from '../../src/core/regions.js';
 import type { JobResult } from '../../src/core/score.js';
 import { loadManifest } from '../../src/dataset/manifest.js';
-import { datasetHash } from '../../src/dataset/hash.js';
-import { DEFAULT_THRESHOLDS } from '../../src/metrics/types.js';
 import type { MatcherPlugin } from '../../src/plugins/contract.js';
 import { pairPreviewPaths, writePairPreview } from '../../src/report/preview.js';
 import { selfTime } from '../../src/runner/execute.js';
-import { enumerateJobs } from '../../src/runner/jobs.js';
-import { planRun, type RunPlan } from '../../src/runner/plan.js';
 import { executeRun, pairRegions } from '../../src/runner/run.js';
 import { truthOnlyScores, unscoredPair } from '../../src/runner/broken-pair.js';
 import { loadPair } from '../../src/dataset/load.js';
 import { aggregate } from '../../src/stats/aggregate.js';
 import { writeDataset, type WrittenDataset } from '../dataset/fixture.js';
+import { planWith } from './plan-helpers.js';
 
 const root = mkdtempSync(join(tmpdir(), 'parallax-integrate-'));
 afterAll(() => rmSync(root, { recursive: true, force: true }));
 
-async function planWith(ds: WrittenDataset, plugins: MatcherPlugin[], runDir: string): Promise<RunPlan> {
-  const m = loadManifest(ds.dir);
-  const plan = await planRun(
-    { datasets: [ds.dir], matchers: ['block'], matcherEntries: [], predictions: [], thresholds: [...DEFAULT_THRESHOLDS], regions: { ...DEFAULT_REGION_PARAMS }, out: runDir, baseDir: root },
-    root,
-  );
-  const configs = plugins.map((p) => ({ kind: 'matcher' as const, label: p.id, matcherId: p.id, params: {}, codeHash: 'test', version: '1', plugin: p }));
-  const jobs = enumerateJobs([{ name: m.name, pairIds: m.pairs.map((p) => p.id) }], configs.map((c) => c.label));
-  return { ...plan, datasets: [{ path: ds.dir, manifest: m, hash: await datasetHash(m) }], configs, jobs };
-}
 
 const sleep = (ms: number) => new Promise((r) => setTimeout(r, ms));
 
@@ -79,7 +66,7 @@ describe('match time', () => {
       },
     };
     const runDir = join(root, 'run-time');
-    await executeRun(await planWith(ds, [reporting, silent], runDir));
+    await executeRun(await planWith(ds, [reporting, silent], runDir, root));
     const results = readFileSync(join(runDir, 'results.jsonl'), 'utf8').trim().split('\n').map((l) => JSON.parse(l) as JobResult);
     const rep = results.find((r) => r.matcher === 'reporting')!;
     expect(rep.time_ms).toBe(5);
@@ -106,7 +93,7 @@ describe('pair thumbnails for the report', () => {
   it('are written once per pair, equal to writePairPreview of the loaded pair, and kept when they exist', async () => {
     const ds = writeDataset(join(root, 'ds-thumbs'), { ids: ['bay-1', 'bay-2'] });
     const runDir = join(root, 'run-thumbs');
-    const plan = await planWith(ds, [oracle(ds, 'a'), oracle(ds, 'b')], runDir);
+    const plan = await planWith(ds, [oracle(ds, 'a'), oracle(ds, 'b')], runDir, root);
     // bay-2 already has thumbnails (as after an interrupted run): they must not be rewritten.
     const kept = pairPreviewPaths(runDir, 'dock-test', 'bay-2');
     mkdirSync(join(kept.left, '..'), { recursive: true });
@@ -189,7 +176,7 @@ it('the run folder keeps no thumbnails for a broken pair', async () => {
   const runDir = join(root, 'run-broken');
   const errors: string[] = [];
   const ok: MatcherPlugin = { id: 'oracle', summary: 'truth', version: '1', params: [], match: (input) => truthOf(ds, input.source!.pairId) };
-  const out = await executeRun(await planWith(ds, [ok], runDir), { onPairError: (_d, _p, msg) => errors.push(msg) });
+  const out = await executeRun(await planWith(ds, [ok], runDir, root), { onPairError: (_d, _p, msg) => errors.push(msg) });
   expect(errors).toHaveLength(1);
   expect(errors[0]).toContain(join(ds.dir, 'bay-1/left.png'));
   expect(out.brokenPairs.map((b) => b.pair)).toEqual(['bay-1']);

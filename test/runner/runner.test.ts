@@ -13,14 +13,13 @@ import { validateOutput, oneLineError } from '../../src/runner/execute.js';
 import { enumerateJobs, groupByPair, jobKeyString } from '../../src/runner/jobs.js';
 import { parseJournal } from '../../src/runner/journal.js';
 import { startPeakSampler } from '../../src/runner/memory.js';
-import { planRun, type RunPlan } from '../../src/runner/plan.js';
+import { planRun } from '../../src/runner/plan.js';
 import { executeRun } from '../../src/runner/run.js';
-import { loadManifest } from '../../src/dataset/manifest.js';
-import { datasetHash } from '../../src/dataset/hash.js';
 import { encodePfm } from '../../src/io/pfm.js';
 import { encodeNpy } from '../../src/io/npy.js';
 import { encodePngDisparity } from '../../src/io/png.js';
 import { writeDataset, type WrittenDataset } from '../dataset/fixture.js';
+import { planWith } from './plan-helpers.js';
 
 const root = mkdtempSync(join(tmpdir(), 'parallax-runner-'));
 afterAll(() => rmSync(root, { recursive: true, force: true }));
@@ -126,22 +125,12 @@ const thrower: MatcherPlugin = {
 };
 const shortOut: MatcherPlugin = { id: 'short', summary: 'wrong size', version: '1', params: [], match: () => new Float32Array(10) };
 
-async function planWith(ds: WrittenDataset, plugins: MatcherPlugin[], runDir: string): Promise<RunPlan> {
-  const m = loadManifest(ds.dir);
-  const plan = await planRun(
-    { datasets: [ds.dir], matchers: ['block'], matcherEntries: [], predictions: [], thresholds: [...DEFAULT_THRESHOLDS], regions: { ...DEFAULT_REGION_PARAMS }, out: runDir, baseDir: root },
-    root,
-  );
-  const configs = plugins.map((p) => ({ kind: 'matcher' as const, label: p.id, matcherId: p.id, params: {}, codeHash: 'test', version: '1', plugin: p }));
-  const jobs = enumerateJobs([{ name: m.name, pairIds: m.pairs.map((p) => p.id) }], configs.map((c) => c.label));
-  return { ...plan, datasets: [{ path: ds.dir, manifest: m, hash: await datasetHash(m) }], configs, jobs };
-}
 
 describe('executeRun', () => {
   it('scores a perfect matcher at zero error and records crashing / wrong-size matchers as failed', async () => {
     const ds = writeDataset(join(root, 'ds-run'));
     const runDir = join(root, 'run-1');
-    const plan = await planWith(ds, [thrower, oracle(ds), shortOut], runDir);
+    const plan = await planWith(ds, [thrower, oracle(ds), shortOut], runDir, root);
     const seen: string[] = [];
     const out = await executeRun(plan, { onJob: (r) => seen.push(`${r.pair}/${r.matcher}`) });
     // 2 pairs x 3 configurations, pair by pair, labels sorted within a pair.
@@ -183,7 +172,7 @@ describe('executeRun', () => {
     const ds = writeDataset(join(root, 'ds-abort'));
     const runDir = join(root, 'run-abort');
     const ac = new AbortController();
-    const plan = await planWith(ds, [oracle(ds)], runDir);
+    const plan = await planWith(ds, [oracle(ds)], runDir, root);
     const out = await executeRun(plan, { signal: ac.signal, onJob: () => ac.abort() });
     expect(out.aborted).toBe(true);
     expect(out.results).toHaveLength(1);
