@@ -3,6 +3,9 @@
  * manifest references, streamed (files are never held whole in memory).
  * Layout of the hashed stream: manifest bytes, then for each distinct referenced
  * file in sorted relative-path order: "\n<relative path>\n" followed by its bytes.
+ * With `markUnreadable` (runs, which go on past broken pairs), a file that cannot be read
+ * contributes "<unreadable CODE>" in place of its bytes instead of failing, so the hash
+ * still changes once the file is fixed (and --resume then refuses the old run).
  */
 import { createHash } from 'node:crypto';
 import { createReadStream } from 'node:fs';
@@ -27,22 +30,26 @@ export function referencedFiles(m: Manifest): string[] {
   });
 }
 
-function streamInto(hash: ReturnType<typeof createHash>, file: string): Promise<void> {
+function streamInto(hash: ReturnType<typeof createHash>, file: string, markUnreadable: boolean): Promise<void> {
   return new Promise((resolveP, reject) => {
     const s = createReadStream(file);
     s.on('data', (chunk) => hash.update(chunk));
-    s.on('error', (e: NodeJS.ErrnoException) => reject(new InputError(file, `cannot read (${e.code ?? e.message})`)));
+    s.on('error', (e: NodeJS.ErrnoException) => {
+      if (!markUnreadable) return reject(new InputError(file, `cannot read (${e.code ?? e.message})`));
+      hash.update(`<unreadable ${e.code ?? 'error'}>`);
+      resolveP();
+    });
     s.on('end', () => resolveP());
   });
 }
 
 /** sha256 hex of the dataset (see module comment). */
-export async function datasetHash(m: Manifest): Promise<string> {
+export async function datasetHash(m: Manifest, opts: { markUnreadable?: boolean } = {}): Promise<string> {
   const hash = createHash('sha256');
   hash.update(readManifestBytes(m.file));
   for (const f of referencedFiles(m)) {
     hash.update(`\n${relative(m.dir, f).split('\\').join('/')}\n`);
-    await streamInto(hash, f);
+    await streamInto(hash, f, opts.markUnreadable === true);
   }
   return hash.digest('hex');
 }

@@ -6,7 +6,7 @@ import { resolve } from 'node:path';
 import { InputError, UsageError } from '../core/errors.js';
 import type { ParamValue } from '../core/params.js';
 import type { RegionParams } from '../core/regions.js';
-import { runDatasetHash } from './dataset-hash.js';
+import { datasetHash } from '../dataset/hash.js';
 import { loadManifest, sortedPairs, type Manifest } from '../dataset/manifest.js';
 import type { MatcherPlugin } from '../plugins/contract.js';
 import { resolveMatcherEntries, resolveMatchers, type MatcherConfig, type MatcherSource } from '../plugins/registry.js';
@@ -114,7 +114,7 @@ export async function planRun(settings: RunSettings, cwd = process.cwd()): Promi
     const other = names.get(manifest.name);
     if (other !== undefined) throw new UsageError('--dataset', `${path} and ${other} are both named "${manifest.name}"; dataset names must differ`);
     names.set(manifest.name, path);
-    datasets.push({ path, manifest, hash: await runDatasetHash(manifest) });
+    datasets.push({ path, manifest, hash: await datasetHash(manifest, { markUnreadable: true }) });
   }
   const configs = await resolveConfigs(settings);
   const name = safeRunName(settings.name ?? [datasets[0]!.manifest.name, ...configs.map((c) => c.label)].join('-'));

@@ -186,4 +186,21 @@ describe('datasetHash', () => {
     writeFileSync(join(d, 't.pfm'), 'TRUTH2');
     expect(await datasetHash(m)).not.toBe(before);
   });
+
+  it('fails on an unreadable file, or marks it in the same layout with markUnreadable', async () => {
+    const d = dsDir(JSON.stringify({ name: 'h2', disparityRange: [0, 4], pairs: [{ id: 'a', left: 'l.png', right: 'r.png', truth: 't.pfm' }] }));
+    writeFileSync(join(d, 'l.png'), 'LEFT');
+    writeFileSync(join(d, 't.pfm'), 'TRUTH'); // r.png missing
+    const m = loadManifest(d);
+    await expect(datasetHash(m)).rejects.toThrow(/r\.png: cannot read \(ENOENT\)/);
+    // Independent recomputation as above, with the documented marker for the missing file.
+    const h = createHash('sha256');
+    h.update(readFileSync(join(d, 'dataset.json')));
+    for (const [rel, body] of [['l.png', 'LEFT'], ['r.png', '<unreadable ENOENT>'], ['t.pfm', 'TRUTH']]) h.update(`\n${rel}\n${body}`);
+    const marked = h.digest('hex');
+    expect(await datasetHash(m, { markUnreadable: true })).toBe(marked);
+    // Once the file is there, the hash differs (so --resume refuses a run taken before).
+    writeFileSync(join(d, 'r.png'), 'RIGHT');
+    expect(await datasetHash(m, { markUnreadable: true })).not.toBe(marked);
+  });
 });
