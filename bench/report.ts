@@ -17,7 +17,7 @@ import { mkdtemp, rm, stat } from 'node:fs/promises';
 import { cpus, loadavg, tmpdir } from 'node:os';
 import { dirname, join } from 'node:path';
 import { fileURLToPath } from 'node:url';
-import { writeHtmlReport } from '../src/report/html.js';
+import { writeHtmlReport } from '../src/report/html/index.js';
 import { buildSyntheticRun } from '../test/report/synthetic-run.js';
 
 async function timed(runDir: string): Promise<{ secs: number; cpu: number; mb: number }> {

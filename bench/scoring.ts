@@ -14,7 +14,7 @@ import { join } from 'node:path';
 import { performance } from 'node:perf_hooks';
 import { buildRegions } from '../src/dataset/regions.js';
 import { scorePair } from '../src/metrics/score.js';
-import { DEFAULT_THRESHOLDS } from '../src/metrics/types.js';
+import { DEFAULT_QUANTILES, DEFAULT_THRESHOLDS } from '../src/metrics/catalogue.js';
 import { DEFAULT_REGION_PARAMS, REGION_IDS } from '../src/core/regions.js';
 import { encodeNpy } from '../src/io/npy.js';
 import { mulberry32 as rng } from '../src/core/prng.js';
@@ -121,7 +121,7 @@ def score():
         res = {'pixels': px, 'coverage': 100.0 * nv / px if px else None,
                'epe': float(a.mean()) if nv else None, 'rmse': float(np.sqrt(np.dot(e, e) / nv)) if nv else None,
                'bias': float(e.mean()) if nv else None, 'rates': [100.0 * b / px if px else None for b in bad],
-               'q': [float(v) for v in np.quantile(a, [0.5, 0.75, 0.9, 0.99])] if nv else None}
+               'q': [float(v) for v in np.quantile(a, [${DEFAULT_QUANTILES.map((q) => q / 100).join(', ')}])] if nv else None}
         ok = m & dok & pos
         if ok.any():
             zt = Zt[ok]; dz = Zp[ok] - zt
@@ -148,12 +148,12 @@ export default async function (): Promise<void> {
   const regions = buildRegions(truth, gray, undefined, W, H, params);
 
   const tRegions = best(RUNS, () => void buildRegions(truth, gray, undefined, W, H, params));
-  const tScore = best(RUNS, () => void scorePair(pred, truth, regions, { thresholds, camera: CAMERA }));
+  const tScore = best(RUNS, () => void scorePair(pred, truth, regions, { thresholds, quantiles: DEFAULT_QUANTILES, camera: CAMERA }));
   const tBoth = best(RUNS, () => {
     const rg = buildRegions(truth, gray, undefined, W, H, params);
-    scorePair(pred, truth, rg, { thresholds, camera: CAMERA });
+    scorePair(pred, truth, rg, { thresholds, quantiles: DEFAULT_QUANTILES, camera: CAMERA });
   });
-  const ours = scorePair(pred, truth, regions, { thresholds, camera: CAMERA });
+  const ours = scorePair(pred, truth, regions, { thresholds, quantiles: DEFAULT_QUANTILES, camera: CAMERA });
 
   // Memory bound: copy the bytes the scorer reads (truth, prediction, region bytes).
   const cT = new Float32Array(n);
@@ -194,7 +194,7 @@ export default async function (): Promise<void> {
       [a.coverage, b.coverage], [a.epe, b.epe], [a.rmse, b.rmse], [a.bias, b.bias],
       [a.depth_relerr, b.depth_relerr], [a.depth_rmse_m, b.depth_rmse_m],
       ...a.rates.map((v, j): [number | null, number | null] => [v, b.rates[j]]),
-      ...[a.q50, a.q75, a.q90, a.q99].map((v, j): [number | null, number | null] => [v, b.q ? b.q[j] : null]),
+      ...a.quantiles.map((v, j): [number | null, number | null] => [v, b.q ? b.q[j] : null]),
     ];
     for (const [x, y] of pairs) {
       if (x === null || y === null) {
@@ -211,7 +211,7 @@ export default async function (): Promise<void> {
   const counts = REGION_IDS.map((id) => `${id} ${ours[id].figures.pixels}`).join(', ');
   const gbs = (bytes / (tCopy.wall / 1000)) / 1e9;
   const lines = [
-    `${W}x${H} pair (${mp.toFixed(2)} MP), ${thresholds.length} thresholds, 4 quantiles, depth figures on; ` +
+    `${W}x${H} pair (${mp.toFixed(2)} MP), ${thresholds.length} thresholds, ${DEFAULT_QUANTILES.length} quantiles, depth figures on; ` +
       `best of ${RUNS} after warm-up. CPU ms = process CPU time (the machine is shared; wall time counts waits).`,
     `Region pixels: ${counts}. Load average at start: ${loadavg()[0].toFixed(1)} on ${cpus().length} cores.`,
     '',

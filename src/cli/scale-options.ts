@@ -12,7 +12,7 @@ import type { Argv } from 'yargs';
 import { UsageError } from '../core/errors.js';
 import { defaultCacheDir, DEFAULT_CACHE_MAX_MB } from '../runner/cache.js';
 import { planRun, type RunPlan } from '../runner/plan.js';
-import { runInfo } from '../runner/provenance.js';
+import { runRecord } from '../runner/provenance.js';
 import { configDifference, resumeSettings } from '../runner/resume.js';
 import type { RunOutcome } from '../runner/run.js';
 import type { ScaleOptions } from '../runner/scale.js';
@@ -65,7 +65,7 @@ export async function resumePlan(dirArg: string, scale: ScaleOptions, cwd = proc
   const dir = resolve(cwd, dirArg);
   const { settings, shard, info } = resumeSettings(dir);
   const plan = await planRun(settings, cwd);
-  const diff = configDifference(info.config, runInfo(plan, new Date()).config);
+  const diff = configDifference(info.config, runRecord(plan, new Date()).config);
   if (diff) throw new UsageError('--resume', `${dir} was started with another configuration: ${diff}; start a new run instead`);
   return { ...plan, scale: { ...scale, resume: true, ...(shard ? { shard } : {}) } };
 }

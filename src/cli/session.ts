@@ -75,7 +75,7 @@ export async function runSession(plan: RunPlan, opts: SessionOptions): Promise<R
       JSON.stringify({ runDir: outcome.runDir, status: outcome.info.status, jobs: outcome.info.jobs, broken_pairs: outcome.brokenPairs, files: outcome.outputs.files, summary }, null, 2) + '\n',
     );
   } else if (!opts.quiet) {
-    const rows = summary.length ? summary : aggregate(outcome.results, { thresholds: [...plan.thresholds], ci: false });
+    const rows = summary.length ? summary : aggregate(outcome.results, { thresholds: plan.thresholds, quantiles: plan.quantiles, ci: false });
     process.stdout.write('\n' + consoleTable(rows, plan.thresholds));
     const { ok, failed } = outcome.info.jobs;
     process.stdout.write(

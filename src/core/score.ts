@@ -40,10 +40,8 @@ export interface RegionFigures {
   bias: number | null;
   /** Bad-pixel rates in %, one per threshold, same order as the thresholds. */
   rates: (number | null)[];
-  q50: number | null;
-  q75: number | null;
-  q90: number | null;
-  q99: number | null;
+  /** Quantiles of |error| in px, one per quantile level, same order as the levels. */
+  quantiles: (number | null)[];
   depth_relerr: number | null;
   depth_rmse_m: number | null;
 }
@@ -75,7 +73,7 @@ export interface JobResult {
    * null when failed before matching.
    */
   time_ms: number | null;
-  /** Added: wall time around match() (ms), including any overhead the self-reported time leaves out. Absent in older journals. */
+  /** Wall time around match() (ms), including any overhead the self-reported time leaves out; absent when not measured. */
   wall_ms?: number | null;
   /** Peak memory (MB) while matching, null when unknown. */
   peak_mb: number | null;
@@ -85,6 +83,8 @@ export interface JobResult {
   scores: PairScore;
   /** Thresholds used for the rates, in order. */
   thresholds: number[];
+  /** Quantile levels (%) of figures.quantiles, in order. */
+  quantiles: number[];
   /** The manifest's optional group of the pair (e.g. one recorded sequence); intervals resample groups. */
   group?: string;
   /** The manifest's optional tags of the pair; summaries can be split by tag. */

@@ -12,7 +12,9 @@ import { z } from 'zod';
 import type { Camera } from '../core/camera.js';
 import { InputError } from '../core/errors.js';
 import type { DisparityRange, PairEntry } from '../core/pair.js';
-import { quote } from '../io/text.js';
+import { issueText, type ZodIssueLike } from '../core/text.js';
+import { byCodeUnits } from '../core/order.js';
+export { formatFieldPath, issueMessage, issueText, type ZodIssueLike } from '../core/text.js';
 
 export const MANIFEST_FILE = 'dataset.json';
 
@@ -58,57 +60,19 @@ export const manifestSchema = z.strictObject({
 
 export type ManifestJson = z.infer<typeof manifestSchema>;
 
-/** A loaded manifest with absolute paths. */
-export interface Manifest {
+/**
+ * A loaded manifest: the schema's fields, with the file and folder it was read from and
+ * the pairs' paths resolved to absolute paths (PairEntry: the schema's pair, resolved).
+ */
+export type Manifest = Readonly<Omit<ManifestJson, 'pairs' | 'disparityRange'>> & {
   /** Absolute path of the manifest file. */
   readonly file: string;
   /** Absolute folder of the manifest (paths are relative to it). */
   readonly dir: string;
-  readonly name: string;
-  readonly description?: string;
-  readonly camera?: Camera;
   readonly disparityRange: DisparityRange;
-  readonly truthEncoding?: { readonly scale: number; readonly invalid: number };
   /** Pairs in manifest order, paths resolved to absolute paths. */
   readonly pairs: readonly PairEntry[];
-}
-
-/** Format a zod issue path as `pairs[2].truth`; a key that is not a plain name is quoted (io/text.ts quote), so the text stays on one line. */
-export function formatFieldPath(path: readonly PropertyKey[]): string {
-  let s = '';
-  for (const k of path) {
-    if (typeof k === 'number') s += `[${k}]`;
-    else {
-      const name = /^[A-Za-z_][A-Za-z0-9_]{0,39}$/.test(String(k)) ? String(k) : quote(String(k));
-      s += s ? `.${name}` : name;
-    }
-  }
-  return s || '(top level)';
-}
-
-/**
- * One line for a zod issue. Unknown keys come from the file and may hold newlines or
- * control characters: they are quoted with io/text.ts quote() here, at the source.
- */
-export function issueText(issue: ZodIssueLike): string {
-  return `field ${formatFieldPath(issue.path)}: ${issueMessage(issue)}`;
-}
-
-/** A zod issue as a line of text, without the field (see issueText). */
-export function issueMessage(issue: ZodIssueLike): string {
-  if (issue.code === 'unrecognized_keys' && Array.isArray(issue.keys)) {
-    return `unknown key${issue.keys.length === 1 ? '' : 's'} ${issue.keys.map((k) => quote(String(k))).join(', ')}`;
-  }
-  return issue.message.replace(/[\x00-\x1f\x7f]+/g, ' ');
-}
-
-/** The parts of a zod issue that issueText reads. */
-export interface ZodIssueLike {
-  code?: string;
-  message: string;
-  path: readonly PropertyKey[];
-  keys?: readonly string[];
-}
+};
 
 /** Resolve a folder or a file argument to the manifest file path. */
 export function manifestPath(pathOrDir: string): string {
@@ -263,5 +227,5 @@ export function pairCamera(m: Manifest, p: PairEntry): Camera | undefined {
 
 /** Pairs sorted by id (code-unit order), the order every run and sum uses. */
 export function sortedPairs(m: Manifest): PairEntry[] {
-  return [...m.pairs].sort((a, b) => (a.id < b.id ? -1 : a.id > b.id ? 1 : 0));
+  return [...m.pairs].sort((a, b) => byCodeUnits(a.id, b.id));
 }

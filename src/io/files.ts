@@ -12,7 +12,7 @@ import type { DecodeOptions } from './limits.js';
 import { decodeNpy } from './npy.js';
 import { decodePfm } from './pfm.js';
 import { decodePng, decodePngDisparity } from './png.js';
-import { quote } from './text.js';
+import { quote } from '../core/text.js';
 
 /** A binary mask: 1 where the file's pixel is non-zero, else 0. */
 export interface MaskImage {

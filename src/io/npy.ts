@@ -20,7 +20,7 @@ import { InputError } from '../core/errors.js';
 import type { FloatImage } from '../core/image.js';
 import { checkImageSize, HOST_LITTLE_ENDIAN, nonFiniteToNaN, pixelLimit, type DecodeOptions } from './limits.js';
 import { assertFloatImage } from './pfm.js';
-import { quote } from './text.js';
+import { quote } from '../core/text.js';
 
 const MAGIC = [0x93, 0x4e, 0x55, 0x4d, 0x50, 0x59]; // \x93NUMPY
 

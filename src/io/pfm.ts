@@ -20,7 +20,7 @@
  */
 import { InputError } from '../core/errors.js';
 import type { FloatImage } from '../core/image.js';
-import { quote } from './text.js';
+import { quote } from '../core/text.js';
 import { checkImageSize, HOST_LITTLE_ENDIAN, nonFiniteToNaN, pixelLimit, type DecodeOptions } from './limits.js';
 
 const MAX_TOKEN = 40;

@@ -12,7 +12,8 @@
  * - epe = sum|e| / valid; rmse = sqrt(sum e^2 / valid); bias = sum e / valid (px).
  * - bad[t] = pixels with |e| > t (STRICT, float64) or an invalid prediction;
  *   rate = 100 * bad / pixels (%).
- * - q50..q99: quantiles of |e| over valid predictions, numpy's default 'linear' method,
+ * - quantiles (one per level of opts.quantiles, in %): of |e| over valid predictions,
+ *   numpy's default 'linear' method,
  *   found by selection, not by sorting (segment-stats.ts: radix-histogram buckets, then
  *   Floyd-Rivest selection inside the few buckets holding the wanted ranks).
  * - Depth, only with opts.camera: Z = focalPx * baselineM / (d + cxShiftPx).
@@ -46,7 +47,8 @@
  */
 import { REGION_BIT, REGION_IDS, type RegionMap } from '../core/regions.js';
 import type { PairScore, RegionFigures, RegionSums } from '../core/score.js';
-import { QUANTILES, type ScoreOptions } from './types.js';
+import type { MetricSet } from './catalogue.js';
+import type { ScoreOptions } from './types.js';
 import { groupStats } from './segment-stats.js';
 
 /** Default opts.depthEps (px): truth with d + cxShift <= this is left out of depth. */
@@ -71,6 +73,10 @@ export function scorePair(
   for (const t of thresholds) {
     if (!Number.isFinite(t)) throw new RangeError(`scorePair: threshold ${t} is not finite`);
   }
+  for (const q of opts.quantiles) {
+    if (!(q >= 0 && q <= 100)) throw new RangeError(`scorePair: quantile level ${q} % is not in [0, 100]`);
+  }
+  const levels = opts.quantiles.map((q) => q / 100);
 
   // Pass 1: pixels per pattern, and the partition offsets of the error buffer.
   const count = countPatterns(bits);
@@ -121,7 +127,7 @@ export function scorePair(
     member[nSegs] = m;
     nSegs++;
   }
-  const stats = groupStats(vals, segStart, segEnd, member, nSegs, REGION_IDS.length, thresholds, QUANTILES);
+  const stats = groupStats(vals, segStart, segEnd, member, nSegs, REGION_IDS.length, thresholds, levels);
 
   const out = {} as PairScore;
   REGION_IDS.forEach((id, g) => {
@@ -153,24 +159,20 @@ export function scorePair(
       depthSumSq,
       depthFail,
     };
-    out[id] = { sums: s, figures: figuresFromSums(s, thresholds, st.quantiles) };
+    out[id] = { sums: s, figures: figuresFromSums(s, opts, st.quantiles) };
   });
   return out;
 }
 
 /**
  * Figures from sums (per pair, or pooled over pairs with quantiles = null).
- * `quantiles` are the values for QUANTILES (q50, q75, q90, q99) or null.
+ * `quantiles` are the values for set.quantiles, in order, or null (no quantiles).
  * Rules in the file comment: null figures for an empty region; null error figures and
  * quantiles with no valid prediction; depth figures null when depthCount is 0.
  */
-export function figuresFromSums(
-  sums: RegionSums,
-  thresholds: readonly number[],
-  quantiles: readonly number[] | null,
-): RegionFigures {
-  if (sums.bad.length !== thresholds.length) {
-    throw new RangeError(`figuresFromSums: ${sums.bad.length} bad counts for ${thresholds.length} thresholds`);
+export function figuresFromSums(sums: RegionSums, set: MetricSet, quantiles: readonly number[] | null): RegionFigures {
+  if (sums.bad.length !== set.thresholds.length) {
+    throw new RangeError(`figuresFromSums: ${sums.bad.length} bad counts for ${set.thresholds.length} thresholds`);
   }
   const { pixels, valid } = sums;
   const some = pixels > 0;
@@ -184,10 +186,7 @@ export function figuresFromSums(
     rmse: anyValid ? Math.sqrt(sums.sumSq / valid) : null,
     bias: anyValid ? sums.sumErr / valid : null,
     rates: sums.bad.map((b) => (some ? (100 * b) / pixels : null)),
-    q50: q ? q[0] : null,
-    q75: q ? q[1] : null,
-    q90: q ? q[2] : null,
-    q99: q ? q[3] : null,
+    quantiles: set.quantiles.map((_, k) => (q ? (q[k] ?? null) : null)),
     depth_relerr: depth ? sums.depthSumRel / sums.depthCount : null,
     depth_rmse_m: depth ? Math.sqrt(sums.depthSumSq / sums.depthCount) : null,
   };

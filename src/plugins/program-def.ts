@@ -6,6 +6,7 @@ import { z } from 'zod';
 import { UsageError } from '../core/errors.js';
 import type { ParamSpec } from './contract.js';
 import { checkParamSchema } from './params.js';
+import { issuesLine } from '../core/text.js';
 
 const paramName = z.string().regex(/^[A-Za-z_][A-Za-z0-9_]*$/, 'letters, digits and _ only, not starting with a digit');
 
@@ -100,26 +101,13 @@ export const programMatcherDefSchema = z
 export type ProgramMatcherDefInput = z.input<typeof programMatcherDefSchema>;
 export type ProgramMatcherDef = z.output<typeof programMatcherDefSchema>;
 
-/** Format zod issues as one line: `path.to.field: message; ...`. */
-export function zodIssuesLine(issues: readonly { path: readonly PropertyKey[]; message: string }[], prefix: string): string {
-  return issues
-    .map((i) => {
-      const path = [prefix, ...i.path.map((p) => (typeof p === 'number' ? `[${p}]` : String(p)))]
-        .filter((s) => s !== '')
-        .join('.')
-        .replace(/\.\[/g, '[');
-      return `${path}: ${i.message.replace(/\s+/g, ' ')}`;
-    })
-    .join('; ');
-}
-
 /**
  * Validate a program definition. `option` names where it came from (e.g. `matchers[2].program`);
  * errors are one-line UsageErrors naming each bad field.
  */
 export function parseProgramMatcherDef(raw: unknown, option = 'program'): ProgramMatcherDef {
   const r = programMatcherDefSchema.safeParse(raw);
-  if (!r.success) throw new UsageError(option, zodIssuesLine(r.error.issues, ''));
+  if (!r.success) throw new UsageError(option, issuesLine(r.error.issues));
   checkParamSchema(`params`, r.data.id, r.data.params as ParamSpec[], option);
   return r.data;
 }

@@ -14,7 +14,8 @@ import type { MatcherPlugin, ParamValue } from './contract.js';
 import { loadModulePlugin, locateModule, isPackageName } from './module-plugin.js';
 import { configLabel, expandRawSpec, expandSweep, looksLikeModulePath, parseMatcherSpec, quote, type RawSpec } from './params.js';
 import { programCodeHash, programMatcher } from './program.js';
-import { parseProgramMatcherDef, programMatcherDefSchema, zodIssuesLine, type ProgramMatcherDef } from './program-def.js';
+import { parseProgramMatcherDef, programMatcherDefSchema, type ProgramMatcherDef } from './program-def.js';
+import { issuesLine } from '../core/text.js';
 
 export { programMatcher } from './program.js';
 
@@ -271,7 +272,7 @@ export async function resolveMatcherEntries(
     const where = `${option}[${i}]`;
     const r = matcherEntrySchema.safeParse(entries[i]);
     if (!r.success) {
-      throw new UsageError(where, `expected a spec string, {"id", "params"} or {"program", "params"}; ${zodIssuesLine(r.error.issues, '')}`);
+      throw new UsageError(where, `expected a spec string, {"id", "params"} or {"program", "params"}; ${issuesLine(r.error.issues)}`);
     }
     const e = r.data;
     if (typeof e === 'string') {

@@ -3,9 +3,9 @@
  * and the console table. Our own layout: a verdict line, the gates, a short table of
  * headline figures, the pairs that changed most, and the full table folded away.
  */
-import type { Comparison, ConfigComparison, GateOutcome, MetricDelta } from '../stats/compare.js';
-import { metricUnit, COST_METRICS } from '../stats/metrics.js';
-import { thresholdName } from '../metrics/types.js';
+import type { Comparison, ConfigComparison, MetricDelta } from '../stats/compare.js';
+import type { GateOutcome } from '../stats/gates.js';
+import { entryOf, thresholdName } from '../metrics/catalogue.js';
 
 /** Escape text for a Markdown table cell: HTML-significant characters, pipes, backticks, newlines. */
 export function mdCell(s: string): string {
@@ -37,7 +37,8 @@ export function fmtP(p: number | null): string {
 }
 
 function metricLabel(metric: string): string {
-  const u = metricUnit(metric);
+  const unit = entryOf(metric)?.unit;
+  const u = unit === undefined || unit === 'fraction' ? '' : unit;
   const name = metric === 'bias' ? '|bias|' : metric;
   return u ? `${name} (${u})` : name;
 }
@@ -53,7 +54,11 @@ export function headlineRows(cfg: ConfigComparison, thresholds: readonly number[
 
 /** Every row with data; cost figures only once (under `known`), they do not depend on the region. */
 export function allRows(cfg: ConfigComparison): MetricDelta[] {
-  return cfg.deltas.filter((d) => d.n > 0 && (!(COST_METRICS as readonly string[]).includes(d.metric) || d.region === 'known'));
+  const perJob = (id: string): boolean => {
+    const e = entryOf(id);
+    return e !== undefined && 'job' in e.read;
+  };
+  return cfg.deltas.filter((d) => d.n > 0 && (!perJob(d.metric) || d.region === 'known'));
 }
 
 function verdict(d: MetricDelta): string {

@@ -1,38 +1,18 @@
 /**
  * pairs.csv: the tidy per-pair table, one row per configuration, pair and region.
- * Columns, in this order:
- *   matcher,dataset,pair,region,status,pixels,coverage,epe,rmse,bias,<over<t>px per threshold>,
- *   q50,q75,q90,q99,depth_relerr,depth_rmse_m,time_ms,peak_mb
- * An empty figure (null) is an empty cell. Rows are sorted by matcher, dataset, pair
+ * Columns: matcher, dataset, pair, region, status, pixels, then one column per metric
+ * of the run's metric set in catalogue order (src/metrics/catalogue.ts). An empty
+ * figure (null) is an empty cell. Rows are sorted by matcher, dataset, pair
  * (code-unit order), then region in REGION_IDS order. A pure function of the results.
  */
 import { REGION_IDS } from '../core/regions.js';
 import type { JobResult } from '../core/score.js';
-import { thresholdName } from '../metrics/types.js';
+import { levelMapOf, metricsOf, metricValue, type MetricSet } from '../metrics/catalogue.js';
+import { byCodeUnits } from '../core/order.js';
 import { csvText, type CsvCell } from './csv.js';
 
-export function pairsCsvHeader(thresholds: readonly number[]): string[] {
-  return [
-    'matcher',
-    'dataset',
-    'pair',
-    'region',
-    'status',
-    'pixels',
-    'coverage',
-    'epe',
-    'rmse',
-    'bias',
-    ...thresholds.map(thresholdName),
-    'q50',
-    'q75',
-    'q90',
-    'q99',
-    'depth_relerr',
-    'depth_rmse_m',
-    'time_ms',
-    'peak_mb',
-  ];
+export function pairsCsvHeader(set: MetricSet): string[] {
+  return ['matcher', 'dataset', 'pair', 'region', 'status', 'pixels', ...metricsOf(set).map((m) => m.id)];
 }
 
 /** Round to 6 significant digits for the table (the journal keeps full precision). */
@@ -41,44 +21,21 @@ export function tableNumber(v: number | null | undefined): number | null {
   return Number(v.toPrecision(6));
 }
 
-function cmp(a: string, b: string): number {
-  return a < b ? -1 : a > b ? 1 : 0;
-}
-
-/** Rows of pairs.csv; `thresholds` chooses the rate columns (each result must have them). */
-export function pairsCsvRows(results: readonly JobResult[], thresholds: readonly number[]): CsvCell[][] {
-  const sorted = [...results].sort((a, b) => cmp(a.matcher, b.matcher) || cmp(a.dataset, b.dataset) || cmp(a.pair, b.pair));
+/** Rows of pairs.csv; `set` chooses the rate and quantile columns (a job lacking one has an empty cell). */
+export function pairsCsvRows(results: readonly JobResult[], set: MetricSet): CsvCell[][] {
+  const sorted = [...results].sort((a, b) => byCodeUnits(a.matcher, b.matcher) || byCodeUnits(a.dataset, b.dataset) || byCodeUnits(a.pair, b.pair));
+  const metrics = metricsOf(set);
   const rows: CsvCell[][] = [];
   for (const r of sorted) {
-    const idx = thresholds.map((t) => r.thresholds.indexOf(t));
+    const levels = levelMapOf(r, set);
     for (const region of REGION_IDS) {
       const f = r.scores[region].figures;
-      rows.push([
-        r.matcher,
-        r.dataset,
-        r.pair,
-        region,
-        r.status,
-        f.pixels,
-        tableNumber(f.coverage),
-        tableNumber(f.epe),
-        tableNumber(f.rmse),
-        tableNumber(f.bias),
-        ...idx.map((i) => (i < 0 ? null : tableNumber(f.rates[i]))),
-        tableNumber(f.q50),
-        tableNumber(f.q75),
-        tableNumber(f.q90),
-        tableNumber(f.q99),
-        tableNumber(f.depth_relerr),
-        tableNumber(f.depth_rmse_m),
-        tableNumber(r.time_ms),
-        tableNumber(r.peak_mb),
-      ]);
+      rows.push([r.matcher, r.dataset, r.pair, region, r.status, f.pixels, ...metrics.map((m) => tableNumber(metricValue(m, f, levels, r)))]);
     }
   }
   return rows;
 }
 
-export function pairsCsvText(results: readonly JobResult[], thresholds: readonly number[]): string {
-  return csvText(pairsCsvHeader(thresholds), pairsCsvRows(results, thresholds));
+export function pairsCsvText(results: readonly JobResult[], set: MetricSet): string {
+  return csvText(pairsCsvHeader(set), pairsCsvRows(results, set));
 }

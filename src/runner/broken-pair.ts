@@ -24,13 +24,14 @@ import { buildRegions } from '../dataset/regions.js';
 import { readDisparityFile, readImageFile, readMaskFile } from '../io/files.js';
 import { emptySums, figuresFromSums, scorePair } from '../metrics/score.js';
 import type { RunConfig } from './plan.js';
+import type { MetricSet } from '../metrics/catalogue.js';
 
 /** Scores of a pair that cannot be scored: every region empty (0 pixels, empty figures). */
-export function unscoredPair(thresholds: readonly number[]): PairScore {
+export function unscoredPair(set: MetricSet): PairScore {
   const out = {} as PairScore;
   for (const id of REGION_IDS) {
-    const sums = emptySums(thresholds.length);
-    out[id] = { sums, figures: figuresFromSums(sums, thresholds, null) };
+    const sums = emptySums(set.thresholds.length);
+    out[id] = { sums, figures: figuresFromSums(sums, set, null) };
   }
   return out;
 }
@@ -44,7 +45,7 @@ export function truthOnlyScores(
   leftGray: Float32Array | undefined,
   occlusion: Uint8Array | undefined,
   regionParams: RegionParams,
-  thresholds: readonly number[],
+  set: MetricSet,
   camera?: { focalPx: number; baselineM: number; cxShiftPx: number },
 ): PairScore {
   const n = truth.width * truth.height;
@@ -55,7 +56,7 @@ export function truthOnlyScores(
     const bits = regions.bits;
     for (let i = 0; i < n; i++) bits[i] = bits[i]! & clear;
   }
-  return scorePair(null, truth.data, regions, { thresholds, ...(camera ? { camera } : {}) });
+  return scorePair(null, truth.data, regions, { thresholds: set.thresholds, quantiles: set.quantiles, ...(camera ? { camera } : {}) });
 }
 
 async function tryRead<T>(f: () => Promise<T>): Promise<T | undefined> {
@@ -67,18 +68,18 @@ async function tryRead<T>(f: () => Promise<T>): Promise<T | undefined> {
 }
 
 /** Read what can be read of a broken pair and score it as all-invalid (see the file comment). */
-export async function brokenPairScores(m: Manifest, entry: PairEntry, regionParams: RegionParams, thresholds: readonly number[]): Promise<PairScore> {
+export async function brokenPairScores(m: Manifest, entry: PairEntry, regionParams: RegionParams, set: MetricSet): Promise<PairScore> {
   const truth = await tryRead(() => readDisparityFile(entry.truth, truthReadOptions(m)));
-  if (!truth) return unscoredPair(thresholds);
+  if (!truth) return unscoredPair(set);
   const same = (s: { width: number; height: number } | undefined): boolean => s !== undefined && s.width === truth.width && s.height === truth.height;
   const left = await tryRead(() => readImageFile(entry.left));
   const mask = entry.occlusion ? await tryRead(() => readMaskFile(entry.occlusion!)) : undefined;
   const camera = pairCamera(m, entry);
-  return truthOnlyScores(truth, same(left) ? toLuminance(left!) : undefined, same(mask) ? mask!.data : undefined, regionParams, thresholds, camera);
+  return truthOnlyScores(truth, same(left) ? toLuminance(left!) : undefined, same(mask) ? mask!.data : undefined, regionParams, set, camera);
 }
 
 /** The failed result of one configuration on a broken pair. */
-export function brokenPairResult(cfg: RunConfig, dataset: string, entry: PairEntry, error: string, scores: PairScore, thresholds: readonly number[]): JobResult {
+export function brokenPairResult(cfg: RunConfig, dataset: string, entry: PairEntry, error: string, scores: PairScore, set: MetricSet): JobResult {
   return {
     matcher: cfg.label,
     matcherId: cfg.matcherId,
@@ -90,7 +91,8 @@ export function brokenPairResult(cfg: RunConfig, dataset: string, entry: PairEnt
     time_ms: null,
     peak_mb: null,
     scores,
-    thresholds: [...thresholds],
+    thresholds: [...set.thresholds],
+    quantiles: [...set.quantiles],
     ...(entry.group !== undefined ? { group: entry.group } : {}),
     ...(entry.tags ? { tags: [...entry.tags] } : {}),
   };

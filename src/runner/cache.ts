@@ -21,6 +21,7 @@ import { join, resolve } from 'node:path';
 import { InputError } from '../core/errors.js';
 import type { ParamValue } from '../core/params.js';
 import { writeFileAtomic } from '../io/files.js';
+import { byCodeUnits } from '../core/order.js';
 
 /** Version of the key recipe and the entry layout; bump when either changes. */
 export const CACHE_FORMAT = 'parallax-disparity-cache/1';
@@ -231,7 +232,7 @@ export function cacheSummary(dir: string): CacheSummary {
 
 /** Remove least recently used entries until the folder holds at most maxBytes. */
 export function pruneCache(dir: string, maxBytes: number): { removed: number; freedBytes: number; entries: number; bytes: number } {
-  const list = listEntries(dir).sort((a, b) => a.mtimeMs - b.mtimeMs || (a.path < b.path ? -1 : 1));
+  const list = listEntries(dir).sort((a, b) => a.mtimeMs - b.mtimeMs || byCodeUnits(a.path, b.path));
   let total = 0;
   for (const e of list) total += e.bytes;
   let removed = 0;

@@ -13,6 +13,7 @@ import type { MatchInput } from '../plugins/contract.js';
 import { startPeakSampler } from './memory.js';
 import type { MatcherRunConfig, RunConfig } from './plan.js';
 import { readPrediction } from './predictions.js';
+import type { MetricSet } from '../metrics/catalogue.js';
 
 /** Longest error text kept in a result. */
 const MAX_ERROR_CHARS = 600;
@@ -107,7 +108,7 @@ export async function runJob(
   cfg: RunConfig,
   pair: LoadedPair,
   regions: RegionMap,
-  thresholds: readonly number[],
+  set: MetricSet,
   signal: AbortSignal,
   threads = 1,
 ): Promise<JobOutcome> {
@@ -131,20 +132,21 @@ export async function runJob(
       error = oneLineError(e);
     }
   }
-  return scoredOutcome(cfg, pair, regions, thresholds, { disparity, ...(error !== undefined ? { error } : {}), timeMs, ...(wallMs !== undefined ? { wallMs } : {}), peakMb });
+  return scoredOutcome(cfg, pair, regions, set, { disparity, ...(error !== undefined ? { error } : {}), timeMs, ...(wallMs !== undefined ? { wallMs } : {}), peakMb });
 }
 
-/** Added: score a matcher's output obtained elsewhere (a worker thread, the result cache). */
+/** Score a matcher's output obtained elsewhere (a worker thread, the result cache). */
 export function scoredOutcome(
   cfg: RunConfig,
   pair: LoadedPair,
   regions: RegionMap,
-  thresholds: readonly number[],
+  set: MetricSet,
   got: { disparity: Float32Array | null; error?: string; timeMs: number | null; wallMs?: number | null; peakMb: number | null; cached?: boolean },
 ): JobOutcome {
   const { disparity, error, timeMs, peakMb } = got;
   const scores = scorePair(disparity, pair.truth.data, regions, {
-    thresholds,
+    thresholds: set.thresholds,
+    quantiles: set.quantiles,
     ...(pair.camera ? { camera: pair.camera } : {}),
   });
   const result: JobResult = {
@@ -160,7 +162,8 @@ export function scoredOutcome(
     peak_mb: peakMb,
     ...(got.cached ? { cached: true } : {}),
     scores,
-    thresholds: [...thresholds],
+    thresholds: [...set.thresholds],
+    quantiles: [...set.quantiles],
     ...(pair.group !== undefined ? { group: pair.group } : {}),
     ...(pair.tags ? { tags: [...pair.tags] } : {}),
   };

@@ -6,7 +6,7 @@
  *     "matchers": ["block", "sgm:p2=[64,96]", { "id": "census", "params": { "window": [5, 7] } },
  *                  { "program": { ... } }],
  *     "predictions": [{ "dir": "preds", "label": "net-v2", "scale": 256 }],
- *     "thresholds": [0.5, 1, 2], "regions": { "flatThreshold": 6 },
+ *     "thresholds": [0.5, 1, 2], "quantiles": [50, 90], "regions": { "flatThreshold": 6 },
  *     "name": "dock-tuning", "out": "../reports/dock-tuning" }
  */
 import { readFileSync } from 'node:fs';
@@ -14,33 +14,12 @@ import { dirname, resolve } from 'node:path';
 import { z } from 'zod';
 import { InputError, UsageError } from '../core/errors.js';
 import { DEFAULT_REGION_PARAMS, type RegionParams } from '../core/regions.js';
-import { formatFieldPath, issueMessage, issueText, type ZodIssueLike } from '../dataset/manifest.js';
-import { DEFAULT_THRESHOLDS } from '../metrics/types.js';
-import type { PredictionSource } from './predictions.js';
+import { formatFieldPath, issueMessage, issueText, type ZodIssueLike } from '../core/text.js';
+import { DEFAULT_QUANTILES, DEFAULT_THRESHOLDS } from '../metrics/catalogue.js';
 
 
-export interface RunSettings {
-  /** Dataset folders or manifest files, absolute. */
-  datasets: string[];
-  /** Command-line matcher specs: `id[:key=value,...]`, sweeps, module paths. */
-  matchers: string[];
-  /**
-   * An experiment file's `matchers` entries (strings, {id, params} or {program, params};
-   * validated by the registry's resolveMatcherEntries), relative to `baseDir`.
-   */
-  matcherEntries: unknown[];
-  /** The experiment file, named in errors about its entries. */
-  experimentFile?: string;
-  predictions: PredictionSource[];
-  /** Bad-pixel thresholds in px, ascending, distinct. */
-  thresholds: number[];
-  regions: RegionParams;
-  /** Run folder (absolute); default reports/<name>. */
-  out?: string;
-  name?: string;
-  /** Folder that matcher module paths and program definitions are relative to. */
-  baseDir: string;
-}
+export type { RunSettings } from '../io/run-record.js';
+import type { RunSettings } from '../io/run-record.js';
 
 const positive = z.number().refine((v) => Number.isFinite(v) && v > 0, 'must be a finite number > 0');
 
@@ -70,6 +49,7 @@ export const experimentFileSchema = z.strictObject({
     )
     .default([]),
   thresholds: z.array(positive).min(1).optional(),
+  quantiles: z.array(z.number()).min(1).optional(),
   regions: regionParamsSchema.optional(),
   out: z.string().min(1).optional(),
 });
@@ -89,13 +69,35 @@ export function normaliseThresholds(values: readonly number[], option: string): 
   return sorted;
 }
 
-/** Parse `0.5,1,2` (the --thresholds option). */
-export function parseThresholds(text: string): number[] {
+/** Quantile levels in %: sorted ascending, each in [0, 100], none twice; `option` names the setting in errors. */
+export function normaliseQuantiles(values: readonly number[], option: string): number[] {
+  if (!values.length) throw new UsageError(option, 'give at least one quantile level');
+  for (const v of values) {
+    if (!Number.isFinite(v) || v < 0 || v > 100) throw new UsageError(option, `quantile level ${String(v)} is not a number from 0 to 100 (levels are in %)`);
+  }
+  const sorted = [...values].sort((a, b) => a - b);
+  for (let i = 1; i < sorted.length; i++) {
+    if (sorted[i] === sorted[i - 1]) throw new UsageError(option, `quantile level ${sorted[i]} is given twice`);
+  }
+  return sorted;
+}
+
+function numberList(text: string, option: string, example: string): number[] {
   const parts = text.split(',').map((s) => s.trim());
   const vals = parts.map((s) => (s === '' ? NaN : Number(s)));
   const bad = parts.find((s, i) => !Number.isFinite(vals[i]!));
-  if (bad !== undefined) throw new UsageError('--thresholds', `"${bad}" is not a number (expected a comma list such as 0.5,1,2)`);
-  return normaliseThresholds(vals, '--thresholds');
+  if (bad !== undefined) throw new UsageError(option, `"${bad}" is not a number (expected a comma list such as ${example})`);
+  return vals;
+}
+
+/** Parse `0.5,1,2` (the --thresholds option). */
+export function parseThresholds(text: string): number[] {
+  return normaliseThresholds(numberList(text, '--thresholds', '0.5,1,2'), '--thresholds');
+}
+
+/** Parse `50,68,95` (the --quantiles option, levels in %). */
+export function parseQuantiles(text: string): number[] {
+  return normaliseQuantiles(numberList(text, '--quantiles', '50,68,95'), '--quantiles');
 }
 
 /** Region parameters with defaults; checks the partial set given. */
@@ -134,8 +136,10 @@ export function loadExperimentFile(path: string): RunSettings {
   const f = r.data;
   const base = dirname(abs);
   let thresholds: number[];
+  let quantiles: number[];
   try {
     thresholds = normaliseThresholds(f.thresholds ?? DEFAULT_THRESHOLDS, 'thresholds');
+    quantiles = normaliseQuantiles(f.quantiles ?? DEFAULT_QUANTILES, 'quantiles');
   } catch (e) {
     throw new InputError(path, `field ${(e as Error).message}`);
   }
@@ -157,6 +161,7 @@ export function loadExperimentFile(path: string): RunSettings {
       ...(p.invalid !== undefined ? { invalid: p.invalid } : {}),
     })),
     thresholds,
+    quantiles,
     regions,
     ...(f.out !== undefined ? { out: resolve(base, f.out) } : {}),
     ...(f.name !== undefined ? { name: f.name } : {}),

@@ -4,6 +4,7 @@
  * keys already in the journal) or --shard k/N (take every N-th key) only have to
  * filter or partition this list.
  */
+import { byCodeUnits } from '../core/order.js';
 
 export interface JobKey {
   readonly dataset: string;
@@ -12,13 +13,9 @@ export interface JobKey {
   readonly label: string;
 }
 
-/** Plain code-unit comparison (locale independent), the order used everywhere. */
-export function compareText(a: string, b: string): number {
-  return a < b ? -1 : a > b ? 1 : 0;
-}
 
 export function compareJobKeys(a: JobKey, b: JobKey): number {
-  return compareText(a.dataset, b.dataset) || compareText(a.pair, b.pair) || compareText(a.label, b.label);
+  return byCodeUnits(a.dataset, b.dataset) || byCodeUnits(a.pair, b.pair) || byCodeUnits(a.label, b.label);
 }
 
 /** `dataset/pair/label`: unique per job (dataset names and pair ids contain no "/"). */

@@ -22,13 +22,13 @@ import { latestJobs } from '../stats/aggregate.js';
 import { compareJobKeys, jobKeyString, type JobKey } from './jobs.js';
 import { JOURNAL_FILE, readJournal } from './journal.js';
 import { writeRunOutputs, type WrittenOutputs } from './outputs.js';
-import { RUN_INFO_FILE } from './provenance.js';
-import { configDifference, readRunInfo, type StoredRunInfo } from './resume.js';
+import { metricSetOf, readRunRecord, RUN_RECORD_FILE, writeRunRecord, type RunRecord } from '../io/run-record.js';
+import { configDifference } from './resume.js';
 import { parseShard } from './shard.js';
 
 export interface MergeOutcome {
   runDir: string;
-  info: StoredRunInfo;
+  info: RunRecord;
   results: JobResult[];
   outputs: WrittenOutputs;
   /** Jobs found in more than one run (identical copies, kept once). */
@@ -43,7 +43,7 @@ function keyOf(r: JobResult): JobKey {
 
 /** The parts of a result that must agree between two copies of one job. */
 function outcomeText(r: JobResult): string {
-  return JSON.stringify([r.status, r.error ?? null, r.matcherId, r.params, r.thresholds, r.scores]);
+  return JSON.stringify([r.status, r.error ?? null, r.matcherId, r.params, r.thresholds, r.quantiles, r.scores]);
 }
 
 export async function mergeRuns(dirsIn: readonly string[], outIn: string): Promise<MergeOutcome> {
@@ -51,11 +51,11 @@ export async function mergeRuns(dirsIn: readonly string[], outIn: string): Promi
   const dirs = dirsIn.map((d) => resolve(d));
   const out = resolve(outIn);
   if (dirs.includes(out)) throw new UsageError('--out', `${out} is one of the runs being merged; choose another folder`);
-  const infos = dirs.map((d) => readRunInfo(d));
+  const infos = dirs.map((d) => readRunRecord(d));
   const base = infos[0]!;
   let shardCount: number | undefined;
   infos.forEach((info, i) => {
-    const file = join(dirs[i]!, RUN_INFO_FILE);
+    const file = join(dirs[i]!, RUN_RECORD_FILE);
     const diff = configDifference(base.config, info.config);
     if (diff) throw new InputError(file, `cannot be merged with ${dirs[0]}: ${diff}`);
     const s = info.rerun?.shard;
@@ -93,11 +93,11 @@ export async function mergeRuns(dirsIn: readonly string[], outIn: string): Promi
     if (existsSync(prev)) cpSync(prev, join(out, 'previews'), { recursive: true, force: true });
   }
   await writeFileAtomic(join(out, JOURNAL_FILE), results.map((r) => JSON.stringify(r) + '\n').join(''));
-  const times = (pick: (i: StoredRunInfo) => string | null): string[] => infos.map(pick).filter((t): t is string => typeof t === 'string').sort();
+  const times = (pick: (i: RunRecord) => string | null): string[] => infos.map(pick).filter((t): t is string => typeof t === 'string').sort();
   const started = times((i) => i.started);
   const ended = times((i) => i.ended);
   const ok = results.filter((r) => r.status === 'ok').length;
-  const info: StoredRunInfo & { merged: { from: string[]; shards: (string | null)[] } } = {
+  const info: RunRecord = {
     ...base,
     status: missing === 0 ? 'complete' : 'aborted',
     started: started[0] ?? base.started,
@@ -107,7 +107,7 @@ export async function mergeRuns(dirsIn: readonly string[], outIn: string): Promi
     cache: null,
     merged: { from: dirs, shards: infos.map((i) => i.rerun?.shard ?? null) },
   };
-  await writeFileAtomic(join(out, RUN_INFO_FILE), JSON.stringify(info, null, 2) + '\n');
-  const outputs = await writeRunOutputs(out, results, base.config.thresholds);
+  await writeRunRecord(out, info);
+  const outputs = await writeRunOutputs(out, results, metricSetOf(base));
   return { runDir: out, info, results, outputs, duplicates, missing };
 }

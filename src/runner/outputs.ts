@@ -1,15 +1,16 @@
 /**
  * The tables and the report of a run folder, written from the journal alone (a pure
- * function of results.jsonl plus the thresholds), so a resumed, sharded or merged
+ * function of results.jsonl plus the metric set), so a resumed, sharded or merged
  * run writes the same files. Every file is written atomically.
  */
 import { join } from 'node:path';
 import type { JobResult } from '../core/score.js';
 import { writeFileAtomic } from '../io/files.js';
-import { writeHtmlReport } from '../report/html.js';
+import { writeHtmlReport } from '../report/html/index.js';
 import { pairsCsvText } from '../report/pairs-csv.js';
 import { summaryCsvText } from '../report/summary-csv.js';
 import { aggregate, latestJobs, type SummaryRow } from '../stats/aggregate.js';
+import type { MetricSet } from '../metrics/catalogue.js';
 
 export const PAIRS_CSV = 'pairs.csv';
 export const SUMMARY_CSV = 'summary.csv';
@@ -25,14 +26,14 @@ export interface WrittenOutputs {
  * `results` must be the run folder's results.jsonl as it stands (the report takes them
  * instead of reading the file again).
  */
-export async function writeRunOutputs(runDir: string, results: readonly JobResult[], thresholds: readonly number[]): Promise<WrittenOutputs> {
+export async function writeRunOutputs(runDir: string, results: readonly JobResult[], set: MetricSet): Promise<WrittenOutputs> {
   const jobs = latestJobs(results);
-  const th = [...thresholds];
+  const metricSet: MetricSet = { thresholds: [...set.thresholds], quantiles: [...set.quantiles] };
   const files: string[] = [];
-  await writeFileAtomic(join(runDir, PAIRS_CSV), pairsCsvText(jobs, th));
+  await writeFileAtomic(join(runDir, PAIRS_CSV), pairsCsvText(jobs, metricSet));
   files.push(PAIRS_CSV);
-  const summary = aggregate(jobs, { thresholds: th });
-  await writeFileAtomic(join(runDir, SUMMARY_CSV), summaryCsvText(summary, th));
+  const summary = aggregate(jobs, metricSet);
+  await writeFileAtomic(join(runDir, SUMMARY_CSV), summaryCsvText(summary, metricSet));
   files.push(SUMMARY_CSV);
   // The report streams index.html pair by pair, from the results in hand (not a second
   // copy read from results.jsonl: `results` is that file's content, as read by the caller).

@@ -24,7 +24,7 @@ export interface MatcherRunConfig {
   readonly codeHash: string;
   readonly version: string;
   readonly plugin: MatcherPlugin;
-  /** Added: how to rebuild the plugin in a worker thread (registry's pluginFromSource). */
+  /** How to rebuild the plugin in a worker thread (registry's pluginFromSource). */
   readonly source?: MatcherSource;
 }
 
@@ -53,10 +53,12 @@ export interface RunPlan {
   readonly datasets: readonly PlannedDataset[];
   readonly configs: readonly RunConfig[];
   readonly thresholds: readonly number[];
+  /** Quantile levels in %. */
+  readonly quantiles: readonly number[];
   readonly regions: RegionParams;
   /** Every job, sorted (see jobs.ts). */
   readonly jobs: readonly JobKey[];
-  /** Added: the settings the plan was made from (kept in run.json for --resume). */
+  /** The settings the plan was made from (kept in run.json for --resume). */
   readonly settings?: RunSettings;
   /** Added: worker pool, resume, cache and shard options (see scale.ts); absent = sequential, no cache. */
   readonly scale?: ScaleOptions;
@@ -123,5 +125,5 @@ export async function planRun(settings: RunSettings, cwd = process.cwd()): Promi
     datasets.map((d) => ({ name: d.manifest.name, pairIds: sortedPairs(d.manifest).map((p) => p.id) })),
     configs.map((c) => c.label),
   );
-  return { name, runDir, datasets, configs, thresholds: settings.thresholds, regions: settings.regions, jobs, settings };
+  return { name, runDir, datasets, configs, thresholds: settings.thresholds, quantiles: settings.quantiles, regions: settings.regions, jobs, settings };
 }

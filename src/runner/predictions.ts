@@ -12,16 +12,8 @@ import { readDisparityFile } from '../io/files.js';
 
 export const PREDICTION_EXTENSIONS = ['pfm', 'npy', 'png'] as const;
 
-export interface PredictionSource {
-  /** Matcher column for these predictions. */
-  readonly label: string;
-  /** Absolute folder. */
-  readonly dir: string;
-  /** PNG stored value = round(d * scale). */
-  readonly scale?: number;
-  /** PNG code for "no answer" (default 0). */
-  readonly invalid?: number;
-}
+export type { PredictionSource } from '../io/run-record.js';
+import type { PredictionSource } from '../io/run-record.js';
 
 /** The prediction file of a pair, or undefined when there is none. */
 export function findPredictionFile(src: PredictionSource, dataset: string, pair: string): string | undefined {

@@ -1,6 +1,7 @@
 /**
- * run.json: provenance of a run — tool version, git commit (when the tool runs from
- * a git checkout), configuration, dataset hashes, Node version, CPU, OS, times.
+ * The provenance a run records in run.json (src/io/run-record.ts): tool version, git
+ * commit (when the tool runs from a git checkout), configuration, dataset hashes, Node
+ * version, CPU, OS, times.
  */
 import { execFileSync } from 'node:child_process';
 import { existsSync, readFileSync } from 'node:fs';
@@ -8,8 +9,7 @@ import { cpus, platform, release, arch, totalmem } from 'node:os';
 import { dirname, join } from 'node:path';
 import { fileURLToPath } from 'node:url';
 import type { RunPlan } from './plan.js';
-
-export const RUN_INFO_FILE = 'run.json';
+import { RUN_RECORD_FORMAT, type RunRecord } from '../io/run-record.js';
 
 /** The package root (folder of parallax's package.json), found upward from this file. */
 export function toolRoot(): string | undefined {
@@ -52,27 +52,11 @@ export function gitInfo(): { commit: string; dirty: boolean } | null {
   }
 }
 
-export interface RunInfo {
-  tool: { name: 'parallax'; version: string; git: { commit: string; dirty: boolean } | null };
-  name: string;
-  status: 'running' | 'complete' | 'aborted';
-  started: string;
-  ended: string | null;
-  config: {
-    thresholds: number[];
-    regions: Record<string, number>;
-    matchers: { label: string; matcherId: string; kind: string; version?: string; params: Record<string, unknown>; codeHash?: string; predictions?: { dir: string; scale?: number; invalid?: number } }[];
-    datasets: { name: string; path: string; manifest: string; hash: string; pairs: number }[];
-  };
-  jobs: { total: number; ok: number; failed: number };
-  environment: { node: string; cpu: { model: string; count: number }; os: { platform: string; release: string; arch: string }; memoryMb: number };
-  notes: { peak_mb: string; time_ms: string; wall_ms?: string };
-}
-
 /** The provenance record of a plan (status `running`, no end time yet). */
-export function runInfo(plan: RunPlan, started: Date): RunInfo {
+export function runRecord(plan: RunPlan, started: Date): RunRecord {
   const c = cpus();
   return {
+    format: RUN_RECORD_FORMAT,
     tool: { name: 'parallax', version: toolVersion(), git: gitInfo() },
     name: plan.name,
     status: 'running',
@@ -80,14 +64,15 @@ export function runInfo(plan: RunPlan, started: Date): RunInfo {
     ended: null,
     config: {
       thresholds: [...plan.thresholds],
+      quantiles: [...plan.quantiles],
       regions: { ...plan.regions },
       matchers: plan.configs.map((cfg) =>
         cfg.kind === 'matcher'
-          ? { label: cfg.label, matcherId: cfg.matcherId, kind: 'matcher', version: cfg.version, params: cfg.params, codeHash: cfg.codeHash }
+          ? { label: cfg.label, matcherId: cfg.matcherId, kind: 'matcher' as const, version: cfg.version, params: cfg.params, codeHash: cfg.codeHash }
           : {
               label: cfg.label,
               matcherId: cfg.matcherId,
-              kind: 'predictions',
+              kind: 'predictions' as const,
               params: cfg.params,
               predictions: {
                 dir: cfg.source.dir,

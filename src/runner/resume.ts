@@ -1,49 +1,22 @@
 /**
- * What --resume and merge read back from a run folder: run.json's configuration
+ * What --resume and merge read back from a run folder (src/io/run-record.ts): run.json's configuration
  * (compared through a fingerprint of everything that changes a score) and the
  * settings a scaled run stores there (`rerun`, see run.ts).
  */
-import { readFileSync } from 'node:fs';
 import { join } from 'node:path';
 import { InputError } from '../core/errors.js';
-import type { RunSettings } from './experiment.js';
-import { RUN_INFO_FILE, type RunInfo } from './provenance.js';
-import type { ScaledRunInfo } from './run.js';
+import { readRunRecord, RUN_RECORD_FILE, type RunConfigRecord, type RunRecord, type RunSettings } from '../io/run-record.js';
 import { parseShard, type Shard } from './shard.js';
-
-export type StoredRunInfo = RunInfo & ScaledRunInfo;
-
-/** Read a run folder's run.json; InputError naming the file when missing or malformed. */
-export function readRunInfo(runDir: string): StoredRunInfo {
-  const file = join(runDir, RUN_INFO_FILE);
-  let text: string;
-  try {
-    text = readFileSync(file, 'utf8');
-  } catch (e) {
-    const code = (e as NodeJS.ErrnoException).code;
-    throw new InputError(file, code === 'ENOENT' ? 'no run.json here; is this a parallax run folder?' : `cannot read (${code ?? 'error'})`);
-  }
-  let info: unknown;
-  try {
-    info = JSON.parse(text);
-  } catch {
-    throw new InputError(file, 'not valid JSON');
-  }
-  const c = (info as { config?: { thresholds?: unknown; matchers?: unknown; datasets?: unknown } } | null)?.config;
-  if (!c || !Array.isArray(c.thresholds) || !Array.isArray(c.matchers) || !Array.isArray(c.datasets)) {
-    throw new InputError(file, 'not a parallax run.json (no config with thresholds, matchers and datasets)');
-  }
-  return info as StoredRunInfo;
-}
+import { byCodeUnits } from '../core/order.js';
 
 /** The settings and shard of a run to resume (a run started by `parallax run`). */
-export function resumeSettings(runDir: string): { settings: RunSettings; shard: Shard | undefined; info: StoredRunInfo } {
-  const info = readRunInfo(runDir);
+export function resumeSettings(runDir: string): { settings: RunSettings; shard: Shard | undefined; info: RunRecord } {
+  const info = readRunRecord(runDir);
   const rerun = info.rerun;
-  if (!rerun || typeof rerun !== 'object' || !rerun.settings || !Array.isArray(rerun.settings.datasets)) {
-    throw new InputError(join(runDir, RUN_INFO_FILE), 'holds no run settings to resume from (only runs started by `parallax run` can be resumed)');
+  if (!rerun) {
+    throw new InputError(join(runDir, RUN_RECORD_FILE), 'holds no run settings to resume from (only runs started by `parallax run` can be resumed)');
   }
-  const shard = rerun.shard ? parseShard(rerun.shard, `${join(runDir, RUN_INFO_FILE)}: shard`) : undefined;
+  const shard = rerun.shard ? parseShard(rerun.shard, `${join(runDir, RUN_RECORD_FILE)}: shard`) : undefined;
   return { settings: { ...rerun.settings, out: runDir }, shard, info };
 }
 
@@ -52,21 +25,23 @@ export function resumeSettings(runDir: string): { settings: RunSettings; shard: 
  * parameters, each configuration (label, id, kind, parameters, code hash, prediction
  * source) and each dataset (name, content hash, pair count). Paths and times are left out.
  */
-export function configFingerprint(config: RunInfo['config']): string {
+export function configFingerprint(config: RunConfigRecord): string {
   return JSON.stringify({
     thresholds: config.thresholds,
-    regions: Object.fromEntries(Object.entries(config.regions).sort(([a], [b]) => (a < b ? -1 : a > b ? 1 : 0))),
+    quantiles: config.quantiles,
+    regions: Object.fromEntries(Object.entries(config.regions).sort(([a], [b]) => byCodeUnits(a, b))),
     matchers: [...config.matchers]
       .map((m) => ({ label: m.label, matcherId: m.matcherId, kind: m.kind, params: m.params, codeHash: m.codeHash ?? null, predictions: m.predictions ?? null }))
-      .sort((a, b) => (a.label < b.label ? -1 : a.label > b.label ? 1 : 0)),
-    datasets: [...config.datasets].map((d) => ({ name: d.name, hash: d.hash, pairs: d.pairs })).sort((a, b) => (a.name < b.name ? -1 : a.name > b.name ? 1 : 0)),
+      .sort((a, b) => byCodeUnits(a.label, b.label)),
+    datasets: [...config.datasets].map((d) => ({ name: d.name, hash: d.hash, pairs: d.pairs })).sort((a, b) => byCodeUnits(a.name, b.name)),
   });
 }
 
 /** The first difference between two configurations, as a phrase, or undefined when they agree. */
-export function configDifference(a: RunInfo['config'], b: RunInfo['config']): string | undefined {
+export function configDifference(a: RunConfigRecord, b: RunConfigRecord): string | undefined {
   if (configFingerprint(a) === configFingerprint(b)) return undefined;
   if (JSON.stringify(a.thresholds) !== JSON.stringify(b.thresholds)) return `thresholds differ (${a.thresholds.join(',')} vs ${b.thresholds.join(',')})`;
+  if (JSON.stringify(a.quantiles) !== JSON.stringify(b.quantiles)) return `quantile levels differ (${a.quantiles.join(',')} vs ${b.quantiles.join(',')})`;
   const fa = JSON.parse(configFingerprint(a)) as { regions: unknown; matchers: { label: string }[]; datasets: { name: string }[] };
   const fb = JSON.parse(configFingerprint(b)) as typeof fa;
   if (JSON.stringify(fa.regions) !== JSON.stringify(fb.regions)) return 'region parameters differ';

@@ -12,7 +12,6 @@ import type { LoadedPair } from '../core/pair.js';
 import type { RegionMap } from '../core/regions.js';
 import type { JobResult } from '../core/score.js';
 import { buildRegions } from '../dataset/regions.js';
-import { writeFileAtomic } from '../io/files.js';
 import { jobKeyString } from './jobs.js';
 import { appendResult, JOURNAL_FILE, readJournal, recoverJournal, startJournal } from './journal.js';
 import { pruneCache } from './cache.js';
@@ -20,11 +19,11 @@ import { watchInterrupts } from './interrupt.js';
 import { runScheduled, type ScheduleStats } from './scheduler.js';
 import { shardJobs, shardText } from './shard.js';
 import { latestJobs } from '../stats/aggregate.js';
-import type { RunSettings } from './experiment.js';
 import { writePreview } from '../report/preview.js';
 import { writeRunOutputs, type WrittenOutputs } from './outputs.js';
 import type { RunPlan } from './plan.js';
-import { RUN_INFO_FILE, runInfo, type RunInfo } from './provenance.js';
+import { runRecord } from './provenance.js';
+import { writeRunRecord, type BrokenPair, type RunRecord } from '../io/run-record.js';
 
 export interface RunHooks {
   signal?: AbortSignal;
@@ -36,26 +35,13 @@ export interface RunHooks {
   onPairError?(dataset: string, pair: string, message: string): void;
 }
 
-/** A pair that could not be loaded in this run; its jobs are recorded as failed. */
-export interface BrokenPair {
-  dataset: string;
-  pair: string;
-  error: string;
-}
-
-/** Added to run.json by scaled runs: what --resume and merge need. */
-export interface ScaledRunInfo {
-  rerun?: { settings: RunSettings; shard: string | null };
-  cache?: { dir: string; jobs_from_cache: number; jobs_computed: number; write_errors?: number } | null;
-  /** Pairs that could not be loaded in this run (absent when none). */
-  broken_pairs?: BrokenPair[];
-}
+export type { BrokenPair } from '../io/run-record.js';
 
 export interface RunOutcome {
   runDir: string;
   results: JobResult[];
   outputs: WrittenOutputs;
-  info: RunInfo;
+  info: RunRecord;
   aborted: boolean;
   /** Pairs that could not be loaded (their jobs are in the results as failed). The CLI exits 2 when any. */
   brokenPairs: BrokenPair[];
@@ -65,10 +51,6 @@ export interface RunOutcome {
 export function pairRegions(pair: LoadedPair, plan: Pick<RunPlan, 'regions'>): RegionMap {
   // buildRegions derives the occlusion from the truth when the mask is undefined.
   return buildRegions(pair.truth.data, pair.leftGray, pair.occlusion, pair.width, pair.height, plan.regions);
-}
-
-async function writeInfo(runDir: string, info: RunInfo): Promise<void> {
-  await writeFileAtomic(join(runDir, RUN_INFO_FILE), JSON.stringify(info, null, 2) + '\n');
 }
 
 /**
@@ -85,7 +67,7 @@ export async function executeRun(plan: RunPlan, hooks: RunHooks = {}): Promise<R
   const watch = plan.scale ? watchInterrupts(hooks.signal) : undefined;
   const signal = watch?.signal ?? hooks.signal ?? new AbortController().signal;
   const journal = join(plan.runDir, JOURNAL_FILE);
-  const info: RunInfo & ScaledRunInfo = runInfo(plan, new Date());
+  const info = runRecord(plan, new Date());
   const scale = plan.scale;
   const prior = scale?.resume ? recoverJournal(journal) : [];
   const mine = scale?.shard ? shardJobs(plan.jobs, scale.shard) : plan.jobs;
@@ -98,7 +80,7 @@ export async function executeRun(plan: RunPlan, hooks: RunHooks = {}): Promise<R
   if (plan.settings) info.rerun = { settings: plan.settings, shard: scale?.shard ? shardText(scale.shard) : null };
   const stats: ScheduleStats = { cached: 0, computed: 0 };
   if (scale) info.cache = scale.cache ? { dir: scale.cache.dir, jobs_from_cache: 0, jobs_computed: 0 } : null;
-  await writeInfo(plan.runDir, info);
+  await writeRunRecord(plan.runDir, info);
   if (!scale?.resume) startJournal(journal);
 
   const total = todo.length;
@@ -132,7 +114,7 @@ export async function executeRun(plan: RunPlan, hooks: RunHooks = {}): Promise<R
       watch?.dispose();
       info.status = 'aborted';
       info.ended = new Date().toISOString();
-      await writeInfo(plan.runDir, info);
+      await writeRunRecord(plan.runDir, info);
       throw e;
     }
     aborted = true;
@@ -164,10 +146,10 @@ export async function executeRun(plan: RunPlan, hooks: RunHooks = {}): Promise<R
       }
     }
   }
-  await writeInfo(plan.runDir, info);
+  await writeRunRecord(plan.runDir, info);
   // Tables and report from the journal alone (and run.json, for the report).
   const results = readJournal(journal);
-  const outputs = await writeRunOutputs(plan.runDir, results, plan.thresholds);
+  const outputs = await writeRunOutputs(plan.runDir, results, plan);
   if (aborted && scale) {
     // Exit 143 (128 + SIGTERM's 15) after SIGTERM, 130 (128 + SIGINT's 2) after Ctrl-C.
     throw new AbortedError(

@@ -132,11 +132,11 @@ export async function runScheduled(ctx: ScheduleContext): Promise<ScheduleStats>
       // A broken pair: recorded as failed for every configuration; the run goes on.
       const message = oneLineError(e);
       ctx.onPairError?.(manifest.name, entry.id, message);
-      const scores = await brokenPairScores(manifest, entry, plan.regions, plan.thresholds);
+      const scores = await brokenPairScores(manifest, entry, plan.regions, plan);
       for (const key of group) {
         if (signal.aborted) throw new AbortedError();
         const cfg = configs.get(key.label)!;
-        await ctx.onResult(brokenPairResult(cfg, manifest.name, entry, message, scores, plan.thresholds), null, cfg, { dataset: manifest.name, id: entry.id, width: 0, height: 0 });
+        await ctx.onResult(brokenPairResult(cfg, manifest.name, entry, message, scores, plan), null, cfg, { dataset: manifest.name, id: entry.id, width: 0, height: 0 });
       }
       return;
     }
@@ -164,7 +164,7 @@ export async function runScheduled(ctx: ScheduleContext): Promise<ScheduleStats>
         ckey = cacheKey({ leftHash, rightHash, matcherId: cfg.matcherId, codeHash: cfg.codeHash, params: cfg.params, minDisparity: pair.disparityRange[0], maxDisparity: pair.disparityRange[1] });
         const hit = cache.get(ckey, pair.width, pair.height);
         if (hit) {
-          outcome = scoredOutcome(cfg, pair, regions, plan.thresholds, { disparity: hit.data, timeMs: hit.timeMs, peakMb: hit.peakMb, cached: true });
+          outcome = scoredOutcome(cfg, pair, regions, plan, { disparity: hit.data, timeMs: hit.timeMs, peakMb: hit.peakMb, cached: true });
           stats.cached++;
         }
       }
@@ -173,11 +173,11 @@ export async function runScheduled(ctx: ScheduleContext): Promise<ScheduleStats>
           shared ??= sharePair(pair, freeSlots.pop());
           const got = await viaPool(cfg, pair, shared);
           if (signal.aborted) throw new AbortedError();
-          outcome = scoredOutcome(cfg, pair, regions, plan.thresholds, got);
+          outcome = scoredOutcome(cfg, pair, regions, plan, got);
         } else if (pool) {
-          outcome = await serial(cfg.label, () => runJob(cfg, pair, regions, plan.thresholds, signal, threads));
+          outcome = await serial(cfg.label, () => runJob(cfg, pair, regions, plan, signal, threads));
         } else {
-          outcome = await runJob(cfg, pair, regions, plan.thresholds, signal, threads);
+          outcome = await runJob(cfg, pair, regions, plan, signal, threads);
         }
         stats.computed++;
         if (cache && ckey && outcome.disparity && outcome.result.status === 'ok') {

@@ -21,7 +21,8 @@ import type { JobResult } from '../core/score.js';
 import { REGION_IDS, type RegionId } from '../core/regions.js';
 import { InputError } from '../core/errors.js';
 import { bcaIntervals, type BootstrapOptions, type Interval, type UnitMatrix, type TotalsStat } from './bootstrap.js';
-import { COST_METRICS, figureOf, metricNames, pooledFrom, pooledSpec, readSums, sumColumns } from './metrics.js';
+import { levelMapOf, metricsOf, metricValue, pooledFrom, readSums, sumColumnCount, type LevelMap, type MetricSet } from '../metrics/catalogue.js';
+import { byCodeUnits } from '../core/order.js';
 
 export interface MetricSummary {
   /** Mean over pairs with a non-empty figure; null when no pair has one. */
@@ -51,37 +52,37 @@ export interface SummaryRow {
   /** What the intervals resample, and how many of them there are. */
   unit: 'pair' | 'group';
   n_units: number;
-  /** Keyed by metric id (see metricNames). */
+  /** Keyed by metric id (see src/metrics/catalogue.ts). */
   metrics: Record<string, MetricSummary>;
 }
 
-export interface AggregateOptions {
-  thresholds: number[];
+export interface AggregateOptions extends MetricSet {
   /** Bootstrap settings; false = no intervals. Default: intervals with the defaults of bootstrap.ts. */
   ci?: BootstrapOptions | false;
   /** Also emit rows split by the manifest's pair tags (default: when any job carries tags). */
   byTag?: boolean;
 }
 
-/** Plain code-unit comparison (locale independent). */
-export function cmp(a: string, b: string): number {
-  return a < b ? -1 : a > b ? 1 : 0;
-}
+/** Plain code-unit comparison (locale independent): src/core/order.ts. */
+export const cmp = byCodeUnits;
 
 /** Sort jobs by (matcher, dataset, pair); pure. */
 export function sortJobs(results: readonly JobResult[]): JobResult[] {
   return [...results].sort((x, y) => cmp(x.matcher, y.matcher) || cmp(x.dataset, y.dataset) || cmp(x.pair, y.pair));
 }
 
-/** Index of each wanted threshold in the job's own threshold list. */
-export function rateMapOf(job: JobResult, thresholds: readonly number[]): number[] {
-  return thresholds.map((t) => {
-    const i = job.thresholds.indexOf(t);
-    if (i < 0) {
-      throw new InputError(undefined, `results of ${job.matcher} on ${job.dataset}/${job.pair} have no rate for threshold ${t} px (they have ${job.thresholds.join(', ')})`);
-    }
-    return i;
-  });
+/** Where the set's levels sit in the job's own figures; an InputError when the job lacks one. */
+export function jobLevels(job: JobResult, set: MetricSet): LevelMap {
+  const map = levelMapOf(job, set);
+  const t = map.rate.indexOf(-1);
+  if (t >= 0) {
+    throw new InputError(undefined, `results of ${job.matcher} on ${job.dataset}/${job.pair} have no rate for threshold ${set.thresholds[t]} px (they have ${job.thresholds.join(', ')})`);
+  }
+  const q = map.quantile.indexOf(-1);
+  if (q >= 0) {
+    throw new InputError(undefined, `results of ${job.matcher} on ${job.dataset}/${job.pair} have no ${set.quantiles[q]} % quantile (they have ${job.quantiles.join(', ')})`);
+  }
+  return map;
 }
 
 /**
@@ -96,10 +97,10 @@ export interface CellMatrix extends UnitMatrix {
   unitKeys: string[];
 }
 
-export function cellMatrix(jobs: readonly JobResult[], region: RegionId, thresholds: readonly number[], byGroup: boolean): CellMatrix {
-  const metrics = metricNames(thresholds);
+export function cellMatrix(jobs: readonly JobResult[], region: RegionId, set: MetricSet, byGroup: boolean): CellMatrix {
+  const metrics = metricsOf(set);
   const M = metrics.length;
-  const sumCols = sumColumns(thresholds).length;
+  const sumCols = sumColumnCount(set);
   const cols = 2 * M + sumCols;
   const unitIndex = new Map<string, number>();
   const unitKeys: string[] = [];
@@ -113,39 +114,34 @@ export function cellMatrix(jobs: readonly JobResult[], region: RegionId, thresho
   const data = new Float64Array(unitKeys.length * cols);
   const sums = new Float64Array(sumCols);
   for (const j of jobs) {
-    const rateMap = rateMapOf(j, thresholds);
+    const levels = jobLevels(j, set);
     const u = unitIndex.get(byGroup && j.group !== undefined ? `group:${j.group}` : `pair:${j.dataset}/${j.pair}`)!;
     const base = u * cols;
     const score = j.scores[region];
     const nonEmpty = score.sums.pixels > 0;
     const cost = { time_ms: j.time_ms, peak_mb: j.peak_mb };
     for (let m = 0; m < M; m++) {
-      const name = metrics[m]!;
-      const isCost = (COST_METRICS as readonly string[]).includes(name);
-      if (!isCost && !nonEmpty) continue;
-      const v = figureOf(score.figures, name, thresholds, rateMap, cost);
+      const metric = metrics[m]!;
+      if (!metric.perJob && !nonEmpty) continue;
+      const v = metricValue(metric, score.figures, levels, cost);
       if (v === null || !Number.isFinite(v)) continue;
       data[base + 2 * m] += v;
       data[base + 2 * m + 1] += 1;
     }
-    readSums(score.sums, rateMap, sums);
+    readSums(score.sums, levels, sums);
     for (let c = 0; c < sumCols; c++) data[base + 2 * M + c] += sums[c]!;
   }
-  return { units: unitKeys.length, cols, data, metrics, sumBase: 2 * M, unitKeys };
+  return { units: unitKeys.length, cols, data, metrics: metrics.map((x) => x.id), sumBase: 2 * M, unitKeys };
 }
 
 /** Statistics of a cell: [mean of metric 0, pooled of metric 0, mean of metric 1, ...]. */
-export function cellStats(cm: CellMatrix, thresholds: readonly number[]): TotalsStat[] {
+export function cellStats(cm: CellMatrix, set: MetricSet): TotalsStat[] {
   const out: TotalsStat[] = [];
-  cm.metrics.forEach((name, m) => {
+  metricsOf(set).forEach((metric, m) => {
     out.push((t) => (t[2 * m + 1]! > 0 ? t[2 * m]! / t[2 * m + 1]! : NaN));
-    const spec = pooledSpec(name, thresholds);
-    if (spec === null) out.push(() => NaN);
-    else {
-      const num = cm.sumBase + spec.num;
-      const den = cm.sumBase + spec.den;
-      out.push((t) => pooledFrom(spec, t[num]!, t[den]!) ?? NaN);
-    }
+    const pool = metric.pool;
+    if (pool === null) out.push(() => NaN);
+    else out.push((t) => pooledFrom(pool, t, cm.sumBase) ?? NaN);
   });
   return out;
 }
@@ -156,10 +152,9 @@ function summarizeCell(
   tag: string | null,
   opts: AggregateOptions,
 ): SummaryRow {
-  const thresholds = opts.thresholds;
   const byGroup = jobs.some((j) => j.group !== undefined);
-  const cm = cellMatrix(jobs, region, thresholds, byGroup);
-  const stats = cellStats(cm, thresholds);
+  const cm = cellMatrix(jobs, region, opts, byGroup);
+  const stats = cellStats(cm, opts);
   // Point figures from the totals, summed in sorted unit order.
   const tot = new Float64Array(cm.cols);
   for (let u = 0; u < cm.units; u++) for (let c = 0; c < cm.cols; c++) tot[c] += cm.data[u * cm.cols + c]!;

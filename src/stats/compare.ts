@@ -14,21 +14,16 @@
  */
 import type { JobResult } from '../core/score.js';
 import { REGION_IDS, type RegionId } from '../core/regions.js';
-import { UsageError } from '../core/errors.js';
 import { bcaIntervals, type BootstrapOptions, type Interval, type TotalsStat } from './bootstrap.js';
 import { signFlipTest, type SignFlipOptions } from './permutation.js';
-import { COST_METRICS, figureOf, isKnownMetric, metricDirection, metricNames, pooledFrom, pooledSpec, readSums, sumColumns } from './metrics.js';
-import { cmp, latestJobs, rateMapOf, sortJobs } from './aggregate.js';
+import { metricsOf, metricValue, pooledFrom, readSums, sumColumnCount, worseningSign, findMetric, type LevelMap, type Metric, type MetricSet } from '../metrics/catalogue.js';
+import { cmp, jobLevels, latestJobs, sortJobs } from './aggregate.js';
+import { metricSetOf, type RunConfigRecord, type RunRecord } from '../io/run-record.js';
 
-/** What compare needs from run.json. */
+/** The parts of a run record that compare reads. */
 export interface RunInfoLike {
-  name?: string;
-  config: {
-    thresholds: number[];
-    regions: Record<string, number>;
-    datasets: { name: string; hash: string }[];
-    matchers?: { label: string }[];
-  };
+  name?: RunRecord['name'];
+  config: Pick<RunConfigRecord, 'thresholds' | 'quantiles' | 'regions' | 'datasets'>;
 }
 
 export interface RunData {
@@ -43,6 +38,9 @@ export function comparabilityProblems(base: RunInfoLike, cand: RunInfoLike): str
   const tb = base.config.thresholds;
   const tc = cand.config.thresholds;
   if (tb.length !== tc.length || tb.some((t, i) => t !== tc[i])) out.push(`thresholds differ (baseline ${tb.join(', ')}; candidate ${tc.join(', ')})`);
+  const qb = base.config.quantiles;
+  const qc = cand.config.quantiles;
+  if (qb.length !== qc.length || qb.some((q, i) => q !== qc[i])) out.push(`quantile levels differ (baseline ${qb.join(', ')}; candidate ${qc.join(', ')})`);
   const keys = [...new Set([...Object.keys(base.config.regions), ...Object.keys(cand.config.regions)])].sort(cmp);
   for (const k of keys) {
     if (base.config.regions[k] !== cand.config.regions[k]) out.push(`region parameter ${k} differs (baseline ${String(base.config.regions[k])}; candidate ${String(cand.config.regions[k])})`);
@@ -102,6 +100,7 @@ export interface ConfigComparison {
 
 export interface Comparison {
   thresholds: number[];
+  quantiles: number[];
   configs: ConfigComparison[];
   configsOnlyInBase: string[];
   configsOnlyInCand: string[];
@@ -134,21 +133,21 @@ function byLabel(results: JobResult[]): Map<string, Map<string, JobResult>> {
   return out;
 }
 
-function pairValue(j: JobResult, region: RegionId, metric: string, thresholds: number[], rateMap: number[]): number | null {
+/** A job's figure as compared: null when empty; for bias its magnitude. */
+function pairValue(j: JobResult, region: RegionId, metric: Metric, levels: LevelMap): number | null {
   const s = j.scores[region];
-  const isCost = (COST_METRICS as readonly string[]).includes(metric);
-  if (!isCost && !(s.sums.pixels > 0)) return null;
-  const v = figureOf(s.figures, metric, thresholds, rateMap, { time_ms: j.time_ms, peak_mb: j.peak_mb });
+  if (!metric.perJob && !(s.sums.pixels > 0)) return null;
+  const v = metricValue(metric, s.figures, levels, j);
   if (v === null || !Number.isFinite(v)) return null;
-  return metric === 'bias' ? Math.abs(v) : v;
+  return metric.better === 'abs-lower' ? Math.abs(v) : v;
 }
 
-function compareConfig(label: string, base: Map<string, JobResult>, cand: Map<string, JobResult>, thresholds: number[], opts: CompareOptions): ConfigComparison {
+function compareConfig(label: string, base: Map<string, JobResult>, cand: Map<string, JobResult>, set: MetricSet, opts: CompareOptions): ConfigComparison {
   const common = [...base.keys()].filter((k) => cand.has(k)).sort(cmp);
   const pairsB = common.map((k) => base.get(k)!);
   const pairsC = common.map((k) => cand.get(k)!);
-  const rmB = pairsB.map((j) => rateMapOf(j, thresholds));
-  const rmC = pairsC.map((j) => rateMapOf(j, thresholds));
+  const rmB = pairsB.map((j) => jobLevels(j, set));
+  const rmC = pairsC.map((j) => jobLevels(j, set));
   const byGroup = pairsC.some((j) => j.group !== undefined) || pairsB.some((j) => j.group !== undefined);
   const unitOf: number[] = [];
   const unitIds = new Map<string, number>();
@@ -159,9 +158,9 @@ function compareConfig(label: string, base: Map<string, JobResult>, cand: Map<st
     unitOf.push(unitIds.get(id)!);
   });
   const U = unitIds.size;
-  const metrics = metricNames(thresholds);
+  const metrics = metricsOf(set);
   const M = metrics.length;
-  const nSum = sumColumns(thresholds).length;
+  const nSum = sumColumnCount(set);
   const deltas: MetricDelta[] = [];
   const sums = new Float64Array(nSum);
   for (const region of REGION_IDS) {
@@ -171,8 +170,8 @@ function compareConfig(label: string, base: Map<string, JobResult>, cand: Map<st
     for (let i = 0; i < common.length; i++) {
       const row = unitOf[i]! * cols;
       for (let m = 0; m < M; m++) {
-        const b = pairValue(pairsB[i]!, region, metrics[m]!, thresholds, rmB[i]!);
-        const c = pairValue(pairsC[i]!, region, metrics[m]!, thresholds, rmC[i]!);
+        const b = pairValue(pairsB[i]!, region, metrics[m]!, rmB[i]!);
+        const c = pairValue(pairsC[i]!, region, metrics[m]!, rmC[i]!);
         if (b === null || c === null) continue;
         data[row + 4 * m] += c - b;
         data[row + 4 * m + 1] += 1;
@@ -195,12 +194,11 @@ function compareConfig(label: string, base: Map<string, JobResult>, cand: Map<st
       const perm = n > 0 ? signFlipTest(unitDiffs, opts.permutation ?? {}) : null;
       const change = n > 0 ? tot[4 * m]! / n : null;
       const ci = cis[m] ?? null;
-      const dir = metricDirection(metric);
-      const sign = dir === 'higher-better' ? -1 : 1;
-      const spec = pooledSpec(metric, thresholds);
+      const sign = worseningSign(metric);
+      const pool = metric.pool;
       deltas.push({
         region,
-        metric,
+        metric: metric.id,
         base: n > 0 ? tot[4 * m + 2]! / n : null,
         cand: n > 0 ? tot[4 * m + 3]! / n : null,
         change,
@@ -212,17 +210,19 @@ function compareConfig(label: string, base: Map<string, JobResult>, cand: Map<st
         n,
         units: unitDiffs.length,
         unit: byGroup ? 'group' : 'pair',
-        pooledBase: spec ? pooledFrom(spec, tot[4 * M + spec.num]!, tot[4 * M + spec.den]!) : null,
-        pooledCand: spec ? pooledFrom(spec, tot[4 * M + nSum + spec.num]!, tot[4 * M + nSum + spec.den]!) : null,
+        pooledBase: pool ? pooledFrom(pool, tot, 4 * M) : null,
+        pooledCand: pool ? pooledFrom(pool, tot, 4 * M + nSum) : null,
       });
     });
   }
   const hl = opts.headline ?? { region: 'known' as RegionId, metric: 'epe' };
+  const hlMetric = findMetric(set, hl.metric);
+  if (!hlMetric) throw new RangeError(`compare: headline metric ${hl.metric} is not in the metric set`);
   const changes: PairChange[] = [];
   const statusChanges: PairChange[] = [];
   for (let i = 0; i < common.length; i++) {
-    const b = pairValue(pairsB[i]!, hl.region, hl.metric, thresholds, rmB[i]!);
-    const c = pairValue(pairsC[i]!, hl.region, hl.metric, thresholds, rmC[i]!);
+    const b = pairValue(pairsB[i]!, hl.region, hlMetric, rmB[i]!);
+    const c = pairValue(pairsC[i]!, hl.region, hlMetric, rmC[i]!);
     const pc: PairChange = {
       dataset: pairsB[i]!.dataset,
       pair: pairsB[i]!.pair,
@@ -235,14 +235,15 @@ function compareConfig(label: string, base: Map<string, JobResult>, cand: Map<st
     if (pc.baseStatus !== pc.candStatus) statusChanges.push(pc);
     if (Number.isFinite(pc.change) && pc.change !== 0) changes.push(pc);
   }
-  const sign = metricDirection(hl.metric) === 'higher-better' ? -1 : 1;
+  const sign = worseningSign(hlMetric);
   // Largest worsening first, then largest improvement; ties by pair key.
   changes.sort((x, y) => Math.abs(y.change) - Math.abs(x.change) || sign * (y.change - x.change) || cmp(`${x.dataset}/${x.pair}`, `${y.dataset}/${y.pair}`));
   return { label, pairs: common.length, deltas, topChanges: changes.slice(0, opts.top ?? 5), statusChanges };
 }
 
 export function compareRuns(base: RunData, cand: RunData, opts: CompareOptions = {}): Comparison {
-  const thresholds = [...cand.info.config.thresholds];
+  const set = metricSetOf(cand.info);
+  const thresholds = [...set.thresholds];
   const lb = byLabel(base.results);
   const lc = byLabel(cand.results);
   const labels = [...lb.keys()].filter((l) => lc.has(l)).sort(cmp);
@@ -254,9 +255,10 @@ export function compareRuns(base: RunData, cand: RunData, opts: CompareOptions =
     for (const k of lb.get(l)!.keys()) if (!lc.get(l)!.has(k)) pairsOnlyInBase.push(`${l}: ${k}`);
     for (const k of lc.get(l)!.keys()) if (!lb.get(l)!.has(k)) pairsOnlyInCand.push(`${l}: ${k}`);
   }
-  const configs = labels.map((l) => compareConfig(l, lb.get(l)!, lc.get(l)!, thresholds, opts));
+  const configs = labels.map((l) => compareConfig(l, lb.get(l)!, lc.get(l)!, set, opts));
   return {
     thresholds,
+    quantiles: [...set.quantiles],
     configs,
     configsOnlyInBase,
     configsOnlyInCand,
@@ -266,105 +268,4 @@ export function compareRuns(base: RunData, cand: RunData, opts: CompareOptions =
     resamples: opts.bootstrap?.resamples ?? 2000,
     level: opts.bootstrap?.level ?? 0.95,
   };
-}
-
-// ---------------------------------------------------------------- gates
-
-export interface Gate {
-  region: RegionId;
-  metric: string;
-  /** Allowed worsening in the metric's unit (percentage points for % metrics). */
-  allowance: number;
-  /** Where the gate came from (for messages). */
-  source: string;
-}
-
-/** Parse `region/metric:allowance`; unknown region or metric is a UsageError naming `option`. */
-export function parseGate(text: string, thresholds: readonly number[], option = '--gate'): Gate {
-  const m = /^([^/\s]+)\/([^:\s]+):([^\s]+)$/.exec(text.trim());
-  if (!m) throw new UsageError(option, `"${text}" is not region/metric:allowance (e.g. visible/over2px:0.5)`);
-  const [, region, metric, allow] = m as unknown as [string, string, string, string];
-  if (!(REGION_IDS as readonly string[]).includes(region)) {
-    throw new UsageError(option, `unknown region "${region}" in "${text}" (regions: ${REGION_IDS.join(', ')})`);
-  }
-  if (!isKnownMetric(metric, thresholds)) {
-    throw new UsageError(option, `unknown metric "${metric}" in "${text}" (metrics: ${metricNames(thresholds).join(', ')})`);
-  }
-  const allowance = Number(allow);
-  if (!Number.isFinite(allowance) || allowance < 0) throw new UsageError(option, `allowance in "${text}" must be a number >= 0`);
-  return { region: region as RegionId, metric, allowance, source: option };
-}
-
-/**
- * A gate file: JSON `{ "gates": [ "visible/over2px:0.5", { "region": "known", "metric": "epe", "allowance": 0.05 } ] }`
- * or a bare array of the same entries.
- */
-export function parseGateFile(text: string, file: string, thresholds: readonly number[]): Gate[] {
-  let json: unknown;
-  try {
-    json = JSON.parse(text);
-  } catch {
-    throw new UsageError('--gate-file', `${file} is not valid JSON`);
-  }
-  const list = Array.isArray(json) ? json : (json as { gates?: unknown })?.gates;
-  if (!Array.isArray(list)) throw new UsageError('--gate-file', `${file} must hold an array of gates or { "gates": [...] }`);
-  return list.map((g, i) => {
-    const where = `--gate-file ${file} [${i}]`;
-    if (typeof g === 'string') return parseGate(g, thresholds, where);
-    if (g && typeof g === 'object') {
-      const o = g as { region?: unknown; metric?: unknown; allowance?: unknown };
-      return parseGate(`${String(o.region)}/${String(o.metric)}:${String(o.allowance)}`, thresholds, where);
-    }
-    throw new UsageError(where, 'a gate is a string region/metric:allowance or an object { region, metric, allowance }');
-  });
-}
-
-export interface GateOutcome {
-  gate: Gate;
-  label: string;
-  pass: boolean;
-  worsening: number | null;
-  /** Upper bound of the worsening's interval (strict mode judges this). */
-  upper: number | null;
-  reason: string;
-}
-
-/**
- * Judge gates on every compared configuration.
- * Default: fail when the mean worsening exceeds the allowance.
- * Strict (non-inferiority): fail unless the interval's upper bound of the worsening is
- * within the allowance. No figure on any common pair -> fail (nothing shows it holds).
- */
-export function evaluateGates(c: Comparison, gates: readonly Gate[], strict: boolean): GateOutcome[] {
-  const out: GateOutcome[] = [];
-  for (const cfg of c.configs) {
-    for (const g of gates) {
-      const d = cfg.deltas.find((x) => x.region === g.region && x.metric === g.metric)!;
-      const w = d.worsening;
-      const upper = d.worseningCi ? d.worseningCi.hi : null;
-      let pass: boolean;
-      let reason: string;
-      if (w === null) {
-        pass = false;
-        reason = 'no pair has this figure in both runs';
-      } else if (strict) {
-        if (upper === null) {
-          pass = false;
-          reason = `no interval (${d.units} ${d.unit}${d.units === 1 ? '' : 's'}), non-inferiority cannot be shown`;
-        } else {
-          pass = upper <= g.allowance;
-          reason = `upper bound of worsening ${fmt(upper)} ${pass ? '<=' : '>'} allowance ${fmt(g.allowance)}`;
-        }
-      } else {
-        pass = w <= g.allowance;
-        reason = `worsening ${fmt(w)} ${pass ? '<=' : '>'} allowance ${fmt(g.allowance)}`;
-      }
-      out.push({ gate: g, label: cfg.label, pass, worsening: w, upper, reason });
-    }
-  }
-  return out;
-}
-
-function fmt(x: number): string {
-  return Number.isInteger(x) ? String(x) : x.toPrecision(4).replace(/\.?0+$/, '');
 }

@@ -62,7 +62,7 @@ async function pooledOver2(id: string, params: ParamValues, pairs: Pair[], regio
   let bad = 0;
   let pixels = 0;
   for (const p of pairs) {
-    const s = scorePair(await run(id, params, p), p.truth, p.regions, { thresholds: [2] });
+    const s = scorePair(await run(id, params, p), p.truth, p.regions, { thresholds: [2], quantiles: [] });
     bad += s[region].sums.bad[0];
     pixels += s[region].sums.pixels;
   }

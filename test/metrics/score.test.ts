@@ -19,9 +19,11 @@ describe('scorePair worked examples (arithmetic by hand in the comments)', () =>
     // epe = (1 + 0.5)/2 = 0.75; rmse = sqrt((1 + 0.25)/2) = sqrt(0.625); bias = 0.75.
     // over1px: |1| > 1 no (strict), 0.5 no, NaN = bad -> 1 of 3 = 33.33 %.
     // over0.5px: 1 > 0.5 yes, 0.5 > 0.5 no, NaN bad -> 2 of 3 = 66.67 %.
-    // q of [0.5, 1]: q50 h=0.5 -> 0.75; q75 h=0.75 -> 0.875; q90 -> 0.95; q99 -> 0.995.
+    // Quantiles of [0.5, 1], numpy's linear method: value at h = (n - 1) p = p, so
+    // q(p) = 0.5 + 0.5 p: q50 -> 0.75, q68 -> 0.84, q75 -> 0.875, q95 -> 0.975, q99 -> 0.995.
     const s = scorePair(Float32Array.of(3, NaN, 2.5), Float32Array.of(2, 2, 2), map([K | V, K | V, K | V]), {
       thresholds: [1, 0.5],
+      quantiles: [50, 68, 75, 95, 99],
     });
     const f = s.visible.figures;
     expect(f.pixels).toBe(3);
@@ -32,18 +34,18 @@ describe('scorePair worked examples (arithmetic by hand in the comments)', () =>
     expect(f.rates[0]).toBeCloseTo(100 / 3, 12);
     expect(f.rates[1]).toBeCloseTo(200 / 3, 12);
     expect(s.visible.sums.bad).toEqual([1, 2]);
-    expect(f.q50).toBe(0.75);
-    expect(f.q75).toBe(0.875);
-    expect(f.q90).toBeCloseTo(0.95, 15);
-    expect(f.q99).toBeCloseTo(0.995, 15);
+    expect(f.quantiles[0]).toBe(0.75);
+    expect(f.quantiles[1]).toBeCloseTo(0.84, 15);
+    expect(f.quantiles[2]).toBe(0.875);
+    expect(f.quantiles[3]).toBeCloseTo(0.975, 15);
+    expect(f.quantiles[4]).toBeCloseTo(0.995, 15);
     expect(s.known.figures).toEqual(f); // same pixels
-    // occluded / flat / jump have no pixels: every figure null (DESIGN.md: empty region)
+    // occluded / flat / jump have no pixels: every figure null (README, "Empty regions")
     for (const id of ['occluded', 'flat', 'jump'] as const) {
       const g = s[id].figures;
       expect(g.pixels).toBe(0);
-      expect([g.coverage, g.epe, g.rmse, g.bias, g.q50, g.q99, g.depth_relerr, g.depth_rmse_m]).toEqual(
-        [null, null, null, null, null, null, null, null],
-      );
+      expect([g.coverage, g.epe, g.rmse, g.bias, g.depth_relerr, g.depth_rmse_m]).toEqual([null, null, null, null, null, null]);
+      expect(g.quantiles).toEqual([null, null, null, null, null]);
       expect(g.rates).toEqual([null, null]);
     }
     // no camera -> depth figures null
@@ -62,24 +64,25 @@ describe('scorePair worked examples (arithmetic by hand in the comments)', () =>
       flatThreshold: 0,
     });
     expect(Array.from(regions.bits)).toEqual([K | V, 0, K | V, K | V]);
-    const s = scorePair(Float32Array.of(2, 5, Infinity, -Infinity), truth, regions, { thresholds: [1] });
+    const s = scorePair(Float32Array.of(2, 5, Infinity, -Infinity), truth, regions, { thresholds: [1], quantiles: [50, 99] });
     const f = s.known.figures;
     expect(f.pixels).toBe(3);
     expect(s.known.sums.valid).toBe(1);
     expect(f.coverage).toBeCloseTo(100 / 3, 12);
     expect(f.rates[0]).toBeCloseTo(200 / 3, 12);
-    expect([f.epe, f.bias, f.rmse, f.q50, f.q99]).toEqual([0, 0, 0, 0, 0]);
+    expect([f.epe, f.bias, f.rmse, ...f.quantiles]).toEqual([0, 0, 0, 0, 0]);
   });
 
-  it('failed job (pred null): coverage 0, every rate 100, error figures null (DESIGN.md status rule)', () => {
+  it('failed job (pred null): coverage 0, every rate 100, error figures null (README, "Failed jobs")', () => {
     const s = scorePair(null, Float32Array.of(1, 2, 3), map([K | V, K | V, K | REGION_BIT.occluded]), {
       thresholds: [0.5, 3],
+      quantiles: [50, 68, 95],
     });
     for (const id of ['known', 'visible', 'occluded'] as const) {
       const f = s[id].figures;
       expect(f.coverage).toBe(0);
       expect(f.rates).toEqual([100, 100]);
-      expect([f.epe, f.rmse, f.bias, f.q50, f.q75, f.q90, f.q99]).toEqual([null, null, null, null, null, null, null]);
+      expect([f.epe, f.rmse, f.bias, ...f.quantiles]).toEqual([null, null, null, null, null, null]);
     }
     expect(s.known.figures.pixels).toBe(3);
     expect(s.occluded.figures.pixels).toBe(1);
@@ -91,6 +94,7 @@ describe('scorePair worked examples (arithmetic by hand in the comments)', () =>
     // over2: 1 (2.5); over0.25: 4; over1: 2; over0.25 again: 4.
     const s = scorePair(Float32Array.of(0.3, 0.6, 1.5, 2.5), new Float32Array(4), map([K, K, K, K]), {
       thresholds: [2, 0.25, 1, 0.25],
+      quantiles: [],
     });
     expect(s.known.sums.bad).toEqual([1, 4, 2, 4]);
     expect(s.known.figures.rates).toEqual([25, 100, 50, 100]);
@@ -116,28 +120,29 @@ describe('scorePair worked examples (arithmetic by hand in the comments)', () =>
     // depth_relerr = (0 + 0.05)/2 = 0.025; depth_rmse_m = sqrt((0 + 0.01)/2) = sqrt(0.005).
     const truth = Float32Array.of(40, 40, 40, 40, -2, 40);
     const pred = Float32Array.of(40, 38, -3, -2, 5, NaN);
-    const s = scorePair(pred, truth, map([K, K, K, K, K, K]), { thresholds: [1], camera: cam });
+    const s = scorePair(pred, truth, map([K, K, K, K, K, K]), { thresholds: [1], quantiles: [], camera: cam });
     const sums = s.known.sums;
     expect(sums.depthCount).toBe(2);
     expect(sums.depthFail).toBe(2);
     expect(s.known.figures.depth_relerr).toBeCloseTo(0.025, 14);
     expect(s.known.figures.depth_rmse_m).toBeCloseTo(Math.sqrt(0.005), 14);
     // a region whose only pixels fail or are skipped has null depth figures
-    const s2 = scorePair(Float32Array.of(-3), Float32Array.of(40), map([K]), { thresholds: [1], camera: cam });
+    const s2 = scorePair(Float32Array.of(-3), Float32Array.of(40), map([K]), { thresholds: [1], quantiles: [], camera: cam });
     expect(s2.known.sums.depthFail).toBe(1);
     expect(s2.known.figures.depth_relerr).toBeNull();
   });
 
   it('figuresFromSums of added sums = figures of the concatenated pixels (pooling identity)', () => {
-    // Two tiny pairs: pooled epe = total |e| / total valid (DESIGN.md pooled definition).
-    const a = scorePair(Float32Array.of(1, 3), Float32Array.of(0, 0), map([K, K]), { thresholds: [2] });
-    const b = scorePair(Float32Array.of(NaN, 0.5), Float32Array.of(0, 0), map([K, K]), { thresholds: [2] });
-    const pooled = figuresFromSums(addSums(addSums(emptySums(1), a.known.sums), b.known.sums), [2], null);
+    // Two tiny pairs: pooled epe = total |e| / total valid (README, "Aggregates over pairs").
+    const set = { thresholds: [2], quantiles: [50] };
+    const a = scorePair(Float32Array.of(1, 3), Float32Array.of(0, 0), map([K, K]), set);
+    const b = scorePair(Float32Array.of(NaN, 0.5), Float32Array.of(0, 0), map([K, K]), set);
+    const pooled = figuresFromSums(addSums(addSums(emptySums(1), a.known.sums), b.known.sums), set, null);
     // |e| = 1, 3, 0.5 over 3 valid -> epe 1.5; bad(>2) = {3, NaN} = 2 of 4 -> 50 %
     expect(pooled.epe).toBe(1.5);
     expect(pooled.rates).toEqual([50]);
     expect(pooled.coverage).toBe(75);
-    expect(pooled.q50).toBeNull(); // no pooled quantiles
+    expect(pooled.quantiles).toEqual([null]); // no pooled quantiles
   });
 });
 
@@ -146,6 +151,7 @@ describe('scorePair against an independent numpy implementation', () => {
   const H = 97;
   const THRESH = [2, 0.25, 1, 3, 0.5, 1];
   const CAM = { focalPx: 700, baselineM: 0.12, cxShiftPx: 1.5 };
+  const QUANT = [50, 68, 75, 95, 99]; // the numpy script asks for the same levels / 100
 
   function makeCase(seed: number, emptyJump: boolean) {
     const r = rng(seed);
@@ -201,7 +207,7 @@ for case in ['pred', 'nopred']:
         d['rmse'] = float(np.sqrt((e * e).mean())) if nv else None
         d['bias'] = float(e.mean()) if nv else None
         d['rates'] = [100.0 * b / px if px else None for b in bad]
-        d['q'] = [float(v) for v in np.quantile(a, [0.5, 0.75, 0.9, 0.99])] if nv else None
+        d['q'] = [float(v) for v in np.quantile(a, [0.5, 0.68, 0.75, 0.95, 0.99])] if nv else None
         # depth rule (src/metrics/score.ts): truth d+c > eps, valid prediction; d_p+c <= 0 fails
         dm = vm & (T + c > eps)
         ok = dm & (P + c > 0)
@@ -227,8 +233,8 @@ print(json.dumps(out))
       const ref = runNumpy({ truth, pred, bits }, SCRIPT);
       const regions: RegionMap = { width: W, height: H, bits };
       const runs = {
-        pred: scorePair(pred, truth, regions, { thresholds: THRESH, camera: CAM }),
-        nopred: scorePair(null, truth, regions, { thresholds: THRESH, camera: CAM }),
+        pred: scorePair(pred, truth, regions, { thresholds: THRESH, quantiles: QUANT, camera: CAM }),
+        nopred: scorePair(null, truth, regions, { thresholds: THRESH, quantiles: QUANT, camera: CAM }),
       };
       const near = (a: number | null, b: number | null, what: string) => {
         if (b === null) return expect(a, what).toBeNull();
@@ -256,8 +262,8 @@ print(json.dumps(out))
           near(figures.rmse, d.rmse, `${w} rmse`);
           near(figures.bias, d.bias, `${w} bias`);
           figures.rates.forEach((v, j) => near(v, d.rates[j], `${w} rate ${THRESH[j]}`));
-          const q = [figures.q50, figures.q75, figures.q90, figures.q99];
-          if (d.q === null) expect(q, w).toEqual([null, null, null, null]);
+          const q = figures.quantiles;
+          if (d.q === null) expect(q, w).toEqual(QUANT.map(() => null));
           // same order statistics and numpy's own lerp: 1e-12 relative
           else q.forEach((v, j) => expect(closeRel(v!, d.q[j], 1e-12), `${w} q${j}: ${v} vs ${d.q[j]}`).toBe(true));
           near(figures.depth_relerr, d.depth_relerr, `${w} depth_relerr`);

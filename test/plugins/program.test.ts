@@ -213,7 +213,7 @@ describe('program definitions', () => {
     expect(msg({ id: 'x', mode: 'long-lived', command: ['p', '{left}'], output: { format: 'pfm' } })).toBe(
       'matchers[1].program: command[1]: {left} is per pair; a long-lived program gets it in each request',
     );
-    expect(msg({ id: 'x', command: ['p', '{left}', '{right}', '{out}'], output: { format: 'pfm' }, timeout: 5 })).toMatch(/Unrecognized key.*timeout/);
+    expect(msg({ id: 'x', command: ['p', '{left}', '{right}', '{out}'], output: { format: 'pfm' }, timeout: 5 })).toMatch(/unknown key "timeout"/);
     expect(msg({ id: 'x', command: ['p', '{left}', '{right}', '{out}'], output: { format: 'pfm' }, params: [{ name: 'w', type: 'int', default: 2, odd: true }] })).toMatch(
       /default of w is invalid/,
     );

@@ -12,7 +12,7 @@ import { join, resolve } from 'node:path';
 import { pathToFileURL } from 'node:url';
 import { chromium, type Browser } from 'playwright-core';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
-import { writeHtmlReport } from '../../src/report/html.js';
+import { writeHtmlReport } from '../../src/report/html/index.js';
 import { buildSyntheticRun } from './synthetic-run.js';
 
 const CHROMIUM = '/usr/bin/chromium';

@@ -10,9 +10,10 @@ import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { InputError } from '../../src/core/errors.js';
-import { buildHtmlReport, renderHtmlReport, writeHtmlReport } from '../../src/report/html.js';
+import { buildHtmlReport, renderHtmlReport, writeHtmlReport } from '../../src/report/html/index.js';
 import { writeRunOutputs } from '../../src/runner/outputs.js';
 import { buildSyntheticRun } from './synthetic-run.js';
+import { DEFAULT_QUANTILES } from '../../src/metrics/catalogue.js';
 
 let root = '';
 let runDir = '';
@@ -72,7 +73,7 @@ describe('streamed HTML report', () => {
     const fromFile = await buildHtmlReport(runDir);
     const thresholds = (JSON.parse(await readFile(join(runDir, 'run.json'), 'utf8')) as { config: { thresholds: number[] } }).config.thresholds;
     const journal = (await readFile(join(runDir, 'results.jsonl'), 'utf8')).trim().split('\n').map((l) => JSON.parse(l) as (typeof results)[number]);
-    const out = await writeRunOutputs(runDir, journal, thresholds);
+    const out = await writeRunOutputs(runDir, journal, { thresholds, quantiles: DEFAULT_QUANTILES });
     expect(out.files).toContain('index.html');
     expect(await readFile(join(runDir, 'index.html'), 'utf8')).toBe(fromFile);
   });
@@ -84,7 +85,7 @@ describe('streamed HTML report', () => {
       // A run.json that is not a run record: the render fails before or while writing.
       await writeFile(join(runDir, 'run.json'), '{"config":{}}');
       await expect(writeHtmlReport(runDir, { results })).rejects.toBeInstanceOf(InputError);
-      await expect(writeHtmlReport(runDir, { results })).rejects.toThrow(/run\.json: is not a parallax run record/);
+      await expect(writeHtmlReport(runDir, { results })).rejects.toThrow(/run\.json: was written by an older parallax/);
     } finally {
       await writeFile(join(runDir, 'run.json'), info);
     }

@@ -3,7 +3,7 @@ import { mkdtemp, readFile, rm } from 'node:fs/promises';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
-import { buildHtmlReport, escapeHtml, scriptSafeJson, writeHtmlReport } from '../../src/report/html.js';
+import { buildHtmlReport, escapeHtml, scriptSafeJson, writeHtmlReport } from '../../src/report/html/index.js';
 import { pairPreviewPaths } from '../../src/report/preview.js';
 import { buildSyntheticRun } from './synthetic-run.js';
 

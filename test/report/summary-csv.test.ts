@@ -2,6 +2,7 @@ import { describe, expect, it } from 'vitest';
 import { aggregate } from '../../src/stats/aggregate.js';
 import { summaryCsvText } from '../../src/report/summary-csv.js';
 import { makeJob } from '../stats/fixtures.js';
+import { DEFAULT_QUANTILES } from '../../src/metrics/catalogue.js';
 
 const T = [1, 2];
 
@@ -31,8 +32,8 @@ describe('summaryCsvText', () => {
       makeJob({ pair: 'a', errors: { all: [0.5, -1.5, 3, NaN] } }, T),
       makeJob({ pair: 'b', errors: { all: [1], visible: [] } }, T),
     ];
-    const rows = aggregate(jobs, { thresholds: T, ci: false });
-    const csv = parseCsv(summaryCsvText(rows, T));
+    const rows = aggregate(jobs, { thresholds: T, quantiles: DEFAULT_QUANTILES, ci: false });
+    const csv = parseCsv(summaryCsvText(rows, { thresholds: T, quantiles: DEFAULT_QUANTILES }));
     const h = csv[0]!;
     expect(h.slice(0, 4)).toEqual(['matcher', 'dataset', 'region', 'tag']);
     expect(h).toContain('mean_over2px');
@@ -52,7 +53,7 @@ describe('summaryCsvText', () => {
 
   it('neutralises a label that a spreadsheet would run as a formula (OWASP CSV injection)', () => {
     const jobs = [makeJob({ pair: 'a', matcher: '=HYPERLINK("x")', errors: { all: [1] } }, T), makeJob({ pair: 'a', matcher: '\tsgm', errors: { all: [1] } }, T)];
-    const csv = parseCsv(summaryCsvText(aggregate(jobs, { thresholds: T, ci: false }), T));
+    const csv = parseCsv(summaryCsvText(aggregate(jobs, { thresholds: T, quantiles: DEFAULT_QUANTILES, ci: false }), { thresholds: T, quantiles: DEFAULT_QUANTILES }));
     const labels = new Set(csv.slice(1).map((r) => r[0]));
     expect(labels).toEqual(new Set([`'=HYPERLINK("x")`, `'\tsgm`]));
   });

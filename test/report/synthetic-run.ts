@@ -16,6 +16,8 @@ import { buildRegions } from '../../src/dataset/regions.js';
 import { scorePair } from '../../src/metrics/score.js';
 import { writePairPreview, writePreview } from '../../src/report/preview.js';
 import { createPrng } from '../../src/stats/prng.js';
+import { RUN_RECORD_FORMAT, writeRunRecord, type RunRecord } from '../../src/io/run-record.js';
+import { DEFAULT_QUANTILES } from '../../src/metrics/catalogue.js';
 
 export interface SyntheticConfig {
   label: string;
@@ -122,7 +124,7 @@ export async function buildSyntheticRun(o: SyntheticRunOptions): Promise<{ runDi
           pred[i] = rng.next() < c.holes ? NaN : t + c.noise * gauss();
         }
       }
-      const scores = scorePair(pred, truth, regions, { thresholds });
+      const scores = scorePair(pred, truth, regions, { thresholds, quantiles: [...DEFAULT_QUANTILES] });
       const job: JobResult = {
         matcher: c.label,
         matcherId: c.label.split(':')[0]!,
@@ -134,6 +136,7 @@ export async function buildSyntheticRun(o: SyntheticRunOptions): Promise<{ runDi
         peak_mb: 50 + 10 * rng.next(),
         scores,
         thresholds,
+        quantiles: [...DEFAULT_QUANTILES],
       };
       if (failed) job.error = c.error ?? 'matcher exited with code 3';
       if (o.tagEven && k % 2 === 0) job.tags = ['wet-floor'];
@@ -149,7 +152,8 @@ export async function buildSyntheticRun(o: SyntheticRunOptions): Promise<{ runDi
     pairs: ids.map((id, k) => ({ id, left: `${id}-l.png`, right: `${id}-r.png`, truth: `${id}-d.pfm`, ...(o.tagEven && k % 2 === 0 ? { tags: ['wet-floor'] } : {}) })),
   };
   await writeFile(join(datasetDir, 'dataset.json'), JSON.stringify(manifest, null, 2));
-  const info = {
+  const info: RunRecord = {
+    format: RUN_RECORD_FORMAT,
     tool: { name: 'parallax', version: '0.1.0', git: { commit: '0123456789abcdef0123456789abcdef01234567', dirty: false } },
     name: o.runName ?? 'dock-synthetic',
     status: 'complete',
@@ -157,14 +161,17 @@ export async function buildSyntheticRun(o: SyntheticRunOptions): Promise<{ runDi
     ended: '2026-01-05T08:02:00.000Z',
     config: {
       thresholds,
+      quantiles: [...DEFAULT_QUANTILES],
       regions: { ...DEFAULT_REGION_PARAMS },
-      matchers: o.configs.map((c) => ({ label: c.label, matcherId: c.label.split(':')[0], kind: 'matcher', version: '1', params: { noise: c.noise }, codeHash: 'f'.repeat(64) })),
+      matchers: o.configs.map((c) => ({ label: c.label, matcherId: c.label.split(':')[0]!, kind: 'matcher' as const, version: '1', params: { noise: c.noise }, codeHash: 'f'.repeat(64) })),
       datasets: [{ name: 'dock-yard', path: datasetDir, manifest: join(datasetDir, 'dataset.json'), hash: 'c'.repeat(64), pairs: o.pairs }],
     },
     jobs: { total: results.length, ok: results.filter((r) => r.status === 'ok').length, failed: results.filter((r) => r.status === 'failed').length },
     environment: { node: process.version, cpu: { model: 'synthetic', count: 2 }, os: { platform: 'linux', release: '', arch: 'x64' }, memoryMb: 1024 },
+    notes: {},
   };
-  await writeFile(join(runDir, 'run.json'), JSON.stringify(info, null, 2));
+  // Through the runner's own writer, so a change of the record's format reaches these fixtures.
+  await writeRunRecord(runDir, info);
   await writeFile(join(runDir, 'results.jsonl'), results.map((r) => JSON.stringify(r)).join('\n') + '\n');
   return { runDir, datasetDir, results };
 }

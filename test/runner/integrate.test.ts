@@ -19,6 +19,7 @@ import { loadPair } from '../../src/dataset/load.js';
 import { aggregate } from '../../src/stats/aggregate.js';
 import { writeDataset, type WrittenDataset } from '../dataset/fixture.js';
 import { planWith } from './plan-helpers.js';
+import { DEFAULT_QUANTILES } from '../../src/metrics/catalogue.js';
 
 const root = mkdtempSync(join(tmpdir(), 'parallax-integrate-'));
 afterAll(() => rmSync(root, { recursive: true, force: true }));
@@ -119,7 +120,7 @@ describe('broken pairs', () => {
   it('with truth but no left image: regions from the truth, flat empty, all-invalid rates', () => {
     // Hand-made 4x1 truth: two finite values, one NaN (unknown), one finite.
     const truth = { width: 4, height: 1, data: new Float32Array([1, 1, NaN, 1]) };
-    const s = truthOnlyScores(truth, undefined, undefined, DEFAULT_REGION_PARAMS, [1, 2]);
+    const s = truthOnlyScores(truth, undefined, undefined, DEFAULT_REGION_PARAMS, { thresholds: [1, 2], quantiles: DEFAULT_QUANTILES });
     // known = finite truth = 3 pixels (DESIGN.md regions); failed job = every known pixel bad.
     expect(s.known.figures.pixels).toBe(3);
     expect(s.known.figures.coverage).toBe(0);
@@ -128,22 +129,22 @@ describe('broken pairs', () => {
     // flat needs the left image: empty without it (documented choice).
     expect(s.flat.figures.pixels).toBe(0);
     // With a left image of constant luminance every visible pixel is flat (zero gradient < threshold).
-    const withLeft = truthOnlyScores(truth, new Float32Array(4).fill(100), undefined, DEFAULT_REGION_PARAMS, [1, 2]);
+    const withLeft = truthOnlyScores(truth, new Float32Array(4).fill(100), undefined, DEFAULT_REGION_PARAMS, { thresholds: [1, 2], quantiles: DEFAULT_QUANTILES });
     expect(withLeft.flat.figures.pixels).toBe(withLeft.visible.figures.pixels);
     expect(withLeft.flat.figures.pixels).toBeGreaterThan(0);
   });
 
   it('without truth: every region empty, and aggregate leaves the pair out of the means', () => {
     const th = [1, 2];
-    const empty = unscoredPair(th);
+    const empty = unscoredPair({ thresholds: th, quantiles: DEFAULT_QUANTILES });
     for (const r of REGION_IDS) {
       expect(empty[r].figures.pixels).toBe(0);
       expect(empty[r].figures.coverage).toBeNull();
       expect(empty[r].figures.rates).toEqual([null, null]);
     }
-    const base = { matcher: 'm', matcherId: 'm', params: {}, dataset: 'd', time_ms: null, peak_mb: null, thresholds: th };
+    const base = { matcher: 'm', matcherId: 'm', params: {}, dataset: 'd', time_ms: null, peak_mb: null, thresholds: th, quantiles: [...DEFAULT_QUANTILES] };
     // A scored pair: 4 pixels of known, 2 valid with |e| = 1 and 3 (hand-made sums).
-    const good = unscoredPair(th);
+    const good = unscoredPair({ thresholds: th, quantiles: DEFAULT_QUANTILES });
     good.known = {
       sums: { pixels: 4, valid: 2, sumAbs: 4, sumSq: 10, sumErr: 4, bad: [3, 3], depthCount: 0, depthSumRel: 0, depthSumSq: 0, depthFail: 0 },
       figures: { ...good.known.figures },
@@ -153,7 +154,7 @@ describe('broken pairs', () => {
         { ...base, pair: 'a', status: 'ok', scores: good },
         { ...base, pair: 'b', status: 'failed', error: 'pair not loaded', scores: empty },
       ] as JobResult[],
-      { thresholds: th, ci: false },
+      { thresholds: th, quantiles: DEFAULT_QUANTILES, ci: false },
     );
     const known = rows.find((r) => r.region === 'known' && r.tag === null)!;
     // DESIGN.md: an empty region is left out of means over pairs; n_pairs says how many.

@@ -7,11 +7,12 @@ import type { MatcherPlugin } from '../../src/plugins/contract.js';
 import { enumerateJobs } from '../../src/runner/jobs.js';
 import { planRun, type RunPlan } from '../../src/runner/plan.js';
 import type { WrittenDataset } from '../dataset/fixture.js';
+import { DEFAULT_QUANTILES } from '../../src/metrics/catalogue.js';
 
 export async function planWith(ds: WrittenDataset, plugins: MatcherPlugin[], runDir: string, baseDir: string): Promise<RunPlan> {
   const m = loadManifest(ds.dir);
   const plan = await planRun(
-    { datasets: [ds.dir], matchers: ['block'], matcherEntries: [], predictions: [], thresholds: [...DEFAULT_THRESHOLDS], regions: { ...DEFAULT_REGION_PARAMS }, out: runDir, baseDir },
+    { datasets: [ds.dir], matchers: ['block'], matcherEntries: [], predictions: [], thresholds: [...DEFAULT_THRESHOLDS], quantiles: [...DEFAULT_QUANTILES], regions: { ...DEFAULT_REGION_PARAMS }, out: runDir, baseDir },
     baseDir,
   );
   const configs = plugins.map((p) => ({ kind: 'matcher' as const, label: p.id, matcherId: p.id, params: {}, codeHash: 'test', version: '1', plugin: p }));

@@ -20,6 +20,7 @@ import { encodeNpy } from '../../src/io/npy.js';
 import { encodePngDisparity } from '../../src/io/png.js';
 import { writeDataset, type WrittenDataset } from '../dataset/fixture.js';
 import { planWith } from './plan-helpers.js';
+import { DEFAULT_QUANTILES } from '../../src/metrics/catalogue.js';
 
 const root = mkdtempSync(join(tmpdir(), 'parallax-runner-'));
 afterAll(() => rmSync(root, { recursive: true, force: true }));
@@ -45,9 +46,9 @@ describe('csvText', () => {
 
 describe('pairs.csv header', () => {
   it('has exactly the agreed column order', () => {
-    // Column order from the task brief, threshold columns from DESIGN.md's default set.
-    expect(pairsCsvHeader(DEFAULT_THRESHOLDS).join(',')).toBe(
-      'matcher,dataset,pair,region,status,pixels,coverage,epe,rmse,bias,over0.25px,over0.5px,over1px,over2px,over3px,q50,q75,q90,q99,depth_relerr,depth_rmse_m,time_ms,peak_mb',
+    // Column order as the README's pairs.csv section states it, with the default thresholds and quantile levels.
+    expect(pairsCsvHeader({ thresholds: DEFAULT_THRESHOLDS, quantiles: DEFAULT_QUANTILES }).join(',')).toBe(
+      'matcher,dataset,pair,region,status,pixels,coverage,epe,rmse,bias,over0.25px,over0.5px,over1px,over2px,over3px,q50,q68,q95,depth_relerr,depth_rmse_m,time_ms,peak_mb',
     );
   });
 });
@@ -197,6 +198,7 @@ describe('executeRun', () => {
         matcherEntries: [],
         predictions: [{ label: 'net-v2', dir: pd, scale: 16 }],
         thresholds: [...DEFAULT_THRESHOLDS],
+        quantiles: [...DEFAULT_QUANTILES],
         regions: { ...DEFAULT_REGION_PARAMS },
         out: runDir,
         baseDir: root,

@@ -15,7 +15,7 @@ import { cacheKey, decodeEntry, encodeEntry, listEntries, pruneCache, ResultCach
 import { enumerateJobs, groupByPair } from '../../src/runner/jobs.js';
 import { recoverJournal } from '../../src/runner/journal.js';
 import { workerFile } from '../../src/runner/pool.js';
-import type { RunInfo } from '../../src/runner/provenance.js';
+import type { RunConfigRecord } from '../../src/io/run-record.js';
 import { configDifference } from '../../src/runner/resume.js';
 import { threadsPerJob } from '../../src/runner/scale.js';
 import { parseShard, shardJobs } from '../../src/runner/shard.js';
@@ -218,8 +218,9 @@ describe('thread budget and worker file', () => {
 });
 
 describe('configuration comparison (--resume, merge)', () => {
-  const cfg: RunInfo['config'] = {
+  const cfg: RunConfigRecord = {
     thresholds: [1, 2],
+    quantiles: [50, 68, 95],
     regions: { flatWindow: 5, flatThreshold: 4 },
     matchers: [
       { label: 'block', matcherId: 'block', kind: 'matcher', params: { window: 9 }, codeHash: 'h1' },
@@ -227,7 +228,7 @@ describe('configuration comparison (--resume, merge)', () => {
     ],
     datasets: [{ name: 'dock', path: '/a/dock', manifest: '/a/dock/dataset.json', hash: 'd1', pairs: 4 }],
   };
-  const clone = (): RunInfo['config'] => JSON.parse(JSON.stringify(cfg));
+  const clone = (): RunConfigRecord => JSON.parse(JSON.stringify(cfg));
 
   it('agrees when only paths or the order of configurations differ', () => {
     const b = clone();

@@ -1,6 +1,7 @@
 import { describe, expect, it } from 'vitest';
 import { aggregate } from '../../src/stats/aggregate.js';
 import { makeJob } from './fixtures.js';
+import { DEFAULT_QUANTILES } from '../../src/metrics/catalogue.js';
 
 const T = [1, 2];
 const N = NaN;
@@ -19,7 +20,7 @@ function threePairs() {
 
 describe('aggregate', () => {
   it('mean over pairs and pooled figures match a hand computation (empty region, failed job)', () => {
-    const rows = aggregate(threePairs(), { thresholds: T, ci: false });
+    const rows = aggregate(threePairs(), { thresholds: T, quantiles: DEFAULT_QUANTILES, ci: false });
     const vis = rows.find((r) => r.region === 'visible')!;
     // Hand computation (this test):
     //  n_pairs: A and C have a non-empty visible region -> 2; B is left out.
@@ -57,7 +58,7 @@ describe('aggregate', () => {
   });
 
   it('known region includes B (non-empty) and so counts 3 pairs', () => {
-    const rows = aggregate(threePairs(), { thresholds: T, ci: false });
+    const rows = aggregate(threePairs(), { thresholds: T, quantiles: DEFAULT_QUANTILES, ci: false });
     const known = rows.find((r) => r.region === 'known')!;
     // Hand computation: coverage A 75, B 100, C 0 -> mean 175/3.
     expect(known.n_pairs).toBe(3);
@@ -79,8 +80,8 @@ describe('aggregate', () => {
       const j = s % (i + 1);
       [shuffled[i], shuffled[j]] = [shuffled[j]!, shuffled[i]!];
     }
-    const a = aggregate(jobs, { thresholds: T, ci: { resamples: 200, seed: 7 } });
-    const b = aggregate(shuffled, { thresholds: T, ci: { resamples: 200, seed: 7 } });
+    const a = aggregate(jobs, { thresholds: T, quantiles: DEFAULT_QUANTILES, ci: { resamples: 200, seed: 7 } });
+    const b = aggregate(shuffled, { thresholds: T, quantiles: DEFAULT_QUANTILES, ci: { resamples: 200, seed: 7 } });
     expect(JSON.stringify(b)).toBe(JSON.stringify(a));
     expect(a.map((r) => r.matcher + r.region)).toEqual(
       ['block', 'sgm'].flatMap((m) => ['known', 'visible', 'occluded', 'flat', 'jump'].map((r) => m + r)),
@@ -93,7 +94,7 @@ describe('aggregate', () => {
       makeJob({ pair: 'b', group: 'g1', errors: { all: [3] } }, T),
       makeJob({ pair: 'c', group: 'g2', tags: ['rain'], errors: { all: [0.5] } }, T),
     ];
-    const rows = aggregate(jobs, { thresholds: T, byTag: true, ci: { resamples: 100 } });
+    const rows = aggregate(jobs, { thresholds: T, quantiles: DEFAULT_QUANTILES, byTag: true, ci: { resamples: 100 } });
     const all = rows.find((r) => r.region === 'known' && r.tag === null)!;
     expect(all.unit).toBe('group');
     expect(all.n_units).toBe(2);
@@ -102,11 +103,11 @@ describe('aggregate', () => {
     expect(rain.n_pairs).toBe(2);
     expect(rain.metrics.epe!.mean).toBeCloseTo(1, 12);
     // Without the option, tag rows appear because the jobs carry tags (common practice: opt-out default).
-    expect(aggregate(jobs, { thresholds: T, ci: false }).some((r) => r.tag === 'rain')).toBe(true);
-    expect(aggregate(jobs, { thresholds: T, ci: false, byTag: false }).some((r) => r.tag !== null)).toBe(false);
+    expect(aggregate(jobs, { thresholds: T, quantiles: DEFAULT_QUANTILES, ci: false }).some((r) => r.tag === 'rain')).toBe(true);
+    expect(aggregate(jobs, { thresholds: T, quantiles: DEFAULT_QUANTILES, ci: false, byTag: false }).some((r) => r.tag !== null)).toBe(false);
   });
 
   it('rejects results lacking a requested threshold (typed input error)', () => {
-    expect(() => aggregate(threePairs(), { thresholds: [3], ci: false })).toThrow(/no rate for threshold 3 px/);
+    expect(() => aggregate(threePairs(), { thresholds: [3], quantiles: DEFAULT_QUANTILES, ci: false })).toThrow(/no rate for threshold 3 px/);
   });
 });

@@ -4,7 +4,9 @@ import { join } from 'node:path';
 import { afterAll, describe, expect, it } from 'vitest';
 import { runCompare } from '../../src/cli/commands/compare.js';
 import { ParallaxError } from '../../src/core/errors.js';
-import { compareRuns, evaluateGates, parseGate } from '../../src/stats/compare.js';
+import { compareRuns } from '../../src/stats/compare.js';
+import { evaluateGates, parseGate } from '../../src/stats/gates.js';
+import { DEFAULT_QUANTILES } from '../../src/metrics/catalogue.js';
 import { createPrng } from '../../src/stats/prng.js';
 import { makeJob } from './fixtures.js';
 import { writeRunFolder } from './run-fixture.js';
@@ -79,8 +81,8 @@ describe('parallax compare', () => {
     const base = jobs('block', false);
     const worse = jobs('block', true);
     const c = compareRuns(
-      { dir: f.base, info: { config: { thresholds: T, regions: {}, datasets: [] } }, results: base },
-      { dir: f.worse, info: { config: { thresholds: T, regions: {}, datasets: [] } }, results: worse },
+      { dir: f.base, info: { config: { thresholds: T, quantiles: [...DEFAULT_QUANTILES], regions: {}, datasets: [] } }, results: base },
+      { dir: f.worse, info: { config: { thresholds: T, quantiles: [...DEFAULT_QUANTILES], regions: {}, datasets: [] } }, results: worse },
       { bootstrap: { resamples: 200 } },
     );
     const d = c.configs[0]!.deltas.find((x) => x.region === 'visible' && x.metric === 'over2px')!;
@@ -146,9 +148,9 @@ describe('parallax compare', () => {
     const d = [0.2, 0.1, -0.05, 0.3, 0, 0.15];
     const base = d.map((_, i) => makeJob({ pair: `q${i}`, errors: { all: [1, -1] } }, T));
     const cand = d.map((x, i) => makeJob({ pair: `q${i}`, errors: { all: [1 + x, -1 - x] } }, T));
-    const info = { config: { thresholds: T, regions: {}, datasets: [] } };
+    const info = { config: { thresholds: T, quantiles: [...DEFAULT_QUANTILES], regions: {}, datasets: [] } };
     const c = compareRuns({ dir: 'a', info, results: base }, { dir: 'b', info, results: cand }, { bootstrap: { resamples: 1000 } });
-    const gate = parseGate('known/epe:0.15', T);
+    const gate = parseGate('known/epe:0.15', { thresholds: T, quantiles: DEFAULT_QUANTILES });
     const loose = evaluateGates(c, [gate], false)[0]!;
     const strict = evaluateGates(c, [gate], true)[0]!;
     expect(loose.worsening).toBeCloseTo(0.7 / 6, 12);

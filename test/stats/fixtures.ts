@@ -1,6 +1,7 @@
 /** Hand-built JobResults for the stats tests (no runner needed). */
 import type { JobResult, RegionScore } from '../../src/core/score.js';
 import { REGION_IDS, type RegionId } from '../../src/core/regions.js';
+import { DEFAULT_QUANTILES } from '../../src/metrics/catalogue.js';
 
 /** Abs-error quantile, linear interpolation (numpy's default), written out for the fixtures. */
 function q(sorted: number[], p: number): number | null {
@@ -13,7 +14,7 @@ function q(sorted: number[], p: number): number | null {
 
 /**
  * Score a region from a list of signed errors (NaN = invalid prediction) by the
- * definitions in DESIGN.md, so the fixtures are self-consistent.
+ * definitions of the README's metric table, so the fixtures are self-consistent.
  */
 export function regionFromErrors(errors: number[], thresholds: number[]): RegionScore {
   const pixels = errors.length;
@@ -33,10 +34,7 @@ export function regionFromErrors(errors: number[], thresholds: number[]): Region
       rmse: n ? Math.sqrt(sumSq / n) : null,
       bias: n ? sumErr / n : null,
       rates: bad.map((b) => (pixels ? (100 * b) / pixels : null)),
-      q50: q(abs, 0.5),
-      q75: q(abs, 0.75),
-      q90: q(abs, 0.9),
-      q99: q(abs, 0.99),
+      quantiles: DEFAULT_QUANTILES.map((p) => q(abs, p / 100)),
       depth_relerr: null,
       depth_rmse_m: null,
     },
@@ -69,6 +67,7 @@ export function makeJob(spec: JobSpec, thresholds: number[]): JobResult {
     peak_mb: null,
     scores,
     thresholds,
+    quantiles: [...DEFAULT_QUANTILES],
   };
   if (spec.failed) job.error = 'matcher exited with code 3';
   if (spec.group !== undefined) job.group = spec.group;

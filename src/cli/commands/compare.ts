@@ -13,8 +13,10 @@ import { writeFileAtomic } from '../../io/files.js';
 import { compareConsole, compareMarkdown } from '../../report/compare-md.js';
 import { readRunFolder } from '../../report/run-folder.js';
 import { DEFAULT_RESAMPLES, DEFAULT_SEED } from '../../stats/bootstrap.js';
-import { comparabilityProblems, compareRuns, evaluateGates, parseGate, parseGateFile, type Gate } from '../../stats/compare.js';
-import { isKnownMetric } from '../../stats/metrics.js';
+import { comparabilityProblems, compareRuns } from '../../stats/compare.js';
+import { evaluateGates, parseGate, parseGateFile, type Gate } from '../../stats/gates.js';
+import { findMetric } from '../../metrics/catalogue.js';
+import { metricSetOf } from '../../io/run-record.js';
 
 export interface CompareArgs {
   baseline: string;
@@ -48,9 +50,9 @@ export async function runCompare(a: CompareArgs, io: CompareIo): Promise<number>
     }
     for (const p of problems) io.stderr(`parallax compare: warning: ${p}\n`);
   }
-  const thresholds = cand.info.config.thresholds;
+  const set = metricSetOf(cand.info);
   const gates: Gate[] = [];
-  for (const g of a.gate ?? []) gates.push(parseGate(g, thresholds));
+  for (const g of a.gate ?? []) gates.push(parseGate(g, set));
   if (a.gateFile) {
     let text: string;
     try {
@@ -58,12 +60,12 @@ export async function runCompare(a: CompareArgs, io: CompareIo): Promise<number>
     } catch {
       throw new UsageError('--gate-file', `${a.gateFile} cannot be read`);
     }
-    gates.push(...parseGateFile(text, a.gateFile, thresholds));
+    gates.push(...parseGateFile(text, a.gateFile, set));
   }
   let headline: { region: RegionId; metric: string } | undefined;
   if (a.headline) {
     const [r, m] = a.headline.split('/');
-    if (!(REGION_IDS as readonly string[]).includes(r ?? '') || !m || !isKnownMetric(m, thresholds)) {
+    if (!(REGION_IDS as readonly string[]).includes(r ?? '') || !m || !findMetric(set, m)) {
       throw new UsageError('--headline', `"${a.headline}" is not region/metric (e.g. visible/over2px)`);
     }
     headline = { region: r as RegionId, metric: m };

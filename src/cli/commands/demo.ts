@@ -13,7 +13,7 @@ import { join, resolve } from 'node:path';
 import type { Argv, CommandModule } from 'yargs';
 import { DEFAULT_REGION_PARAMS } from '../../core/regions.js';
 import { MANIFEST_FILE } from '../../dataset/manifest.js';
-import { DEFAULT_THRESHOLDS } from '../../metrics/types.js';
+import { DEFAULT_QUANTILES, DEFAULT_THRESHOLDS } from '../../metrics/catalogue.js';
 import { builtinMatchers } from '../../plugins/registry.js';
 import { planRun } from '../../runner/plan.js';
 import { cacheLine, scaleFromArgs } from '../scale-options.js';
@@ -73,6 +73,7 @@ export const demoCommand: CommandModule<object, DemoArgs> = {
       matcherEntries: [],
       predictions: [],
       thresholds: [...DEFAULT_THRESHOLDS],
+      quantiles: [...DEFAULT_QUANTILES],
       regions: { ...DEFAULT_REGION_PARAMS },
       out: resolve(a.out),
       name: 'demo',

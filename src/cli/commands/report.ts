@@ -5,7 +5,7 @@
 import { resolve } from 'node:path';
 import type { CommandModule } from 'yargs';
 import { UsageError } from '../../core/errors.js';
-import { writeHtmlReport } from '../../report/html.js';
+import { writeHtmlReport } from '../../report/html/index.js';
 import { DISPARITY_MAPS, type DisparityMapName } from '../../report/colormaps.js';
 import { DEFAULT_RESAMPLES } from '../../stats/bootstrap.js';
 

@@ -6,8 +6,8 @@
 import { resolve } from 'node:path';
 import type { Argv, CommandModule } from 'yargs';
 import { UsageError } from '../../core/errors.js';
-import { DEFAULT_THRESHOLDS } from '../../metrics/types.js';
-import { loadExperimentFile, normaliseThresholds, parseThresholds, regionParams, type RunSettings } from '../../runner/experiment.js';
+import { DEFAULT_QUANTILES, DEFAULT_THRESHOLDS } from '../../metrics/catalogue.js';
+import { loadExperimentFile, parseQuantiles, parseThresholds, regionParams, type RunSettings } from '../../runner/experiment.js';
 import { planRun } from '../../runner/plan.js';
 import { runSession } from '../session.js';
 import { cacheLine, resumePlan, scaleArgOptions, scaleFromArgs, type ScaleArgs } from '../scale-options.js';
@@ -19,6 +19,7 @@ export interface RunArgs {
   out?: string;
   name?: string;
   thresholds?: string;
+  quantiles?: string;
   predictions?: string;
   label?: string;
   'prediction-scale'?: number;
@@ -37,11 +38,12 @@ function finiteOption(name: string, v: number | undefined, check: (v: number) =>
 export function settingsFromArgs(a: RunArgs, cwd = process.cwd()): RunSettings {
   const base: RunSettings = a.experiment
     ? loadExperimentFile(resolve(cwd, a.experiment))
-    : { datasets: [], matchers: [], matcherEntries: [], predictions: [], thresholds: normaliseThresholds(DEFAULT_THRESHOLDS, 'thresholds'), regions: regionParams(undefined), baseDir: cwd };
+    : { datasets: [], matchers: [], matcherEntries: [], predictions: [], thresholds: [...DEFAULT_THRESHOLDS], quantiles: [...DEFAULT_QUANTILES], regions: regionParams(undefined), baseDir: cwd };
   const s: RunSettings = { ...base, datasets: [...base.datasets], matchers: [...base.matchers], predictions: [...base.predictions] };
   for (const d of a.dataset ?? []) s.datasets.push(resolve(cwd, d));
   for (const m of a.matcher ?? []) s.matchers.push(m);
   if (a.thresholds !== undefined) s.thresholds = parseThresholds(a.thresholds);
+  if (a.quantiles !== undefined) s.quantiles = parseQuantiles(a.quantiles);
   if (a.out !== undefined) s.out = resolve(cwd, a.out);
   if (a.name !== undefined) s.name = a.name;
   const scale = finiteOption('prediction-scale', a['prediction-scale'], (v) => v > 0, 'a number > 0');
@@ -71,6 +73,7 @@ export function runOptions<T>(y: Argv<T>): Argv<T & RunArgs> {
     .option('out', { alias: 'o', type: 'string', describe: 'Run folder (default reports/<run name>)' })
     .option('name', { type: 'string', describe: 'Run name (default: first dataset and the matcher labels)' })
     .option('thresholds', { type: 'string', describe: `Bad-pixel thresholds in px, comma list (default ${DEFAULT_THRESHOLDS.join(',')})` })
+    .option('quantiles', { type: 'string', describe: `Error quantile levels in %, comma list (default ${DEFAULT_QUANTILES.join(',')})` })
     .option('predictions', { type: 'string', describe: 'Folder of predictions made elsewhere: <pair id>.pfm|.npy|.png (or <dataset>/<pair id>.*)' })
     .option('label', { type: 'string', describe: 'Matcher column for --predictions' })
     .option('prediction-scale', { type: 'number', describe: 'PNG predictions: stored value = round(disparity * scale)' })
@@ -89,8 +92,8 @@ export const runCommand: CommandModule<object, RunArgs & ScaleArgs> = {
     let plan;
     if (a.resume !== undefined) {
       const given = a.experiment !== undefined || a.dataset?.length || a.matcher?.length || a.predictions !== undefined || a.label !== undefined;
-      if (given || a.thresholds !== undefined || a.out !== undefined || a.name !== undefined) {
-        throw new UsageError('--resume', 'takes every setting from the run folder; give no experiment file, --dataset, --matcher, --predictions, --thresholds, --out or --name');
+      if (given || a.thresholds !== undefined || a.quantiles !== undefined || a.out !== undefined || a.name !== undefined) {
+        throw new UsageError('--resume', 'takes every setting from the run folder; give no experiment file, --dataset, --matcher, --predictions, --thresholds, --quantiles, --out or --name');
       }
       plan = await resumePlan(a.resume, scale);
     } else {

@@ -1,0 +1,132 @@
+/**
+ * The page's markup around the data: head (with its Content-Security-Policy), the
+ * caution, the ranking, chart and pair sections, and the provenance. Built with the
+ * escaping html`` template (markup.ts).
+ */
+import { createHash } from 'node:crypto';
+import type { JobResult } from '../../core/score.js';
+import { REGION_IDS } from '../../core/regions.js';
+import type { RunRecord } from '../../io/run-record.js';
+import { DEFAULT_LEVEL } from '../../stats/bootstrap.js';
+import { REPORT_CSS } from '../html-style.js';
+import { html, joinMarkup, trustedHtml, type Markup } from './markup.js';
+
+export const SAFETY_CAUTION =
+  'Accuracy on a dataset does not make a perception system safe; defer to the applicable functional-safety standards and qualified assessment.';
+
+function provenance(info: RunRecord, jobs: readonly JobResult[]): Markup {
+  const dl: [string, unknown][] = [];
+  const add = (k: string, v: unknown): void => {
+    if (v !== undefined && v !== null && v !== '') dl.push([k, v]);
+  };
+  const env = info.environment;
+  add('run', info.name);
+  add('status', info.status);
+  add('started', info.started);
+  add('ended', info.ended);
+  add('tool', `${info.tool.name} ${info.tool.version}`);
+  add('tool commit', info.tool.git ? `${info.tool.git.commit}${info.tool.git.dirty ? ' (with uncommitted changes)' : ''}` : 'unknown');
+  add('node', env.node);
+  add('cpu', `${env.cpu.model} × ${env.cpu.count}`);
+  add('os', `${env.os.platform} ${env.os.release} ${env.os.arch}`);
+  add('memory', `${env.memoryMb} MiB`);
+  add('thresholds', info.config.thresholds.map((t) => `${t} px`).join(', '));
+  add('quantile levels', info.config.quantiles.map((q) => `${q} %`).join(', '));
+  add('region parameters', Object.entries(info.config.regions).map(([k, v]) => `${k}=${v}`).join(', '));
+  add('jobs', `${info.jobs.total} (${info.jobs.ok} ok, ${info.jobs.failed} failed; ${jobs.length} in the journal)`);
+  for (const [k, v] of Object.entries(info.notes)) add(k, v);
+  const ds = info.config.datasets.map((d) => html`<tr><td>${d.name}</td><td><code>${d.hash}</code></td><td>${d.pairs}</td><td>${d.manifest}</td></tr>`);
+  const ms = info.config.matchers.map(
+    (m) =>
+      html`<tr><td>${m.label}</td><td>${m.matcherId}</td><td>${m.kind}</td><td>${m.version ?? ''}</td><td><code>${JSON.stringify(m.params)}</code></td><td><code>${(m.codeHash ?? '').slice(0, 16)}</code></td></tr>`,
+  );
+  return html`<dl>${dl.map(([k, v]) => html`<dt>${k}</dt><dd>${v}</dd>`)}</dl>
+<h3>Datasets</h3><table><thead><tr><th>name</th><th>hash</th><th>pairs</th><th>manifest</th></tr></thead><tbody>${ds}</tbody></table>
+<h3>Configurations</h3><table><thead><tr><th>label</th><th>matcher</th><th>kind</th><th>version</th><th>parameters</th><th>code hash</th></tr></thead><tbody>${ms}</tbody></table>`;
+}
+
+export interface PageParts {
+  info: RunRecord;
+  jobs: readonly JobResult[];
+  labels: readonly string[];
+  datasets: readonly string[];
+  tags: readonly string[];
+  /** Pair keys in page order, with the jobs of each pair. */
+  pairs: readonly { dataset: string; pair: string; jobs: readonly JobResult[] }[];
+  /** The client script, whose hash the Content-Security-Policy allows. */
+  script: string;
+}
+
+const opt = (v: string, label = v): Markup => html`<option value="${v}">${label}</option>`;
+
+/** Everything before the embedded data's JSON text (which the caller writes next). */
+export function pageHead(p: PageParts): string {
+  const { info, jobs, labels, datasets, tags } = p;
+  const scriptHash = createHash('sha256').update(p.script, 'utf8').digest('base64');
+  const csp = `default-src 'none'; img-src data:; style-src 'unsafe-inline'; script-src 'sha256-${scriptHash}'; base-uri 'none'; form-action 'none'`;
+  const title = info.name ? `parallax report: ${info.name}` : 'parallax report';
+  const failedJobs = jobs.filter((j) => j.status === 'failed').length;
+  const plural = (n: number, word: string): string => `${n} ${word}${n === 1 ? '' : 's'}`;
+  const pairList = p.pairs.map((pair, i) => {
+    const failed = pair.jobs.filter((j) => j.status === 'failed').length;
+    const st = failed ? `${failed} of ${pair.jobs.length} failed` : plural(pair.jobs.length, 'configuration');
+    return html`<details class="pair" data-index="${i}"><summary>${pair.dataset} / ${pair.pair}<span class="st">${st}</span></summary><div class="pairbody"></div></details>`;
+  });
+  const sub = `${plural(labels.length, 'configuration')} · ${plural(p.pairs.length, 'pair')} · ${datasets.join(', ')} · ${jobs.length} jobs${failedJobs ? `, ${failedJobs} failed` : ''}${info.started ? ` · started ${info.started}` : ''}`;
+  return html`<!doctype html>
+<html lang="en">
+<head>
+<meta charset="utf-8">
+<meta http-equiv="Content-Security-Policy" content="${csp}">
+<meta name="viewport" content="width=device-width, initial-scale=1">
+<meta name="referrer" content="no-referrer">
+<title>${title}</title>
+<style>${trustedHtml(REPORT_CSS)}</style>
+</head>
+<body>
+<header class="top">
+<h1>${title}</h1>
+<div class="sub">${sub}</div>
+</header>
+<main>
+<section class="caution" aria-label="safety caution"><strong>Caution.</strong> ${SAFETY_CAUTION}</section>
+<section aria-labelledby="h-rank">
+<h2 id="h-rank">Ranking</h2>
+<div class="controls">
+<label>dataset<select id="sel-dataset">${datasets.map((d) => opt(d))}</select></label>
+<label>region<select id="sel-region">${REGION_IDS.map((r) => opt(r))}</select></label>
+${tags.length ? html`<label>pairs<select id="sel-tag">${opt('', 'all pairs')}${tags.map((t) => opt(t, `tagged ${t}`))}</select></label>` : ''}
+<label>statistic<select id="sel-stat">${opt('mean', 'mean over pairs')}${opt('pooled', 'pooled over pixels')}</select></label>
+</div>
+<p class="ci">Each cell: the figure, below it its ${Math.round(DEFAULT_LEVEL * 100)} % BCa bootstrap interval (pairs, or the manifest's groups, resampled) and n = pairs the figure rests on. Rates and coverage in %; sorted by known/epe, lowest first, until you pick a column. Failed jobs count as all-invalid.</p>
+<div class="rank"><table id="rank-table"><thead></thead><tbody></tbody></table></div>
+<noscript><p>The ranking, charts and pair views need JavaScript; summary.csv holds the same figures.</p></noscript>
+</section>
+<section aria-labelledby="h-charts">
+<h2 id="h-charts">Accuracy, cost and thresholds</h2>
+<div class="charts">
+<figure><div id="scatter"></div><figcaption id="scatter-caption"></figcaption></figure>
+<figure><div id="curves"></div><figcaption>Bad-pixel rate (% of the region's pixels with |error| above the threshold or no prediction) against the threshold, one line per configuration.</figcaption></figure>
+</div>
+</section>
+<section aria-labelledby="h-pairs">
+<h2 id="h-pairs">Pairs</h2>
+<p class="ci">Open a pair to see its left image, truth, region map and, per configuration, the disparity and the absolute error, each with its legend. Thumbnails are downscaled (block means of valid pixels); the error images compare the downscaled output with the downscaled truth. The figures beside them are the exact per-pair scores.</p>
+${joinMarkup(pairList, '\n')}
+</section>
+<section class="prov" aria-labelledby="h-prov">
+<h2 id="h-prov">Provenance</h2>
+${provenance(info, jobs)}
+</section>
+</main>
+<script type="application/json" id="plx-data">`.text;
+}
+
+/** Everything after the embedded data. */
+export function pageTail(script: string): string {
+  return `</script>
+<script>${script}</script>
+</body>
+</html>
+`;
+}

@@ -1,0 +1,160 @@
+/**
+ * The report's view model: the data object embedded in the page (summary figures per
+ * dataset, tag and region, the metric catalogue's units and directions, colour scales)
+ * and one view per pair (thumbnails as data: URIs, exact per-pair figures).
+ */
+import type { JobResult, RegionFigures } from '../../core/score.js';
+import { REGION_IDS } from '../../core/regions.js';
+import type { RunRecord } from '../../io/run-record.js';
+import type { Manifest } from '../../dataset/manifest.js';
+import type { SummaryRow } from '../../stats/aggregate.js';
+import { DEFAULT_LEVEL } from '../../stats/bootstrap.js';
+import { heading, metricsOf, thresholdName, type MetricSet } from '../../metrics/catalogue.js';
+import { colorHex, ERROR_MAP, type DisparityMapName } from '../colormaps.js';
+import { encodePalettePng, type IndexedImage } from '../png-palette.js';
+import { ERROR_CLIP_PX, NO_TRUTH, REGION_COLORS, colorizeDisparity, colorizeError, colorizeRegions, finiteRange, toThumbGrid } from '../thumbs.js';
+import { pairThumbsFromDataset, type PairInputs } from './inputs.js';
+
+interface FigureView {
+  coverage: number | null;
+  epe: number | null;
+  rates: (number | null)[];
+}
+
+interface PairJobView {
+  label: string;
+  status: 'ok' | 'failed';
+  error: string | null;
+  time_ms: number | null;
+  disp: string | null;
+  err: string | null;
+  fig: Record<'known' | 'visible', FigureView>;
+}
+
+export interface PairView {
+  dataset: string;
+  pair: string;
+  scale: [number, number] | null;
+  /** Thumbnail width and height (px). */
+  size: [number, number] | null;
+  left: string | null;
+  truth: string | null;
+  regions: string | null;
+  note: string | null;
+  jobs: PairJobView[];
+}
+
+function indexedUri(img: IndexedImage): string {
+  return `data:image/png;base64,${encodePalettePng(img).toString('base64')}`;
+}
+
+function pngBytesUri(png: Uint8Array): string {
+  return `data:image/png;base64,${Buffer.from(png.buffer, png.byteOffset, png.byteLength).toString('base64')}`;
+}
+
+function figView(f: RegionFigures, rateMap: number[]): FigureView {
+  return { coverage: f.coverage, epe: f.epe, rates: rateMap.map((k) => (k >= 0 ? (f.rates[k] ?? null) : null)) };
+}
+
+/** What one pair view is drawn from. */
+export interface PairViewInput {
+  runDir: string;
+  info: RunRecord;
+  manifest: Manifest | null;
+  dataset: string;
+  pair: string;
+  jobs: JobResult[];
+  thresholds: readonly number[];
+  inputs: PairInputs;
+  disparityMap: DisparityMapName;
+  /** Store pair thumbnails made from the dataset for the next report. */
+  storePairThumbs: boolean;
+}
+
+export async function pairView(p: PairViewInput): Promise<PairView> {
+  const { inputs, dataset, pair } = p;
+  const view: PairView = { dataset, pair, scale: null, size: null, left: null, truth: null, regions: null, note: inputs.problem, jobs: [] };
+  const t = inputs.truth;
+  const map = p.disparityMap;
+  if (t && p.manifest) {
+    const [lo, hi] = finiteRange(t.thumb.data);
+    if (Number.isFinite(lo)) view.scale = [lo, hi];
+    view.size = [t.thumb.width, t.thumb.height];
+    view.truth = indexedUri(colorizeDisparity(t.thumb, lo, hi, map, 'no-truth'));
+    try {
+      const thumbs = inputs.stored ?? (inputs.dataset ? await pairThumbsFromDataset(p.runDir, p.info, inputs.dataset, dataset, pair, t.f, p.storePairThumbs) : null);
+      if (!thumbs) throw new Error('no left image');
+      view.left = pngBytesUri(thumbs.leftPng);
+      view.regions = indexedUri(colorizeRegions(thumbs.regionBits, t.thumb.width, t.thumb.height));
+    } catch (e) {
+      view.note = `Dataset images not shown: ${(e as Error).message}`;
+    }
+  }
+  p.jobs.forEach((j, k) => {
+    const rateMap = p.thresholds.map((th) => j.thresholds.indexOf(th));
+    const jv: PairJobView = {
+      label: j.matcher,
+      status: j.status,
+      error: j.error ?? null,
+      time_ms: j.time_ms,
+      disp: null,
+      err: null,
+      fig: { known: figView(j.scores.known.figures, rateMap), visible: figView(j.scores.visible.figures, rateMap) },
+    };
+    const prev = inputs.previews[k];
+    if (t && prev && j.status === 'ok') {
+      const pThumb = toThumbGrid(prev, t.pf, t.width, t.height, t.f);
+      if (pThumb.width === t.thumb.width && pThumb.height === t.thumb.height) {
+        jv.disp = indexedUri(colorizeDisparity(pThumb, view.scale ? view.scale[0] : 0, view.scale ? view.scale[1] : 1, map));
+        jv.err = indexedUri(colorizeError(pThumb, t.thumb, ERROR_CLIP_PX));
+      }
+    }
+    view.jobs.push(jv);
+  });
+  return view;
+}
+
+/** summary[dataset][tag or ''][region] = rows (one per configuration). */
+function summaryView(rows: SummaryRow[], set: MetricSet): Record<string, Record<string, Record<string, unknown[]>>> {
+  const out: Record<string, Record<string, Record<string, unknown[]>>> = {};
+  const metrics = metricsOf(set);
+  for (const r of rows) {
+    const ds = (out[r.dataset] ??= {});
+    const tg = (ds[r.tag ?? ''] ??= {});
+    const list = (tg[r.region] ??= []);
+    const m: Record<string, (number | null)[]> = {};
+    for (const { id } of metrics) {
+      const s = r.metrics[id]!;
+      m[id] = [s.mean, s.meanCi?.lo ?? null, s.meanCi?.hi ?? null, s.n, s.pooled, s.pooledCi?.lo ?? null, s.pooledCi?.hi ?? null];
+    }
+    list.push({ label: r.matcher, n_pairs: r.n_pairs, n_units: r.n_units, unit: r.unit, n_failed: r.n_failed, m });
+  }
+  return out;
+}
+
+/** The page's data object, without its `pairs` (written one view at a time). */
+export function reportData(rows: SummaryRow[], set: MetricSet, datasets: string[], configs: string[], disparityMap: DisparityMapName): Record<string, unknown> {
+  const metrics = metricsOf(set);
+  const byId = <T>(f: (m: (typeof metrics)[number]) => T): Record<string, T> => Object.fromEntries(metrics.map((m) => [m.id, f(m)]));
+  return {
+    thresholds: set.thresholds,
+    rateNames: set.thresholds.map(thresholdName),
+    regions: [...REGION_IDS],
+    metrics: metrics.map((m) => m.id),
+    units: byId((m) => (m.unit === 'fraction' ? '' : m.unit)),
+    headings: byId(heading),
+    better: byId((m) => (m.better === 'higher' ? 'higher' : m.better === 'abs-lower' ? 'abs' : 'lower')),
+    pooled: byId((m) => m.pool !== null),
+    level: DEFAULT_LEVEL,
+    datasets,
+    configs,
+    summary: summaryView(rows, set),
+    dispMap: disparityMap,
+    dispColors: Array.from({ length: 33 }, (_, i) => colorHex(disparityMap, i / 32)),
+    errMap: ERROR_MAP,
+    errColors: Array.from({ length: 33 }, (_, i) => colorHex(ERROR_MAP, i / 32)),
+    errorClip: ERROR_CLIP_PX,
+    noTruth: `rgb(${NO_TRUTH.join(',')})`,
+    regionKeys: (['visible', 'occluded', 'flat', 'jump', 'unknown'] as const).map((k) => [k === 'unknown' ? 'no truth' : k, `rgb(${REGION_COLORS[k].join(',')})`]),
+  };
+}

@@ -1,0 +1,107 @@
+/**
+ * CI gates on a comparison: `region/metric:allowance`, the allowed worsening in the
+ * metric's unit (percentage points for % metrics), judged per compared configuration.
+ */
+import { REGION_IDS, type RegionId } from '../core/regions.js';
+import { UsageError } from '../core/errors.js';
+import { findMetric, metricsOf, type MetricSet } from '../metrics/catalogue.js';
+import type { Comparison } from './compare.js';
+
+export interface Gate {
+  region: RegionId;
+  metric: string;
+  /** Allowed worsening in the metric's unit (percentage points for % metrics). */
+  allowance: number;
+  /** Where the gate came from (for messages). */
+  source: string;
+}
+
+/** Parse `region/metric:allowance`; unknown region or metric is a UsageError naming `option`. */
+export function parseGate(text: string, set: MetricSet, option = '--gate'): Gate {
+  const m = /^([^/\s]+)\/([^:\s]+):([^\s]+)$/.exec(text.trim());
+  if (!m) throw new UsageError(option, `"${text}" is not region/metric:allowance (e.g. visible/over2px:0.5)`);
+  const [, region, metric, allow] = m as unknown as [string, string, string, string];
+  if (!(REGION_IDS as readonly string[]).includes(region)) {
+    throw new UsageError(option, `unknown region "${region}" in "${text}" (regions: ${REGION_IDS.join(', ')})`);
+  }
+  if (!findMetric(set, metric)) {
+    throw new UsageError(option, `unknown metric "${metric}" in "${text}" (metrics: ${metricsOf(set).map((x) => x.id).join(', ')})`);
+  }
+  const allowance = Number(allow);
+  if (!Number.isFinite(allowance) || allowance < 0) throw new UsageError(option, `allowance in "${text}" must be a number >= 0`);
+  return { region: region as RegionId, metric, allowance, source: option };
+}
+
+/**
+ * A gate file: JSON `{ "gates": [ "visible/over2px:0.5", { "region": "known", "metric": "epe", "allowance": 0.05 } ] }`
+ * or a bare array of the same entries.
+ */
+export function parseGateFile(text: string, file: string, set: MetricSet): Gate[] {
+  let json: unknown;
+  try {
+    json = JSON.parse(text);
+  } catch {
+    throw new UsageError('--gate-file', `${file} is not valid JSON`);
+  }
+  const list = Array.isArray(json) ? json : (json as { gates?: unknown })?.gates;
+  if (!Array.isArray(list)) throw new UsageError('--gate-file', `${file} must hold an array of gates or { "gates": [...] }`);
+  return list.map((g, i) => {
+    const where = `--gate-file ${file} [${i}]`;
+    if (typeof g === 'string') return parseGate(g, set, where);
+    if (g && typeof g === 'object') {
+      const o = g as { region?: unknown; metric?: unknown; allowance?: unknown };
+      return parseGate(`${String(o.region)}/${String(o.metric)}:${String(o.allowance)}`, set, where);
+    }
+    throw new UsageError(where, 'a gate is a string region/metric:allowance or an object { region, metric, allowance }');
+  });
+}
+
+export interface GateOutcome {
+  gate: Gate;
+  label: string;
+  pass: boolean;
+  worsening: number | null;
+  /** Upper bound of the worsening's interval (strict mode judges this). */
+  upper: number | null;
+  reason: string;
+}
+
+/**
+ * Judge gates on every compared configuration.
+ * Default: fail when the mean worsening exceeds the allowance.
+ * Strict (non-inferiority): fail unless the interval's upper bound of the worsening is
+ * within the allowance. No figure on any common pair -> fail (nothing shows it holds).
+ */
+export function evaluateGates(c: Comparison, gates: readonly Gate[], strict: boolean): GateOutcome[] {
+  const out: GateOutcome[] = [];
+  for (const cfg of c.configs) {
+    for (const g of gates) {
+      const d = cfg.deltas.find((x) => x.region === g.region && x.metric === g.metric)!;
+      const w = d.worsening;
+      const upper = d.worseningCi ? d.worseningCi.hi : null;
+      let pass: boolean;
+      let reason: string;
+      if (w === null) {
+        pass = false;
+        reason = 'no pair has this figure in both runs';
+      } else if (strict) {
+        if (upper === null) {
+          pass = false;
+          reason = `no interval (${d.units} ${d.unit}${d.units === 1 ? '' : 's'}), non-inferiority cannot be shown`;
+        } else {
+          pass = upper <= g.allowance;
+          reason = `upper bound of worsening ${fmt(upper)} ${pass ? '<=' : '>'} allowance ${fmt(g.allowance)}`;
+        }
+      } else {
+        pass = w <= g.allowance;
+        reason = `worsening ${fmt(w)} ${pass ? '<=' : '>'} allowance ${fmt(g.allowance)}`;
+      }
+      out.push({ gate: g, label: cfg.label, pass, worsening: w, upper, reason });
+    }
+  }
+  return out;
+}
+
+function fmt(x: number): string {
+  return Number.isInteger(x) ? String(x) : x.toPrecision(4).replace(/\.?0+$/, '');
+}
