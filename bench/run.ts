@@ -12,6 +12,7 @@ const SECTIONS: Section[] = [
   { name: 'matchers', load: () => import('./matchers.js') },
   { name: 'runner', load: () => import('./runner.js') },
   { name: 'synth', load: () => import('./synth.js') },
+  { name: 'regions', load: () => import('./regions.js') },
 ];
 
 const wanted = process.argv.slice(2);

@@ -9,6 +9,7 @@ import { evaluateGates, parseGate } from '../../src/stats/gates.js';
 import { DEFAULT_QUANTILES } from '../../src/metrics/catalogue.js';
 import { createPrng } from '../../src/stats/prng.js';
 import { makeJob } from './fixtures.js';
+import { DEFAULT_REGION_PARAMS } from '../../src/core/regions.js';
 import { writeRunFolder } from './run-fixture.js';
 
 const T = [1, 2];
@@ -121,7 +122,7 @@ describe('parallax compare', () => {
     const root = await mkdtemp(join(tmpdir(), 'plx-cmp2-'));
     tmp.push(root);
     const a = await writeRunFolder(join(root, 'a'), { name: 'a', thresholds: T, results: jobs('block', false) });
-    const b = await writeRunFolder(join(root, 'b'), { name: 'b', thresholds: T, results: jobs('block', false), datasets: [{ name: 'dock', hash: 'b'.repeat(64) }], regions: { flatWindow: 7 } });
+    const b = await writeRunFolder(join(root, 'b'), { name: 'b', thresholds: T, results: jobs('block', false), datasets: [{ name: 'dock', hash: 'b'.repeat(64) }], regions: { ...DEFAULT_REGION_PARAMS, flatWindow: 9 } });
     const err = (await runCompare({ baseline: a, candidate: b, resamples: 200 }, io().io).catch((e: unknown) => e)) as ParallaxError;
     expect(err.exitCode).toBe(2);
     expect(err.message).toMatch(/dataset dock differs/);
