@@ -13,11 +13,11 @@ import { BUILTIN_MATCHERS } from '../../matchers/index.js';
 import type { MatcherPlugin, ParamValue } from './contract.js';
 import { loadModulePlugin, locateModule, isPackageName } from './module-plugin.js';
 import { configLabel, expandRawSpec, expandSweep, looksLikeModulePath, parseMatcherSpec, quote, type RawSpec } from './params.js';
-import { programCodeHash, programMatcher } from './program.js';
+import { programCodeHash, programMatcher } from './program/index.js';
 import { parseProgramMatcherDef, programMatcherDefSchema, type ProgramMatcherDef } from './program-def.js';
 import { issuesLine } from '../core/text.js';
 
-export { programMatcher } from './program.js';
+export { programMatcher } from './program/index.js';
 
 /** Where a configuration's plugin comes from; serialisable, so a worker can rebuild the plugin. */
 export type MatcherSource =
