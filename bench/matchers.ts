@@ -30,6 +30,7 @@ import { scorePair } from '../src/metrics/score.js';
 import { withDefaults, type MatcherPlugin, type MatchInput, type ParamValues } from '../src/plugins/contract.js';
 import { BUILTIN_MATCHERS } from '../matchers/index.js';
 import { sgmStageTimes } from '../matchers/sgm/index.js';
+import { toolRoot } from '../src/io/package.js';
 
 /** One pair in memory, with the files OpenCV reads. */
 interface BenchPair {
@@ -77,13 +78,9 @@ const OURS: Config[] = [
 ];
 
 function repoRoot(): string {
-  let dir = dirname(fileURLToPath(import.meta.url));
-  while (!existsSync(join(dir, 'package.json'))) {
-    const up = dirname(dir);
-    if (up === dir) throw new Error('bench: package.json not found');
-    dir = up;
-  }
-  return dir;
+  const root = toolRoot();
+  if (!root) throw new Error('bench: package.json not found');
+  return root;
 }
 
 function fmt(x: number | null | undefined, digits = 1): string {

@@ -7,7 +7,7 @@
  */
 import yargs, { type Argv, type CommandModule } from 'yargs';
 import { isParallaxError } from '../core/errors.js';
-import { toolVersion } from '../runner/provenance.js';
+import { toolVersion } from '../io/package.js';
 import { COMMAND_MODULES } from './commands/index.js';
 
 /** Marks a usage error raised by yargs itself (unknown option, missing command...). */

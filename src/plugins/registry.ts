@@ -16,6 +16,7 @@ import { configLabel, expandRawSpec, expandSweep, looksLikeModulePath, parseMatc
 import { programCodeHash, programMatcher } from './program/index.js';
 import { parseProgramMatcherDef, programMatcherDefSchema, type ProgramMatcherDef } from './program-def.js';
 import { issuesLine } from '../core/text.js';
+import { toolVersion } from '../io/package.js';
 
 export { programMatcher } from './program/index.js';
 
@@ -62,13 +63,6 @@ export function builtinMatchers(): readonly MatcherPlugin[] {
 
 let treeHash: string | undefined;
 
-function findUp(start: string, name: string): string | undefined {
-  for (let dir = start; ; dir = dirname(dir)) {
-    if (existsSync(join(dir, name))) return join(dir, name);
-    if (dirname(dir) === dir) return undefined;
-  }
-}
-
 function listFiles(dir: string, out: string[]): void {
   for (const e of readdirSync(dir, { withFileTypes: true })) {
     const p = join(dir, e.name);
@@ -88,14 +82,7 @@ function builtinTreeHash(): string {
   if (treeHash) return treeHash;
   const here = dirname(fileURLToPath(import.meta.url));
   const h = createHash('sha256');
-  const pkgFile = findUp(here, 'package.json');
-  let pkgVersion = 'unknown';
-  try {
-    if (pkgFile) pkgVersion = String((JSON.parse(readFileSync(pkgFile, 'utf8')) as { version?: string }).version);
-  } catch {
-    // keep unknown
-  }
-  h.update(`parallax@${pkgVersion}\0`);
+  h.update(`parallax@${toolVersion()}\0`);
   const dir = resolve(here, '..', '..', 'matchers');
   try {
     const files: string[] = [];

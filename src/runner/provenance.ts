@@ -4,39 +4,11 @@
  * version, CPU, OS, times.
  */
 import { execFileSync } from 'node:child_process';
-import { existsSync, readFileSync } from 'node:fs';
 import { cpus, platform, release, arch, totalmem } from 'node:os';
-import { dirname, join } from 'node:path';
-import { fileURLToPath } from 'node:url';
 import type { RunPlan } from './plan.js';
+import { toolRoot, toolVersion } from '../io/package.js';
+export { toolRoot, toolVersion } from '../io/package.js';
 import { RUN_RECORD_FORMAT, type RunRecord } from '../io/run-record.js';
-
-/** The package root (folder of parallax's package.json), found upward from this file. */
-export function toolRoot(): string | undefined {
-  let dir = dirname(fileURLToPath(import.meta.url));
-  for (let i = 0; i < 6; i++) {
-    const pj = join(dir, 'package.json');
-    if (existsSync(pj)) {
-      try {
-        if ((JSON.parse(readFileSync(pj, 'utf8')) as { name?: string }).name === 'parallax') return dir;
-      } catch {
-        /* keep looking */
-      }
-    }
-    dir = dirname(dir);
-  }
-  return undefined;
-}
-
-export function toolVersion(): string {
-  const root = toolRoot();
-  if (!root) return 'unknown';
-  try {
-    return (JSON.parse(readFileSync(join(root, 'package.json'), 'utf8')) as { version?: string }).version ?? 'unknown';
-  } catch {
-    return 'unknown';
-  }
-}
 
 /** The tool's git commit and whether its tree has changes; null outside a git checkout. */
 export function gitInfo(): { commit: string; dirty: boolean } | null {

@@ -15,34 +15,10 @@ import { encodePalettePng, type IndexedImage } from '../png-palette.js';
 import { ERROR_CLIP_PX, NO_TRUTH, REGION_COLORS, colorizeDisparity, colorizeError, colorizeRegions, finiteRange, toThumbGrid } from '../thumbs.js';
 import { pairThumbsFromDataset, type PairInputs } from './inputs.js';
 
-interface FigureView {
-  coverage: number | null;
-  epe: number | null;
-  rates: (number | null)[];
-}
-
-interface PairJobView {
-  label: string;
-  status: 'ok' | 'failed';
-  error: string | null;
-  time_ms: number | null;
-  disp: string | null;
-  err: string | null;
-  fig: Record<'known' | 'visible', FigureView>;
-}
-
-export interface PairView {
-  dataset: string;
-  pair: string;
-  scale: [number, number] | null;
-  /** Thumbnail width and height (px). */
-  size: [number, number] | null;
-  left: string | null;
-  truth: string | null;
-  regions: string | null;
-  note: string | null;
-  jobs: PairJobView[];
-}
+/** The views' shapes are declared once for the server and the client: src/report/client/report-data.d.ts. */
+export type PairView = PlxPairView;
+type PairJobView = PlxPairJobView;
+type FigureView = PlxFigureView;
 
 function indexedUri(img: IndexedImage): string {
   return `data:image/png;base64,${encodePalettePng(img).toString('base64')}`;
@@ -115,8 +91,8 @@ export async function pairView(p: PairViewInput): Promise<PairView> {
 }
 
 /** summary[dataset][tag or ''][region] = rows (one per configuration). */
-function summaryView(rows: SummaryRow[], set: MetricSet): Record<string, Record<string, Record<string, unknown[]>>> {
-  const out: Record<string, Record<string, Record<string, unknown[]>>> = {};
+function summaryView(rows: SummaryRow[], set: MetricSet): PlxReportHead['summary'] {
+  const out: PlxReportHead['summary'] = {};
   const metrics = metricsOf(set);
   for (const r of rows) {
     const ds = (out[r.dataset] ??= {});
@@ -133,17 +109,17 @@ function summaryView(rows: SummaryRow[], set: MetricSet): Record<string, Record<
 }
 
 /** The page's data object, without its `pairs` (written one view at a time). */
-export function reportData(rows: SummaryRow[], set: MetricSet, datasets: string[], configs: string[], disparityMap: DisparityMapName): Record<string, unknown> {
+export function reportData(rows: SummaryRow[], set: MetricSet, datasets: string[], configs: string[], disparityMap: DisparityMapName): PlxReportHead {
   const metrics = metricsOf(set);
   const byId = <T>(f: (m: (typeof metrics)[number]) => T): Record<string, T> => Object.fromEntries(metrics.map((m) => [m.id, f(m)]));
   return {
-    thresholds: set.thresholds,
+    thresholds: [...set.thresholds],
     rateNames: set.thresholds.map(thresholdName),
     regions: [...REGION_IDS],
     metrics: metrics.map((m) => m.id),
     units: byId((m) => (m.unit === 'fraction' ? '' : m.unit)),
     headings: byId(heading),
-    better: byId((m) => (m.better === 'higher' ? 'higher' : m.better === 'abs-lower' ? 'abs' : 'lower')),
+    better: byId((m): 'lower' | 'higher' | 'abs' => (m.better === 'higher' ? 'higher' : m.better === 'abs-lower' ? 'abs' : 'lower')),
     pooled: byId((m) => m.pool !== null),
     level: DEFAULT_LEVEL,
     datasets,
@@ -155,6 +131,6 @@ export function reportData(rows: SummaryRow[], set: MetricSet, datasets: string[
     errColors: Array.from({ length: 33 }, (_, i) => colorHex(ERROR_MAP, i / 32)),
     errorClip: ERROR_CLIP_PX,
     noTruth: `rgb(${NO_TRUTH.join(',')})`,
-    regionKeys: (['visible', 'occluded', 'flat', 'jump', 'unknown'] as const).map((k) => [k === 'unknown' ? 'no truth' : k, `rgb(${REGION_COLORS[k].join(',')})`]),
+    regionKeys: (['visible', 'occluded', 'flat', 'jump', 'unknown'] as const).map((k): [string, string] => [k === 'unknown' ? 'no truth' : k, `rgb(${REGION_COLORS[k].join(',')})`]),
   };
 }

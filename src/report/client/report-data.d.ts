@@ -1,0 +1,72 @@
+/**
+ * The data object the HTML report embeds (id `plx-data`), as the server writes it
+ * (src/report/html/view-model.ts) and the client script reads it (report.ts). Global
+ * declarations, so the client stays a plain script with no imports.
+ */
+
+/** One summary row of a configuration: per metric [mean, lo, hi, n, pooled, pooled lo, pooled hi]. */
+interface PlxSummaryRow {
+  label: string;
+  n_pairs: number;
+  n_units: number;
+  unit: 'pair' | 'group';
+  n_failed: number;
+  m: Record<string, (number | null)[]>;
+}
+
+interface PlxFigureView {
+  coverage: number | null;
+  epe: number | null;
+  rates: (number | null)[];
+}
+
+interface PlxPairJobView {
+  label: string;
+  status: 'ok' | 'failed';
+  error: string | null;
+  time_ms: number | null;
+  disp: string | null;
+  err: string | null;
+  fig: Record<'known' | 'visible', PlxFigureView>;
+}
+
+interface PlxPairView {
+  dataset: string;
+  pair: string;
+  scale: [number, number] | null;
+  /** Thumbnail width and height (px). */
+  size: [number, number] | null;
+  left: string | null;
+  truth: string | null;
+  regions: string | null;
+  note: string | null;
+  jobs: PlxPairJobView[];
+}
+
+/** Everything but the pair views, which are written one at a time after it. */
+interface PlxReportHead {
+  thresholds: number[];
+  rateNames: string[];
+  regions: string[];
+  metrics: string[];
+  units: Record<string, string>;
+  headings: Record<string, string>;
+  better: Record<string, 'lower' | 'higher' | 'abs'>;
+  pooled: Record<string, boolean>;
+  level: number;
+  datasets: string[];
+  configs: string[];
+  /** summary[dataset][tag or ''][region] = one row per configuration. */
+  summary: Record<string, Record<string, Record<string, PlxSummaryRow[]>>>;
+  dispMap: string;
+  dispColors: string[];
+  errMap: string;
+  errColors: string[];
+  errorClip: number;
+  noTruth: string;
+  regionKeys: [string, string][];
+}
+
+interface PlxReportData extends PlxReportHead {
+  pairs: PlxPairView[];
+}
