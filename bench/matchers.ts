@@ -27,7 +27,7 @@ import { buildRegions } from '../src/dataset/regions.js';
 import { decodePfm } from '../src/io/pfm.js';
 import { encodePng } from '../src/io/png.js';
 import { scorePair } from '../src/metrics/score.js';
-import { withDefaults, type MatcherPlugin, type MatchInput, type ParamValues } from '../src/plugins/contract.js';
+import { withDefaults, type MatcherPlugin, type MatchInput, type ParamValues } from '../src/core/matcher.js';
 import { BUILTIN_MATCHERS } from '../matchers/index.js';
 import { sgmStageTimes } from '../matchers/sgm/index.js';
 import { toolRoot } from '../src/io/package.js';
@@ -169,7 +169,7 @@ function plugin(id: string): MatcherPlugin {
 
 async function runOurs(c: Config, p: BenchPair): Promise<{ ms: number; disp: Float32Array }> {
   const pl = plugin(c.id);
-  const params = withDefaults(pl, c.params);
+  const params = withDefaults(pl.params, c.params);
   const input: MatchInput = {
     width: p.width,
     height: p.height,

@@ -21,7 +21,7 @@ import { deriveOcclusion } from '../src/dataset/occlusion.js';
 import { jumpMask, textureEnergy } from '../src/dataset/regions.js';
 import { writeSyntheticDataset } from '../src/synth/dataset.js';
 import { blockMatcher } from '../matchers/block/index.js';
-import { withDefaults } from '../src/plugins/contract.js';
+import { withDefaults } from '../src/core/matcher.js';
 
 const PAIRS = Number(process.env.PARALLAX_BENCH_REGION_PAIRS ?? 12);
 const WINDOWS = [5, 7, 9, 11, 15];
@@ -72,7 +72,7 @@ export default async function (): Promise<void> {
       const p = await loadPair(m, entry);
       const out = await block.match(
         { width: p.width, height: p.height, left: p.leftGray, right: p.rightGray, minDisparity: p.disparityRange[0], maxDisparity: p.disparityRange[1] },
-        withDefaults(block, {}),
+        withDefaults(block.params, {}),
         new AbortController().signal,
       );
       const disp = out instanceof Float32Array ? out : out.disparity;

@@ -18,7 +18,7 @@ import { cpus, loadavg, tmpdir } from 'node:os';
 import { dirname, join } from 'node:path';
 import { fileURLToPath } from 'node:url';
 import { writeHtmlReport } from '../src/report/html/index.js';
-import { buildSyntheticRun } from '../test/report/synthetic-run.js';
+import { buildSyntheticRun } from './synthetic-run.js';
 
 async function timed(runDir: string): Promise<{ secs: number; cpu: number; mb: number }> {
   const t1 = performance.now();

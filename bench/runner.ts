@@ -26,10 +26,12 @@ import { availableParallelism, loadavg, tmpdir } from 'node:os';
 import { join, resolve } from 'node:path';
 import { pathToFileURL } from 'node:url';
 import { writeDemoDataset } from '../src/synth/dataset.js';
+import { BUILTIN_MATCHERS } from '../matchers/index.js';
 
 const ROOT = resolve(import.meta.dirname, '..', '..');
 const BIN = join(ROOT, 'bin', 'parallax.js');
-const BUILTINS = ['block', 'census', 'sgm', 'bp'];
+/** The built-in matchers, as the registry lists them. */
+const BUILTINS = BUILTIN_MATCHERS.map((m) => m.id);
 
 const WRAP =
   'import resource,subprocess,sys,time\nt=time.time()\nr=subprocess.run(sys.argv[1:])\nu=resource.getrusage(resource.RUSAGE_CHILDREN)\nprint(r.returncode, u.ru_maxrss, time.time()-t, u.ru_utime+u.ru_stime)';

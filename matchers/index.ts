@@ -2,7 +2,7 @@
  * The built-in matchers. Add one line per matcher folder; the registry
  * (src/plugins/registry.ts) reads this list.
  */
-import type { MatcherPlugin } from '../src/plugins/contract.js';
+import type { MatcherPlugin } from '../src/core/matcher.js';
 import { blockMatcher } from './block/index.js';
 import { censusMatcher } from './census/index.js';
 import { sgmMatcher } from './sgm/index.js';

@@ -12,7 +12,7 @@
  * same map bit for bit. ZNCC always runs the TypeScript kernel on float luminance.
  */
 import { MatcherFailure } from '../../src/core/errors.js';
-import type { MatcherPlugin, MatchInput, ParamValues } from '../../src/plugins/contract.js';
+import type { MatcherPlugin, MatchInput, ParamValues } from '../../src/core/matcher.js';
 import { applyPostprocess, POSTPROCESS_PARAMS, readPostprocess } from '../kernels/postprocess.js';
 import { checkInputSizes, disparityLevels } from '../kernels/range.js';
 import { copyRows, matchBySlices, type SliceFn, type StripSource } from '../kernels/slices.js';

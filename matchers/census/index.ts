@@ -4,7 +4,7 @@
  * window, winner-take-all, and the shared post-processing stages.
  * Candidates whose match x - d falls outside the right image are excluded.
  */
-import type { MatcherPlugin, MatchInput, ParamValues } from '../../src/plugins/contract.js';
+import type { MatcherPlugin, MatchInput, ParamValues } from '../../src/core/matcher.js';
 import { boxSum } from '../kernels/box.js';
 import { censusTransform, hammingSlice } from '../kernels/census.js';
 import { POSTPROCESS_PARAMS, readPostprocess } from '../kernels/postprocess.js';

@@ -10,7 +10,7 @@
  * beliefs, subpixel parabola, speckles, hole filling).
  */
 import { AbortedError, UsageError } from '../../src/core/errors.js';
-import type { MatcherPlugin, MatchInput, ParamSpec, ParamValues } from '../../src/plugins/contract.js';
+import { withDefaults, type MatcherPlugin, type MatchInput, type ParamSpec, type ParamValues } from '../../src/core/matcher.js';
 import { btExtremes, btPair } from '../kernels/bt.js';
 import { censusTransform, popcount32 } from '../kernels/census.js';
 import { applyPostprocess, postprocessParamsWith, readPostprocess } from '../kernels/postprocess.js';
@@ -44,14 +44,8 @@ export const BP_PARAMS: readonly ParamSpec[] = [
   ...postprocessParamsWith(BP_POST_DEFAULTS),
 ];
 
-function withBpDefaults(params: ParamValues): ParamValues {
-  const out: Record<string, number | boolean | string> = {};
-  for (const p of BP_PARAMS) out[p.name] = params[p.name] ?? p.default;
-  return out;
-}
-
 export function readBpOptions(params: ParamValues): BpOptions {
-  const full = withBpDefaults(params);
+  const full = withDefaults(BP_PARAMS, params);
   const n = (k: string): number => Number(full[k]);
   const o: BpOptions = {
     cost: full.cost === 'bt' ? 'bt' : 'census',
@@ -137,7 +131,7 @@ export function bpMatch(input: MatchInput, params: ParamValues, signal?: AbortSi
   const { width, height } = input;
   checkInputSizes(width, height, input.left, input.right);
   const { minDisparity, levels } = disparityLevels(input.minDisparity, input.maxDisparity);
-  const full = withBpDefaults(params);
+  const full = withDefaults(BP_PARAMS, params);
   const o = readBpOptions(full);
   const post = readPostprocess(full);
   const data = bpDataCost(input, minDisparity, levels, o, signal);

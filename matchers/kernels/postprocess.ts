@@ -38,7 +38,7 @@
  *     speckle removal (when speckle > 0), hole filling (when fill).
  *     subpix and uniq are WTA options: pass them to wta.ts.
  */
-import type { ParamSpec, ParamValues } from '../../src/plugins/contract.js';
+import type { ParamSpec, ParamValues } from '../../src/core/matcher.js';
 
 /** Vertex offset of the parabola through three equally spaced costs, clamped to ±0.5. */
 export function subpixelParabola(cm: number, c0: number, cp: number): number {

@@ -12,7 +12,7 @@
  * cost during aggregation and are excluded from the WTA.
  */
 import { AbortedError, UsageError } from '../../src/core/errors.js';
-import type { MatcherPlugin, MatchInput, ParamSpec, ParamValues } from '../../src/plugins/contract.js';
+import { withDefaults, type MatcherPlugin, type MatchInput, type ParamSpec, type ParamValues } from '../../src/core/matcher.js';
 import { btExtremes, btPair } from '../kernels/bt.js';
 import { censusTransform, censusWords } from '../kernels/census.js';
 import { applyPostprocess, postprocessParamsWith, readPostprocess, type PostprocessOptions } from '../kernels/postprocess.js';
@@ -237,19 +237,12 @@ function markExcluded(arena: SgmArena, minD: number): void {
 /** Wall time (ms) of each stage of the last sgm match in this thread, for the benchmark. */
 export const sgmStageTimes: Record<string, number> = {};
 
-/** Parameters with every missing one set to its default (no validation). */
-function withSgmDefaults(params: ParamValues): ParamValues {
-  const out: Record<string, number | boolean | string> = {};
-  for (const p of SGM_PARAMS) out[p.name] = params[p.name] ?? p.default;
-  return out;
-}
-
 /** The sgm matcher as a plain function (the plugin's match). */
 export async function sgmMatch(input: MatchInput, params: ParamValues, signal?: AbortSignal): Promise<Float32Array> {
   const { width, height } = input;
   checkInputSizes(width, height, input.left, input.right);
   const { minDisparity, levels } = disparityLevels(input.minDisparity, input.maxDisparity);
-  const full = withSgmDefaults(params);
+  const full = withDefaults(SGM_PARAMS, params);
   const o = readSgmOptions(full);
   const post = readPostprocess(full);
   let t = performance.now();

@@ -51,6 +51,3 @@ export function toLuminance(img: RasterImage): Float32Array {
   return out;
 }
 
-export function sameSize(a: { width: number; height: number }, b: { width: number; height: number }): boolean {
-  return a.width === b.width && a.height === b.height;
-}

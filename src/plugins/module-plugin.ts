@@ -10,7 +10,7 @@ import { createRequire } from 'node:module';
 import { dirname, join, resolve } from 'node:path';
 import { pathToFileURL } from 'node:url';
 import { UsageError } from '../core/errors.js';
-import type { MatcherPlugin, ParamSpec } from './contract.js';
+import type { MatcherPlugin, ParamSpec } from '../core/matcher.js';
 import { checkParamSchema, looksLikeModulePath, quote } from './params.js';
 
 const PACKAGE_NAME = /^(@[a-z0-9~][a-z0-9._~-]*\/)?[a-z0-9~][a-z0-9._~-]*$/;

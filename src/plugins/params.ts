@@ -15,7 +15,7 @@
  * with the allowed values or range, in one line.
  */
 import { UsageError } from '../core/errors.js';
-import type { ParamSpec, ParamValue } from './contract.js';
+import type { ParamSpec, ParamValue } from '../core/matcher.js';
 
 /** Upper bound on the configurations one spec may expand to. */
 export const MAX_SWEEP_CONFIGS = 10_000;

@@ -4,7 +4,7 @@
  */
 import { z } from 'zod';
 import { UsageError } from '../core/errors.js';
-import type { ParamSpec } from './contract.js';
+import type { ParamSpec } from '../core/matcher.js';
 import { checkParamSchema } from './params.js';
 import { issuesLine } from '../core/text.js';
 

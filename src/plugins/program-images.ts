@@ -5,7 +5,7 @@
  */
 import type { RasterImage } from '../core/image.js';
 import { encodePng } from '../io/png.js';
-import type { MatchInput } from './contract.js';
+import type { MatchInput } from '../core/matcher.js';
 import { cropTopLeft, padEdge, resampleBilinear, resampleDisparity, roundUpTo } from './resample.js';
 
 /** Sizes and disparity range as the program sees them. */

@@ -10,7 +10,7 @@ import { fileURLToPath } from 'node:url';
 import { z } from 'zod';
 import { UsageError } from '../core/errors.js';
 import { BUILTIN_MATCHERS } from '../../matchers/index.js';
-import type { MatcherPlugin, ParamValue } from './contract.js';
+import type { MatcherPlugin, ParamValue } from '../core/matcher.js';
 import { loadModulePlugin, locateModule, isPackageName } from './module-plugin.js';
 import { configLabel, expandRawSpec, expandSweep, looksLikeModulePath, parseMatcherSpec, quote, type RawSpec } from './params.js';
 import { programCodeHash, programMatcher } from './program/index.js';

@@ -9,7 +9,7 @@ import type { LoadedPair } from '../core/pair.js';
 import type { RegionMap } from '../core/regions.js';
 import type { JobResult } from '../core/score.js';
 import { scorePair } from '../metrics/score.js';
-import type { MatchInput } from '../plugins/contract.js';
+import type { MatchInput } from '../core/matcher.js';
 import { startPeakSampler } from './memory.js';
 import type { MatcherRunConfig, RunConfig } from './plan.js';
 import { readPrediction } from './predictions.js';

@@ -8,7 +8,7 @@ import type { ParamValue } from '../core/params.js';
 import type { RegionParams } from '../core/regions.js';
 import { datasetHash } from '../dataset/hash.js';
 import { loadManifest, sortedPairs, type Manifest } from '../dataset/manifest.js';
-import type { MatcherPlugin } from '../plugins/contract.js';
+import type { MatcherPlugin } from '../core/matcher.js';
 import { resolveMatcherEntries, resolveMatchers, type MatcherConfig, type MatcherSource } from '../plugins/registry.js';
 import type { ScaleOptions } from './scale.js';
 import { safeRunName, type RunSettings } from './experiment.js';

@@ -17,7 +17,7 @@ import { runInNewContext } from 'node:vm';
 import { move } from 'piscina';
 import type { RasterImage } from '../core/image.js';
 import type { ParamValue } from '../core/params.js';
-import type { MatchInput, MatcherPlugin } from '../plugins/contract.js';
+import type { MatchInput, MatcherPlugin } from '../core/matcher.js';
 import { pluginFromSource, type MatcherSource } from '../plugins/registry.js';
 import { oneLineError, validateOutput } from './execute.js';
 import { startPeakSampler } from './memory.js';

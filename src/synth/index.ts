@@ -26,7 +26,6 @@ export {
   rigForScene,
   cameraAxes,
   viewOf,
-  disparityAtDepth,
   DEFAULT_POSE,
 } from './rig.js';
 export { type SensorModel, DEFAULT_SENSOR, applySensor } from './sensor.js';

@@ -15,7 +15,7 @@
  * - Culling: each primitive's convex hull is clipped to the near plane and projected; its
  *   screen bounding box (plus one pixel) lists it in the 8x8 pixel tiles it covers.
  */
-import type { Camera } from '../core/camera.js';
+import { disparityFromDepth, type Camera } from '../core/camera.js';
 import { UsageError } from '../core/errors.js';
 import type { RasterImage } from '../core/image.js';
 import { compileGeometry, hullOf, intersectPrimitive, newRay, surfaceAt, KIND_RECT, PSTRIDE, RAY_T, type CompiledGeometry } from './intersect.js';
@@ -452,13 +452,13 @@ export function renderPair(scene: Scene, rig: Rig, opts: RenderOptions = {}): St
   const W = rig.width;
   const H = rig.height;
   const truth = new Float32Array(W * H);
-  const fb = rig.focalPx * rig.baselineM;
+  const cam = cameraOf(rig);
   for (let i = 0; i < W * H; i++) {
     const z = depth[i]!;
-    truth[i] = z === Infinity ? NaN : fb / z - rig.cxShiftPx;
+    truth[i] = z === Infinity ? NaN : disparityFromDepth(cam, z);
   }
   const occlusion = occlusionMask(g, lv, rv, rt, depth, opts.occlusionEpsilon ?? 1e-6);
   const left = applySensor(lrad, W, H, opts.left ?? scene.sensors?.left, subSeed(seed, 3));
   const right = applySensor(rrad, W, H, opts.right ?? scene.sensors?.right, subSeed(seed, 4));
-  return { width: W, height: H, left, right, truth, occlusion, camera: cameraOf(rig) };
+  return { width: W, height: H, left, right, truth, occlusion, camera: cam };
 }

@@ -131,7 +131,3 @@ export function viewOf(rig: Rig, which: 'left' | 'right'): View {
   };
 }
 
-/** Truth disparity of a point at depth z (along the optical axis): f * B / Z - s. */
-export function disparityAtDepth(rig: Rig, z: number): number {
-  return (rig.focalPx * rig.baselineM) / z - rig.cxShiftPx;
-}

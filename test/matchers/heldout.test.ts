@@ -17,7 +17,7 @@ import { toLuminance } from '../../src/core/image.js';
 import { DEFAULT_REGION_PARAMS, type RegionId, type RegionMap } from '../../src/core/regions.js';
 import { buildRegions } from '../../src/dataset/regions.js';
 import { scorePair } from '../../src/metrics/score.js';
-import { withDefaults, type ParamValues } from '../../src/plugins/contract.js';
+import { withDefaults, type ParamValues } from '../../src/core/matcher.js';
 import { dockScene, type DockVariant } from '../../src/synth/dock.js';
 import { renderPair } from '../../src/synth/render.js';
 import { rigForScene } from '../../src/synth/rig.js';
@@ -53,7 +53,7 @@ async function run(id: string, params: ParamValues, p: Pair): Promise<Float32Arr
   const pl = BUILTIN_MATCHERS.find((m) => m.id === id);
   if (!pl) throw new Error(`matcher ${id} is not registered`);
   const input = { width: W, height: H, left: p.left, right: p.right, minDisparity: 0, maxDisparity: p.maxD };
-  const out = await pl.match(input, withDefaults(pl, params), new AbortController().signal);
+  const out = await pl.match(input, withDefaults(pl.params, params), new AbortController().signal);
   return out instanceof Float32Array ? out : out.disparity;
 }
 

@@ -4,7 +4,7 @@
  * plugin's own schema (matchers/index.ts), and from a hand-written fixture.
  */
 import { describe, expect, it, vi } from 'vitest';
-import type { MatcherPlugin } from '../../src/plugins/contract.js';
+import type { MatcherPlugin } from '../../src/core/matcher.js';
 import { matchersCommand, matchersJson, matchersText } from '../../src/cli/commands/matchers.js';
 import { builtinMatchers } from '../../src/plugins/registry.js';
 

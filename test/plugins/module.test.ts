@@ -9,7 +9,7 @@ import { tmpdir } from 'node:os';
 import { join, resolve } from 'node:path';
 import { UsageError } from '../../src/core/errors.js';
 import { lcg32 } from '../support/rng.js';
-import type { MatchOutput } from '../../src/plugins/contract.js';
+import type { MatchOutput } from '../../src/core/matcher.js';
 import {
   builtinCodeHash,
   builtinMatchers,

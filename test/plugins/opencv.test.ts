@@ -12,7 +12,7 @@ import { tmpdir } from 'node:os';
 import { join, resolve } from 'node:path';
 import { decodeNpy } from '../../src/io/npy.js';
 import { encodePng } from '../../src/io/png.js';
-import type { MatchInput, MatchOutput } from '../../src/plugins/contract.js';
+import type { MatchInput, MatchOutput } from '../../src/core/matcher.js';
 import { resolveMatcherEntries, type MatcherConfig } from '../../src/plugins/registry.js';
 import { lcg32 } from '../support/rng.js';
 

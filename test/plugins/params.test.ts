@@ -6,7 +6,7 @@
 import { describe, expect, it } from 'vitest';
 import fc from 'fast-check';
 import { UsageError } from '../../src/core/errors.js';
-import type { MatcherPlugin, ParamSpec } from '../../src/plugins/contract.js';
+import type { MatcherPlugin, ParamSpec } from '../../src/core/matcher.js';
 import {
   checkParamValue,
   configLabel,

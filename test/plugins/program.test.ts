@@ -9,7 +9,7 @@ import { tmpdir } from 'node:os';
 import { join, resolve } from 'node:path';
 import { AbortedError, MatcherFailure, UsageError } from '../../src/core/errors.js';
 import { encodePng } from '../../src/io/png.js';
-import type { MatchInput, MatchOutput, ParamValues } from '../../src/plugins/contract.js';
+import type { MatchInput, MatchOutput, ParamValues } from '../../src/core/matcher.js';
 import { parseProgramMatcherDef, programMatcher, type ProgramMatcherPlugin } from '../../src/plugins/program/index.js';
 import { programCodeHash } from '../../src/plugins/program/index.js';
 import { lcg32 } from '../support/rng.js';

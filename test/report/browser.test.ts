@@ -13,7 +13,7 @@ import { pathToFileURL } from 'node:url';
 import { chromium, type Browser } from 'playwright-core';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { writeHtmlReport } from '../../src/report/html/index.js';
-import { buildSyntheticRun } from './synthetic-run.js';
+import { buildSyntheticRun } from '../../bench/synthetic-run.js';
 
 const CHROMIUM = '/usr/bin/chromium';
 const CONFIGS = [

@@ -11,7 +11,7 @@ import { afterAll, describe, expect, it } from 'vitest';
 import { runCli } from '../../src/cli/app.js';
 import { decodePfm, encodePfm } from '../../src/io/pfm.js';
 import { createPrng } from '../../src/stats/prng.js';
-import { buildSyntheticRun } from './synthetic-run.js';
+import { buildSyntheticRun } from '../../bench/synthetic-run.js';
 
 const tmp: string[] = [];
 afterAll(async () => {

@@ -12,7 +12,7 @@ import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { InputError } from '../../src/core/errors.js';
 import { buildHtmlReport, renderHtmlReport, writeHtmlReport } from '../../src/report/html/index.js';
 import { writeRunOutputs } from '../../src/runner/outputs.js';
-import { buildSyntheticRun } from './synthetic-run.js';
+import { buildSyntheticRun } from '../../bench/synthetic-run.js';
 import { DEFAULT_QUANTILES } from '../../src/metrics/catalogue.js';
 
 let root = '';

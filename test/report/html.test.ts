@@ -5,7 +5,7 @@ import { join } from 'node:path';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { buildHtmlReport, escapeHtml, scriptSafeJson, writeHtmlReport } from '../../src/report/html/index.js';
 import { pairPreviewPaths } from '../../src/report/preview.js';
-import { buildSyntheticRun } from './synthetic-run.js';
+import { buildSyntheticRun } from '../../bench/synthetic-run.js';
 
 const EVIL_LABEL = '<img src=x onerror=alert(1)>';
 const EVIL_SCRIPT = 'sgm</script><script>alert(2)</script>';

@@ -10,7 +10,7 @@ import { AbortedError } from '../../src/core/errors.js';
 import { DEFAULT_REGION_PARAMS, REGION_IDS } from '../../src/core/regions.js';
 import type { JobResult } from '../../src/core/score.js';
 import { loadManifest } from '../../src/dataset/manifest.js';
-import type { MatcherPlugin } from '../../src/plugins/contract.js';
+import type { MatcherPlugin } from '../../src/core/matcher.js';
 import { pairPreviewPaths, writePairPreview } from '../../src/report/preview.js';
 import { selfTime } from '../../src/runner/execute.js';
 import { executeRun, pairRegions } from '../../src/runner/run.js';

@@ -3,7 +3,7 @@ import { DEFAULT_REGION_PARAMS } from '../../src/core/regions.js';
 import { datasetHash } from '../../src/dataset/hash.js';
 import { loadManifest } from '../../src/dataset/manifest.js';
 import { DEFAULT_THRESHOLDS } from '../../src/metrics/types.js';
-import type { MatcherPlugin } from '../../src/plugins/contract.js';
+import type { MatcherPlugin } from '../../src/core/matcher.js';
 import { enumerateJobs } from '../../src/runner/jobs.js';
 import { planRun, type RunPlan } from '../../src/runner/plan.js';
 import type { WrittenDataset } from '../dataset/fixture.js';

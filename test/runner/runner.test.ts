@@ -6,7 +6,7 @@ import { InputError } from '../../src/core/errors.js';
 import { DEFAULT_REGION_PARAMS } from '../../src/core/regions.js';
 import type { JobResult } from '../../src/core/score.js';
 import { DEFAULT_THRESHOLDS } from '../../src/metrics/types.js';
-import type { MatcherPlugin } from '../../src/plugins/contract.js';
+import type { MatcherPlugin } from '../../src/core/matcher.js';
 import { csvText } from '../../src/report/csv.js';
 import { pairsCsvHeader } from '../../src/report/pairs-csv.js';
 import { validateOutput, oneLineError } from '../../src/runner/execute.js';

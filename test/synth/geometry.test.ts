@@ -1,8 +1,8 @@
 import { describe, expect, test } from 'vitest';
 import {
   boxOnFloor,
+  cameraOf,
   compileGeometry,
-  disparityAtDepth,
   intersectPrimitive,
   makeRig,
   newRay,
@@ -12,6 +12,7 @@ import {
   setRay,
 } from '../../src/synth/index.js';
 import { bytesOf, fitAffine, runPython, testScene } from './helpers.js';
+import { disparityFromDepth } from '../../src/core/camera.js';
 
 describe('truth disparity geometry', () => {
   test('a fronto-parallel plane at depth Z has d = f*B/Z everywhere', () => {
@@ -25,8 +26,8 @@ describe('truth disparity geometry', () => {
       const rig = makeRig({ width: 96, height: 72, focalPx: 80, baselineM: 0.1, cxShiftPx: s, pose });
       const scene = testScene([planeFacing(rig, Z, 0)]);
       const r = renderPair(scene, rig, { samples: 1 });
-      const expected = (80 * 0.1) / Z - s; // hand formula, d = f*B/Z - s (see src/synth/rig.ts)
-      expect(disparityAtDepth(rig, Z)).toBeCloseTo(expected, 12);
+      const expected = (80 * 0.1) / Z - s; // hand formula, d = f*B/Z - s (pinhole stereo, common practice)
+      expect(disparityFromDepth(cameraOf(rig), Z)).toBeCloseTo(expected, 12);
       let maxErr = 0;
       for (const d of r.truth) maxErr = Math.max(maxErr, Math.abs(d - expected));
       // float32 storage of values below 8: rounding error below 5e-7.

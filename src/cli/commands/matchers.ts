@@ -3,7 +3,7 @@
  * parameters (type, default, range or values, description).
  */
 import type { CommandModule } from 'yargs';
-import type { MatcherPlugin, ParamSpec } from '../../plugins/contract.js';
+import type { MatcherPlugin, ParamSpec } from '../../core/matcher.js';
 import { describeAllowed, formatParamValue } from '../../plugins/params.js';
 import { builtinMatchers } from '../../plugins/registry.js';
 

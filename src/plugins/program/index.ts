@@ -24,7 +24,7 @@ import { tmpdir } from 'node:os';
 import { join, resolve } from 'node:path';
 import { MatcherFailure, UsageError, isParallaxError } from '../../core/errors.js';
 import { readDisparityFile } from '../../io/files.js';
-import { withDefaults, type MatchInput, type MatchOutput, type MatcherPlugin, type ParamValues } from '../contract.js';
+import { withDefaults, type MatchInput, type MatchOutput, type MatcherPlugin, type ParamValues } from '../../core/matcher.js';
 import { formatParamValue } from '../params.js';
 import {
   colorPngForProgram,
@@ -159,7 +159,7 @@ export function programMatcher(
     serverPid: () => server?.pid(),
 
     async match(input: MatchInput, params: ParamValues, signal: AbortSignal): Promise<MatchOutput> {
-      const full = withDefaults(plugin, params);
+      const full = withDefaults(def.params, params);
       const pairId = input.source?.pairId ?? `pair${jobCounter}`;
       const dir = join(ensureTmp(), `${String(jobCounter++).padStart(6, '0')}-${sanitizeForPath(pairId)}`);
       await mkdir(dir, { recursive: true });

@@ -65,6 +65,8 @@ interface PlxReportHead {
   errorClip: number;
   noTruth: string;
   regionKeys: [string, string][];
+  /** Colours of configurations in charts, in order (colour-blind safe). */
+  configColors: string[];
 }
 
 interface PlxReportData extends PlxReportHead {

@@ -8,7 +8,7 @@
   'use strict';
   const data = JSON.parse(document.getElementById('plx-data')!.textContent!) as PlxReportData;
   const SVGNS = 'http://www.w3.org/2000/svg';
-  const COLORS = ['#0072B2', '#E69F00', '#009E73', '#CC79A7', '#56B4E9', '#D55E00', '#F0E442', '#000000'];
+  const COLORS = data.configColors;
   interface State {
     dataset: string;
     tag: string;

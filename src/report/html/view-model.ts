@@ -10,7 +10,7 @@ import type { Manifest } from '../../dataset/manifest.js';
 import type { SummaryRow } from '../../stats/aggregate.js';
 import { DEFAULT_LEVEL } from '../../stats/bootstrap.js';
 import { heading, metricsOf, thresholdName, type MetricSet } from '../../metrics/catalogue.js';
-import { colorHex, ERROR_MAP, type DisparityMapName } from '../colormaps.js';
+import { CATEGORICAL, colorHex, ERROR_MAP, type DisparityMapName } from '../colormaps.js';
 import { encodePalettePng, type IndexedImage } from '../png-palette.js';
 import { ERROR_CLIP_PX, NO_TRUTH, REGION_COLORS, colorizeDisparity, colorizeError, colorizeRegions, finiteRange, toThumbGrid } from '../thumbs.js';
 import { pairThumbsFromDataset, type PairInputs } from './inputs.js';
@@ -131,6 +131,7 @@ export function reportData(rows: SummaryRow[], set: MetricSet, datasets: string[
     errColors: Array.from({ length: 33 }, (_, i) => colorHex(ERROR_MAP, i / 32)),
     errorClip: ERROR_CLIP_PX,
     noTruth: `rgb(${NO_TRUTH.join(',')})`,
+    configColors: [...CATEGORICAL],
     regionKeys: (['visible', 'occluded', 'flat', 'jump', 'unknown'] as const).map((k): [string, string] => [k === 'unknown' ? 'no truth' : k, `rgb(${REGION_COLORS[k].join(',')})`]),
   };
 }

@@ -7,17 +7,17 @@
  */
 import { mkdir, writeFile } from 'node:fs/promises';
 import { join } from 'node:path';
-import type { JobResult } from '../../src/core/score.js';
-import { DEFAULT_REGION_PARAMS } from '../../src/core/regions.js';
-import { toLuminance, type RasterImage } from '../../src/core/image.js';
-import { encodePfm } from '../../src/io/pfm.js';
-import { encodePng } from '../../src/io/png.js';
-import { buildRegions } from '../../src/dataset/regions.js';
-import { scorePair } from '../../src/metrics/score.js';
-import { writePairPreview, writePreview } from '../../src/report/preview.js';
-import { createPrng } from '../../src/stats/prng.js';
-import { RUN_RECORD_FORMAT, writeRunRecord, type RunRecord } from '../../src/io/run-record.js';
-import { DEFAULT_QUANTILES } from '../../src/metrics/catalogue.js';
+import type { JobResult } from '../src/core/score.js';
+import { DEFAULT_REGION_PARAMS } from '../src/core/regions.js';
+import { toLuminance, type RasterImage } from '../src/core/image.js';
+import { encodePfm } from '../src/io/pfm.js';
+import { encodePng } from '../src/io/png.js';
+import { buildRegions } from '../src/dataset/regions.js';
+import { scorePair } from '../src/metrics/score.js';
+import { writePairPreview, writePreview } from '../src/report/preview.js';
+import { createPrng } from '../src/stats/prng.js';
+import { RUN_RECORD_FORMAT, writeRunRecord, type RunRecord } from '../src/io/run-record.js';
+import { DEFAULT_QUANTILES } from '../src/metrics/catalogue.js';
 
 export interface SyntheticConfig {
   label: string;

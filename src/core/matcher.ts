@@ -2,9 +2,9 @@
  * The matcher contract. A matcher is declarative metadata plus one function.
  * It never reads files: the runner hands it arrays.
  */
-import type { RasterImage } from '../core/image.js';
+import type { RasterImage } from './image.js';
 
-import type { ParamValue } from '../core/params.js';
+import type { ParamValue } from './params.js';
 export type { ParamValue };
 export type ParamValues = Readonly<Record<string, ParamValue>>;
 
@@ -75,9 +75,9 @@ export interface MatcherPlugin {
   dispose?(): void | Promise<void>;
 }
 
-/** Fill in defaults for any parameter the caller did not set (no validation). */
-export function withDefaults(plugin: MatcherPlugin, params: ParamValues): Record<string, ParamValue> {
+/** Fill in the schema's default for any parameter the caller did not set (no validation). */
+export function withDefaults(specs: readonly ParamSpec[], params: ParamValues): Record<string, ParamValue> {
   const out: Record<string, ParamValue> = {};
-  for (const p of plugin.params) out[p.name] = params[p.name] ?? p.default;
+  for (const p of specs) out[p.name] = params[p.name] ?? p.default;
   return out;
 }
