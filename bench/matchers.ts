@@ -16,9 +16,8 @@
 import { spawn, type ChildProcessWithoutNullStreams } from 'node:child_process';
 import { existsSync, mkdtempSync, readFileSync, rmSync, writeFileSync } from 'node:fs';
 import { cpus, loadavg, tmpdir } from 'node:os';
-import { dirname, join, resolve } from 'node:path';
+import { join, resolve } from 'node:path';
 import { createInterface } from 'node:readline';
-import { fileURLToPath } from 'node:url';
 import { toLuminance, type RasterImage } from '../src/core/image.js';
 import { DEFAULT_REGION_PARAMS, type RegionMap } from '../src/core/regions.js';
 import { loadPair } from '../src/dataset/load.js';

@@ -81,10 +81,10 @@ export default async function (): Promise<void> {
       const visible = new Uint8Array(n);
       const failed = new Uint8Array(n);
       for (let i = 0; i < n; i++) {
-        const t = p.truth.data[i]!;
+        const t = p.truth.data[i];
         if (!Number.isFinite(t) || occ[i]) continue;
         visible[i] = 1;
-        const e = Math.abs(disp[i]! - t);
+        const e = Math.abs(disp[i] - t);
         failed[i] = e <= 1 ? 0 : 1; // NaN (no answer) fails too
       }
       scenes.push({ w: p.width, h: p.height, gray: p.leftGray, truth: p.truth.data, visible, failed });
@@ -103,18 +103,18 @@ export default async function (): Promise<void> {
   let bestFlat = { w: 0, t: 0, j: -Infinity, share: 0 };
   for (const w of WINDOWS) {
     for (const t of FLAT_T) {
-      const r = youden(scenes, (_, k) => energies.get(w)![k]!.map((e) => (e < t ? 1 : 0)) as unknown as Uint8Array, (_, k) => awayFromJumps[k]!);
+      const r = youden(scenes, (_, k) => energies.get(w)![k].map((e) => (e < t ? 1 : 0)) as unknown as Uint8Array, (_, k) => awayFromJumps[k]);
       flatRows.push(`| ${w} | ${t} | ${r.j.toFixed(3)} | ${(100 * r.share).toFixed(1)} |`);
       if (r.j > bestFlat.j) bestFlat = { w, t, j: r.j, share: r.share };
     }
   }
   // Jump: visible pixels outside the chosen flat region.
-  const flatChosen = scenes.map((s, k) => energies.get(bestFlat.w)![k]!.map((e, i) => (s.visible[i] && !(e < bestFlat.t) ? 1 : 0)) as unknown as Uint8Array);
+  const flatChosen = scenes.map((s, k) => energies.get(bestFlat.w)![k].map((e, i) => (s.visible[i] && !(e < bestFlat.t) ? 1 : 0)) as unknown as Uint8Array);
   const jumpRows: string[] = [];
   let bestJump = { gap: 0, r: 0, j: -Infinity, share: 0 };
   for (const gap of GAPS) {
     for (const radius of RADII) {
-      const r = youden(scenes, (s) => jumpMask(s.truth, s.w, s.h, gap, radius), (_, k) => flatChosen[k]!);
+      const r = youden(scenes, (s) => jumpMask(s.truth, s.w, s.h, gap, radius), (_, k) => flatChosen[k]);
       jumpRows.push(`| ${gap} | ${radius} | ${r.j.toFixed(3)} | ${(100 * r.share).toFixed(1)} |`);
       if (r.j > bestJump.j) bestJump = { gap, r: radius, j: r.j, share: r.share };
     }

@@ -70,7 +70,7 @@ export default async function (): Promise<void> {
       ],
     });
     const tBuild = (performance.now() - t0) / 1000;
-    const load0 = loadavg()[0]!;
+    const load0 = loadavg()[0];
     const stored = await timed(runDir);
     await rm(join(runDir, 'previews', '@pairs'), { recursive: true, force: true });
     const fromDataset = await timed(runDir);
@@ -79,7 +79,7 @@ export default async function (): Promise<void> {
     const cliStored = await cliReport(runDir);
     await rm(join(runDir, 'previews', '@pairs'), { recursive: true, force: true });
     const cliFromDataset = await cliReport(runDir);
-    const load1 = loadavg()[0]!;
+    const load1 = loadavg()[0];
     const row = (what: string, r: { secs: number; cpu: number; mb: number }): string =>
       `| ${what} | ${r.secs.toFixed(2)} s | ${r.cpu.toFixed(2)} s | ${r.mb.toFixed(2)} MB |\n`;
     process.stdout.write(`${pairs} pairs x 5 configurations, 640x480; targets: < 10 s wall, < 25 MB.\n\n`);

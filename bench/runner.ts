@@ -128,7 +128,7 @@ export async function bulkSet(): Promise<{ dir: string; note: string }> {
     m.pairs.map((p) => ({ ...p, id: `p${k}-${String(p.id)}`, left: `p${k}/${String(p.left)}`, right: `p${k}/${String(p.right)}`, truth: `p${k}/${String(p.truth)}`, occlusion: `p${k}/${String(p.occlusion)}` })),
   );
   const range: [number, number] = [Math.min(...parts.map((m) => m.disparityRange[0])), Math.max(...parts.map((m) => m.disparityRange[1]))];
-  const manifest = (name: string, list: typeof pairs): string => JSON.stringify({ name, camera: parts[0]!.camera, disparityRange: range, pairs: list });
+  const manifest = (name: string, list: typeof pairs): string => JSON.stringify({ name, camera: parts[0].camera, disparityRange: range, pairs: list });
   // The 20-pair run takes the first 20 pairs of the 500-pair run's (sorted) order.
   writeFileSync(join(dir, 'm20.json'), manifest('dock-bulk-20', pairs.slice(0, BULK.small)));
   writeFileSync(join(dir, 'm500.tmp'), manifest('dock-bulk-500', pairs));
@@ -159,7 +159,7 @@ export default async function runnerBench(): Promise<void> {
         into.push(cli(['run', '-d', demo, ...m, '--jobs', jobs, '--no-cache', '-o', out, '-q'], tmp));
       }
     }
-    const median = (rs: { secs: number; cpu: number }[]): { secs: number; cpu: number } => [...rs].sort((a, b) => a.secs - b.secs)[(rs.length - 1) >> 1]!;
+    const median = (rs: { secs: number; cpu: number }[]): { secs: number; cpu: number } => [...rs].sort((a, b) => a.secs - b.secs)[(rs.length - 1) >> 1];
     const t1 = median(runs1);
     const t2 = median(runs2);
     if (rounds > 1) {

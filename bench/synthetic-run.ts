@@ -113,24 +113,24 @@ export async function buildSyntheticRun(o: SyntheticRunOptions): Promise<{ runDi
     await writeFile(join(datasetDir, `${ids[k]}-r.png`), png);
     await writeFile(join(datasetDir, `${ids[k]}-d.pfm`), encodePfm({ width: o.width, height: o.height, data: truth }));
     const regions = buildRegions(truth, toLuminance(left), undefined, o.width, o.height, DEFAULT_REGION_PARAMS);
-    if (o.pairPreviews !== false) await writePairPreview(runDir, 'dock-yard', resultIds[k]!, left, regions);
+    if (o.pairPreviews !== false) await writePairPreview(runDir, 'dock-yard', resultIds[k], left, regions);
     for (const c of o.configs) {
       const failed = c.failEvery !== undefined && (k + 1) % c.failEvery === 0;
       let pred: Float32Array | null = null;
       if (!failed) {
         pred = new Float32Array(truth.length);
         for (let i = 0; i < pred.length; i++) {
-          const t = Number.isFinite(truth[i]!) ? truth[i]! : 10;
+          const t = Number.isFinite(truth[i]) ? truth[i] : 10;
           pred[i] = rng.next() < c.holes ? NaN : t + c.noise * gauss();
         }
       }
       const scores = scorePair(pred, truth, regions, { thresholds, quantiles: [...DEFAULT_QUANTILES] });
       const job: JobResult = {
         matcher: c.label,
-        matcherId: c.label.split(':')[0]!,
+        matcherId: c.label.split(':')[0],
         params: {},
         dataset: 'dock-yard',
-        pair: resultIds[k]!,
+        pair: resultIds[k],
         status: failed ? 'failed' : 'ok',
         time_ms: failed ? null : c.timeMs * (0.9 + 0.2 * rng.next()),
         peak_mb: 50 + 10 * rng.next(),
@@ -141,7 +141,7 @@ export async function buildSyntheticRun(o: SyntheticRunOptions): Promise<{ runDi
       if (failed) job.error = c.error ?? 'matcher exited with code 3';
       if (o.tagEven && k % 2 === 0) job.tags = ['wet-floor'];
       results.push(job);
-      if (pred) await writePreview(runDir, c.label, 'dock-yard', resultIds[k]!, { width: o.width, height: o.height, data: pred });
+      if (pred) await writePreview(runDir, c.label, 'dock-yard', resultIds[k], { width: o.width, height: o.height, data: pred });
     }
   }
   const manifest = {
@@ -163,7 +163,7 @@ export async function buildSyntheticRun(o: SyntheticRunOptions): Promise<{ runDi
       thresholds,
       quantiles: [...DEFAULT_QUANTILES],
       regions: { ...DEFAULT_REGION_PARAMS },
-      matchers: o.configs.map((c) => ({ label: c.label, matcherId: c.label.split(':')[0]!, kind: 'matcher' as const, version: '1', params: { noise: c.noise }, codeHash: 'f'.repeat(64) })),
+      matchers: o.configs.map((c) => ({ label: c.label, matcherId: c.label.split(':')[0], kind: 'matcher' as const, version: '1', params: { noise: c.noise }, codeHash: 'f'.repeat(64) })),
       datasets: [{ name: 'dock-yard', path: datasetDir, manifest: join(datasetDir, 'dataset.json'), hash: 'c'.repeat(64), pairs: o.pairs }],
     },
     jobs: { total: results.length, ok: results.filter((r) => r.status === 'ok').length, failed: results.filter((r) => r.status === 'failed').length },

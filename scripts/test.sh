@@ -1,6 +1,6 @@
 #!/usr/bin/env bash
 # The test command (README, .ci/run): installs what the tests need when it is
-# missing, builds, then runs the whole vitest suite.
+# missing, builds, type-checks and lints, then runs the whole vitest suite.
 set -euo pipefail
 cd "$(dirname "$0")/.."
 
@@ -25,6 +25,9 @@ if [ ${#need[@]} -gt 0 ]; then
 fi
 
 npm run build --silent
+# Types of the tests and the client script, and the lint rules (eslint.config.js).
+npm run typecheck --silent
+npm run lint --silent
 mkdir -p test-artifacts
 status=0
 npx vitest run --reporter=default --reporter=json --outputFile.json=test-artifacts/vitest.json "$@" || status=$?
@@ -32,6 +35,8 @@ npx vitest run --reporter=default --reporter=json --outputFile.json=test-artifac
 node -e '
   const r = JSON.parse(require("fs").readFileSync("test-artifacts/vitest.json", "utf8"));
   const skipped = r.numPendingTests + r.numTodoTests;
-  console.log(`Tests: ${r.numPassedTests} passed, ${r.numFailedTests} failed` + (skipped ? `, ${skipped} skipped` : ""));
+  // A test file that fails to load runs no test: count it as a failure, not as nothing.
+  const brokenFiles = r.testResults.filter((f) => f.status === "failed" && f.assertionResults.length === 0).length;
+  console.log(`Tests: ${r.numPassedTests} passed, ${r.numFailedTests + brokenFiles} failed` + (skipped ? `, ${skipped} skipped` : ""));
 ' || true
 exit $status

@@ -254,23 +254,25 @@ export async function sgmMatch(input: MatchInput, params: ParamValues, signal?: 
   const words = o.cost === 'census' ? censusWords(o.censusW, o.censusH) : 1;
   const arena = await createArena(width, height, levels, o.kernel, words);
   try {
-    return runPipeline(arena, input, minDisparity, levels, o, post, words, lap, signal);
+    return runPipeline({ arena, input, minDisparity, levels, o, post, words, lap, signal });
   } finally {
     arena.release();
   }
 }
 
-function runPipeline(
-  arena: SgmArena,
-  input: MatchInput,
-  minDisparity: number,
-  levels: number,
-  o: SgmOptions,
-  post: PostprocessOptions,
-  words: number,
-  lap: (name: string) => void,
-  signal: AbortSignal | undefined,
-): Float32Array {
+/** One match's pipeline: census (or BT) costs, aggregation, winner-take-all, post-processing. */
+function runPipeline(job: {
+  arena: SgmArena;
+  input: MatchInput;
+  minDisparity: number;
+  levels: number;
+  o: SgmOptions;
+  post: PostprocessOptions;
+  words: number;
+  lap: (name: string) => void;
+  signal: AbortSignal | undefined;
+}): Float32Array {
+  const { arena, input, minDisparity, levels, o, post, words, lap, signal } = job;
   const { width, height } = input;
   fillGray(input.left, arena.gray);
   lap('setup');

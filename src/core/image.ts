@@ -41,12 +41,12 @@ export function toLuminance(img: RasterImage): Float32Array {
   const c = img.channels;
   const k = img.bitDepth === 16 ? 1 / 257 : 1;
   if (c === 1 || c === 2) {
-    for (let i = 0, j = 0; i < n; i++, j += c) out[i] = src[j]! * k;
+    for (let i = 0, j = 0; i < n; i++, j += c) out[i] = src[j] * k;
   } else {
     const wr = BT601.r * k;
     const wg = BT601.g * k;
     const wb = BT601.b * k;
-    for (let i = 0, j = 0; i < n; i++, j += c) out[i] = wr * src[j]! + wg * src[j + 1]! + wb * src[j + 2]!;
+    for (let i = 0, j = 0; i < n; i++, j += c) out[i] = wr * src[j] + wg * src[j + 1] + wb * src[j + 2];
   }
   return out;
 }

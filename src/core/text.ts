@@ -43,6 +43,7 @@ export function issueMessage(issue: ZodIssueLike): string {
   if (issue.code === 'unrecognized_keys' && Array.isArray(issue.keys)) {
     return `unknown key${issue.keys.length === 1 ? '' : 's'} ${issue.keys.map((k) => quote(String(k))).join(', ')}`;
   }
+  // eslint-disable-next-line no-control-regex -- control characters are what this folds
   return issue.message.replace(/[\x00-\x1f\x7f]+/g, ' ');
 }
 

@@ -48,7 +48,7 @@ export function truthStats(data: Float32Array, lo: number, hi: number): { invali
   let min = Infinity;
   let max = -Infinity;
   for (let i = 0; i < data.length; i++) {
-    const d = data[i]!;
+    const d = data[i];
     if (!Number.isFinite(d)) {
       invalid++;
       continue;

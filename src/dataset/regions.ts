@@ -34,6 +34,7 @@
  * All inputs are flat row-major arrays of width * height values.
  */
 import { REGION_BIT, type RegionMap, type RegionParams } from '../core/regions.js';
+import type { LoadedPair } from '../core/pair.js';
 import { UsageError } from '../core/errors.js';
 import { deriveOcclusion } from './occlusion.js';
 
@@ -76,6 +77,11 @@ export function buildRegions(
 }
 
 /** Throws a UsageError naming the offending RegionParams field. */
+/** Regions of a loaded pair: the manifest's occlusion mask, or one derived from the truth. */
+export function pairRegions(pair: LoadedPair, p: { regions: RegionParams }): RegionMap {
+  return buildRegions(pair.truth.data, pair.leftGray, pair.occlusion, pair.width, pair.height, p.regions);
+}
+
 export function checkRegionParams(p: RegionParams): void {
   if (!(Number.isInteger(p.flatWindow) && p.flatWindow >= 1 && p.flatWindow % 2 === 1)) {
     throw new UsageError('regions.flatWindow', `must be an odd positive integer, got ${p.flatWindow}`);

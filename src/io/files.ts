@@ -88,7 +88,7 @@ export async function readDisparityFile(path: string, opts?: DisparityReadOption
 
 /**
  * Reads a mask PNG: 1 where the pixel is non-zero in any colour channel (alpha
- * ignored), else 0. The DESIGN asks for 8-bit gray masks; other PNG kinds are read the same way.
+ * ignored), else 0. 8-bit gray is the usual mask (README, "File formats"); other PNG kinds are read the same way.
  */
 export async function readMaskFile(path: string, opts?: DecodeOptions): Promise<MaskImage> {
   const ext = extname(path).toLowerCase();
@@ -105,8 +105,8 @@ export function maskFromRaster(img: RasterImage): MaskImage {
   const src = img.data;
   const data = new Uint8Array(n);
   for (let i = 0, j = 0; i < n; i++, j += c) {
-    let v = src[j]!;
-    if (colours === 3) v = v | src[j + 1]! | src[j + 2]!;
+    let v = src[j];
+    if (colours === 3) v = v | src[j + 1] | src[j + 2];
     data[i] = v !== 0 ? 1 : 0;
   }
   return { width: img.width, height: img.height, data };

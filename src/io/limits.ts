@@ -42,7 +42,7 @@ export function checkImageSize(name: string, width: number, height: number, maxP
 export function nonFiniteToNaN(a: Float32Array): void {
   const n = a.length;
   for (let i = 0; i < n; i++) {
-    const v = a[i]!;
+    const v = a[i];
     if (v - v !== 0) a[i] = NaN;
   }
 }

@@ -144,7 +144,7 @@ const ACCEPTED = new Set(['f2', 'f4', 'f8', 'u1', 'i1', 'u2', 'i2', 'u4', 'i4'])
 
 function parseDtype(descr: string, name: string): Dtype {
   const m = DTYPE_RE.exec(descr);
-  if (!m || !ACCEPTED.has(m[2]! + m[3]!) || (m[1] === '|') !== (m[3] === '1')) {
+  if (!m || !ACCEPTED.has(m[2] + m[3]) || (m[1] === '|') !== (m[3] === '1')) {
     throw new InputError(
       name,
       `.npy dtype ${quote(descr)} is not supported (use float32 or float64: <f4 >f4 <f8 >f8; 8-32 bit integers and float16 are also read)`,
@@ -169,9 +169,9 @@ export function decodeNpy(buf: Uint8Array, name: string, opts?: DecodeOptions): 
     if (buf[i] !== MAGIC[i]) throw new InputError(name, 'not a .npy file (no \\x93NUMPY magic)');
   }
   if (buf.length < 10) throw new InputError(name, '.npy header is truncated');
-  const major = buf[6]!;
+  const major = buf[6];
   if (major !== 1 && major !== 2 && major !== 3) {
-    throw new InputError(name, `.npy format version ${major}.${buf[7]!} is not supported (1.0, 2.0, 3.0 are)`);
+    throw new InputError(name, `.npy format version ${major}.${buf[7]} is not supported (1.0, 2.0, 3.0 are)`);
   }
   const dv = new DataView(buf.buffer, buf.byteOffset, buf.byteLength);
   let headerStart: number;
@@ -201,8 +201,8 @@ export function decodeNpy(buf: Uint8Array, name: string, opts?: DecodeOptions): 
   if (!(shape.length === 2 || (shape.length === 3 && shape[2] === 1))) {
     throw new InputError(name, `.npy shape (${shape.join(', ')}) is not (height, width) or (height, width, 1)`);
   }
-  const height = shape[0]!;
-  const width = shape[1]!;
+  const height = shape[0];
+  const width = shape[1];
   if (width === 0 || height === 0) throw new InputError(name, `.npy shape (${shape.join(', ')}) is empty`);
   checkImageSize(name, width, height, maxPixels);
   const n = width * height;
@@ -278,9 +278,9 @@ export function encodeNpy(img: FloatImage, dtype: 'float32' | 'float64' = 'float
   const n = data.length;
   if (size === 4) {
     if (HOST_LITTLE_ENDIAN) out.set(new Uint8Array(data.buffer, data.byteOffset, data.byteLength), total);
-    else for (let i = 0; i < n; i++) dv.setFloat32(total + 4 * i, data[i]!, true);
+    else for (let i = 0; i < n; i++) dv.setFloat32(total + 4 * i, data[i], true);
   } else {
-    for (let i = 0; i < n; i++) dv.setFloat64(total + 8 * i, data[i]!, true);
+    for (let i = 0; i < n; i++) dv.setFloat64(total + 8 * i, data[i], true);
   }
   return out;
 }

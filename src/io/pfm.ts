@@ -35,19 +35,19 @@ const NUM_RE = /^[+-]?([0-9]+\.?[0-9]*|\.[0-9]+)([eE][+-]?[0-9]+)?$/;
 /** Reads one header token starting at `pos` (which must not be whitespace). */
 function readToken(buf: Uint8Array, pos: number, name: string, what: string): { text: string; end: number } {
   let end = pos;
-  while (end < buf.length && !isSpace(buf[end]!)) {
+  while (end < buf.length && !isSpace(buf[end])) {
     if (end - pos >= MAX_TOKEN) throw new InputError(name, `PFM header: ${what} is not a number`);
     end++;
   }
   if (end === buf.length) throw new InputError(name, `PFM header is truncated (no data after the ${what})`);
   let text = '';
-  for (let i = pos; i < end; i++) text += String.fromCharCode(buf[i]!);
+  for (let i = pos; i < end; i++) text += String.fromCharCode(buf[i]);
   return { text, end };
 }
 
 function skipSpace(buf: Uint8Array, pos: number, name: string, what: string): number {
-  if (pos >= buf.length || !isSpace(buf[pos]!)) throw new InputError(name, `PFM header: expected whitespace before the ${what}`);
-  while (pos < buf.length && isSpace(buf[pos]!)) pos++;
+  if (pos >= buf.length || !isSpace(buf[pos])) throw new InputError(name, `PFM header: expected whitespace before the ${what}`);
+  while (pos < buf.length && isSpace(buf[pos])) pos++;
   if (pos === buf.length) throw new InputError(name, `PFM header is truncated (no ${what})`);
   return pos;
 }
@@ -62,7 +62,7 @@ function parseDim(text: string, name: string, what: string): number {
 /** Decodes a single-channel PFM into a top-row-first float image. */
 export function decodePfm(buf: Uint8Array, name: string, opts?: DecodeOptions): FloatImage {
   const maxPixels = pixelLimit(opts);
-  if (buf.length < 3 || buf[0] !== 0x50 || (buf[1] !== 0x66 && buf[1] !== 0x46) || !isSpace(buf[2]!)) {
+  if (buf.length < 3 || buf[0] !== 0x50 || (buf[1] !== 0x66 && buf[1] !== 0x46) || !isSpace(buf[2])) {
     throw new InputError(name, 'not a PFM file (it does not start with "Pf")');
   }
   if (buf[1] === 0x46) {
@@ -114,10 +114,10 @@ export function decodePfm(buf: Uint8Array, name: string, opts?: DecodeOptions): 
 function swap32(b: Uint8Array): void {
   const n = b.length;
   for (let i = 0; i < n; i += 4) {
-    const a0 = b[i]!;
-    const a1 = b[i + 1]!;
-    b[i] = b[i + 3]!;
-    b[i + 1] = b[i + 2]!;
+    const a0 = b[i];
+    const a1 = b[i + 1];
+    b[i] = b[i + 3];
+    b[i + 1] = b[i + 2];
     b[i + 2] = a1;
     b[i + 3] = a0;
   }

@@ -139,8 +139,8 @@ function walk(b: Buffer, name: string, maxPixels: number): Walked {
 function parseIhdr(d: Buffer, name: string): PngHeader {
   const width = d.readUInt32BE(0);
   const height = d.readUInt32BE(4);
-  const bitDepth = d[8]!;
-  const colorType = d[9]!;
+  const bitDepth = d[8];
+  const colorType = d[9];
   if (width === 0 || height === 0 || width > 0x7fffffff || height > 0x7fffffff) {
     throw new InputError(name, `PNG size ${width}x${height} is not valid`);
   }
@@ -150,13 +150,13 @@ function parseIhdr(d: Buffer, name: string): PngHeader {
     throw new InputError(name, `PNG bit depth ${bitDepth} is not valid for colour type ${colorType}`);
   }
   if (d[10] !== 0 || d[11] !== 0) throw new InputError(name, 'PNG uses an unknown compression or filter method');
-  if (d[12] !== 0 && d[12] !== 1) throw new InputError(name, `PNG interlace method ${d[12]!} is not valid`);
+  if (d[12] !== 0 && d[12] !== 1) throw new InputError(name, `PNG interlace method ${d[12]} is not valid`);
   return { width, height, bitDepth, colorType, interlaced: d[12] === 1 };
 }
 
 /** Bytes of the filtered, inflated image data (one filter byte per row, Adam7 passes when interlaced). */
 function inflatedSize(h: PngHeader): number {
-  const bitsPerPixel = SAMPLES[h.colorType]! * h.bitDepth;
+  const bitsPerPixel = SAMPLES[h.colorType] * h.bitDepth;
   const rowBytes = (w: number) => Math.ceil((w * bitsPerPixel) / 8) + 1;
   if (!h.interlaced) return rowBytes(h.width) * h.height;
   // Adam7 passes: x start, y start, x step, y step
@@ -237,37 +237,37 @@ export function unfilterRows(src: Uint8Array, height: number, rowBytes: number, 
     const s = y * (rowBytes + 1) + 1;
     const d = y * rowBytes;
     const p = d - rowBytes;
-    const type = src[s - 1]!;
+    const type = src[s - 1];
     if (type === 0 || (type === 2 && y === 0)) {
       out.set(src.subarray(s, s + rowBytes), d);
     } else if (type === 1) {
-      for (let i = 0; i < bpp && i < rowBytes; i++) out[d + i] = src[s + i]!;
-      for (let i = bpp; i < rowBytes; i++) out[d + i] = src[s + i]! + out[d + i - bpp]!;
+      for (let i = 0; i < bpp && i < rowBytes; i++) out[d + i] = src[s + i];
+      for (let i = bpp; i < rowBytes; i++) out[d + i] = src[s + i] + out[d + i - bpp];
     } else if (type === 2) {
-      for (let i = 0; i < rowBytes; i++) out[d + i] = src[s + i]! + out[p + i]!;
+      for (let i = 0; i < rowBytes; i++) out[d + i] = src[s + i] + out[p + i];
     } else if (type === 3) {
       if (y === 0) {
-        for (let i = 0; i < bpp && i < rowBytes; i++) out[d + i] = src[s + i]!;
-        for (let i = bpp; i < rowBytes; i++) out[d + i] = src[s + i]! + (out[d + i - bpp]! >>> 1);
+        for (let i = 0; i < bpp && i < rowBytes; i++) out[d + i] = src[s + i];
+        for (let i = bpp; i < rowBytes; i++) out[d + i] = src[s + i] + (out[d + i - bpp] >>> 1);
       } else {
-        for (let i = 0; i < bpp && i < rowBytes; i++) out[d + i] = src[s + i]! + (out[p + i]! >>> 1);
-        for (let i = bpp; i < rowBytes; i++) out[d + i] = src[s + i]! + ((out[d + i - bpp]! + out[p + i]!) >>> 1);
+        for (let i = 0; i < bpp && i < rowBytes; i++) out[d + i] = src[s + i] + (out[p + i] >>> 1);
+        for (let i = bpp; i < rowBytes; i++) out[d + i] = src[s + i] + ((out[d + i - bpp] + out[p + i]) >>> 1);
       }
     } else if (type === 4) {
       if (y === 0) {
         // with no row above, Paeth picks the left byte (b = c = 0)
-        for (let i = 0; i < bpp && i < rowBytes; i++) out[d + i] = src[s + i]!;
-        for (let i = bpp; i < rowBytes; i++) out[d + i] = src[s + i]! + out[d + i - bpp]!;
+        for (let i = 0; i < bpp && i < rowBytes; i++) out[d + i] = src[s + i];
+        for (let i = bpp; i < rowBytes; i++) out[d + i] = src[s + i] + out[d + i - bpp];
       } else {
-        for (let i = 0; i < bpp && i < rowBytes; i++) out[d + i] = src[s + i]! + out[p + i]!;
+        for (let i = 0; i < bpp && i < rowBytes; i++) out[d + i] = src[s + i] + out[p + i];
         for (let i = bpp; i < rowBytes; i++) {
-          const a = out[d + i - bpp]!;
-          const b = out[p + i]!;
-          const c = out[p + i - bpp]!;
+          const a = out[d + i - bpp];
+          const b = out[p + i];
+          const c = out[p + i - bpp];
           const pa = Math.abs(b - c);
           const pb = Math.abs(a - c);
           const pc = Math.abs(a + b - 2 * c);
-          out[d + i] = src[s + i]! + (pa <= pb && pa <= pc ? a : pb <= pc ? b : c);
+          out[d + i] = src[s + i] + (pa <= pb && pa <= pc ? a : pb <= pc ? b : c);
         }
       }
     } else {
@@ -281,7 +281,7 @@ export function unfilterRows(src: Uint8Array, height: number, rowBytes: number, 
 function decodeRows(inflated: Uint8Array, h: PngHeader, plte: Buffer | undefined, trns: Buffer | undefined, name: string): RasterImage {
   const { width, height, bitDepth, colorType } = h;
   const n = width * height;
-  const samples = SAMPLES[colorType]!;
+  const samples = SAMPLES[colorType];
   const bitsPerPixel = samples * bitDepth;
   const rowBytes = Math.ceil((width * bitsPerPixel) / 8);
   const raw = unfilterRows(inflated, height, rowBytes, Math.max(1, bitsPerPixel >> 3), name);
@@ -291,7 +291,7 @@ function decodeRows(inflated: Uint8Array, h: PngHeader, plte: Buffer | undefined
   if (bitDepth === 16) {
     const m = n * channels;
     const out = new Uint16Array(m);
-    for (let i = 0, j = 0; i < m; i++, j += 2) out[i] = (raw[j]! << 8) | raw[j + 1]!;
+    for (let i = 0, j = 0; i < m; i++, j += 2) out[i] = (raw[j] << 8) | raw[j + 1];
     return { width, height, channels, bitDepth: 16, data: out };
   }
   // gray below 8 bits: samples packed from the high bit; widen by the exact factor
@@ -303,7 +303,7 @@ function decodeRows(inflated: Uint8Array, h: PngHeader, plte: Buffer | undefined
     const o = y * width;
     for (let x = 0; x < width; x++) {
       const bit = x * bitDepth;
-      out[o + x] = ((raw[r + (bit >>> 3)]! >>> (8 - bitDepth - (bit & 7))) & mask) * k;
+      out[o + x] = ((raw[r + (bit >>> 3)] >>> (8 - bitDepth - (bit & 7))) & mask) * k;
     }
   }
   return { width, height, channels: 1, bitDepth: 8, data: out };
@@ -321,16 +321,16 @@ function expandPalette(raw: Uint8Array, h: PngHeader, rowBytes: number, plte: Bu
     let o = y * width * channels;
     for (let x = 0; x < width; x++) {
       let idx: number;
-      if (bitDepth === 8) idx = raw[r + x]!;
+      if (bitDepth === 8) idx = raw[r + x];
       else {
         const bit = x * bitDepth;
-        idx = (raw[r + (bit >>> 3)]! >>> (8 - bitDepth - (bit & 7))) & mask;
+        idx = (raw[r + (bit >>> 3)] >>> (8 - bitDepth - (bit & 7))) & mask;
       }
       if (idx >= entries) throw new InputError(name, `PNG palette index ${idx} at (x ${x}, y ${y}) is beyond the ${entries}-entry palette`);
-      out[o] = plte[3 * idx]!;
-      out[o + 1] = plte[3 * idx + 1]!;
-      out[o + 2] = plte[3 * idx + 2]!;
-      if (channels === 4) out[o + 3] = idx < nAlpha ? trns![idx]! : 255;
+      out[o] = plte[3 * idx];
+      out[o + 1] = plte[3 * idx + 1];
+      out[o + 2] = plte[3 * idx + 2];
+      if (channels === 4) out[o + 3] = idx < nAlpha ? trns![idx] : 255;
       o += channels;
     }
   }
@@ -360,17 +360,17 @@ function decodeWithPngjs(walked: Walked, name: string): RasterImage {
   // sub-8-bit gray: widen exactly to 8 bits (palette indices were already expanded by pngjs)
   const k = colorType === 0 && bitDepth < 8 ? 255 / (2 ** bitDepth - 1) : 1;
   if (channels === 1) {
-    for (let i = 0, j = 0; i < n; i++, j += 4) out[i] = rgba[j]! * k;
+    for (let i = 0, j = 0; i < n; i++, j += 4) out[i] = rgba[j] * k;
   } else if (channels === 2) {
     for (let i = 0, j = 0; i < n * 2; i += 2, j += 4) {
-      out[i] = rgba[j]!;
-      out[i + 1] = rgba[j + 3]!;
+      out[i] = rgba[j];
+      out[i + 1] = rgba[j + 3];
     }
   } else if (channels === 3) {
     for (let i = 0, j = 0; i < n * 3; i += 3, j += 4) {
-      out[i] = rgba[j]!;
-      out[i + 1] = rgba[j + 1]!;
-      out[i + 2] = rgba[j + 2]!;
+      out[i] = rgba[j];
+      out[i + 1] = rgba[j + 1];
+      out[i + 2] = rgba[j + 2];
     }
   } else {
     out.set(rgba);
@@ -397,7 +397,7 @@ function sampleBytes(img: RasterImage): Uint8Array {
   if (img.bitDepth === 8) return new Uint8Array(data.buffer, data.byteOffset, data.length);
   const out = new Uint8Array(data.length * 2);
   for (let i = 0, j = 0; i < data.length; i++, j += 2) {
-    const v = data[i]!;
+    const v = data[i];
     out[j] = v >>> 8;
     out[j + 1] = v & 0xff;
   }
@@ -435,10 +435,10 @@ function filterRows(raw: Uint8Array, rowBytes: number, height: number, bpp: numb
     let s3 = 0;
     let s4 = 0;
     for (let i = 0; i < rowBytes; i++) {
-      const x = raw[cur + i]!;
-      const a = i >= bpp ? raw[cur + i - bpp]! : 0;
-      const b = up ? raw[prev + i]! : 0;
-      const c = up && i >= bpp ? raw[prev + i - bpp]! : 0;
+      const x = raw[cur + i];
+      const a = i >= bpp ? raw[cur + i - bpp] : 0;
+      const b = up ? raw[prev + i] : 0;
+      const c = up && i >= bpp ? raw[prev + i - bpp] : 0;
       s0 += sabs(x);
       s1 += sabs(x - a);
       s2 += sabs(x - b);
@@ -447,9 +447,18 @@ function filterRows(raw: Uint8Array, rowBytes: number, height: number, bpp: numb
     }
     let t = 0;
     let best = s0;
-    if (s1 < best) (t = 1), (best = s1);
-    if (s2 < best) (t = 2), (best = s2);
-    if (s3 < best) (t = 3), (best = s3);
+    if (s1 < best) {
+      t = 1;
+      best = s1;
+    }
+    if (s2 < best) {
+      t = 2;
+      best = s2;
+    }
+    if (s3 < best) {
+      t = 3;
+      best = s3;
+    }
     if (s4 < best) t = 4;
     out[dst - 1] = t;
     if (t === 0) {
@@ -457,14 +466,14 @@ function filterRows(raw: Uint8Array, rowBytes: number, height: number, bpp: numb
       continue;
     }
     for (let i = 0; i < rowBytes; i++) {
-      const x = raw[cur + i]!;
-      const a = i >= bpp ? raw[cur + i - bpp]! : 0;
-      const b = up ? raw[prev + i]! : 0;
+      const x = raw[cur + i];
+      const a = i >= bpp ? raw[cur + i - bpp] : 0;
+      const b = up ? raw[prev + i] : 0;
       let p: number;
       if (t === 1) p = a;
       else if (t === 2) p = b;
       else if (t === 3) p = (a + b) >>> 1;
-      else p = paeth(a, b, up && i >= bpp ? raw[prev + i - bpp]! : 0);
+      else p = paeth(a, b, up && i >= bpp ? raw[prev + i - bpp] : 0);
       out[dst + i] = x - p;
     }
   }
@@ -495,7 +504,7 @@ export function encodePng(img: RasterImage): Buffer {
   ihdr.writeUInt32BE(width, 0);
   ihdr.writeUInt32BE(height, 4);
   ihdr[8] = bitDepth;
-  ihdr[9] = COLOR_TYPE[channels]!;
+  ihdr[9] = COLOR_TYPE[channels];
   // compression 0, filter method 0, no interlace
   const filtered = filterRows(sampleBytes(img), rowBytes, height, bpp);
   return Buffer.concat([
@@ -548,7 +557,7 @@ export function decodePngDisparity(
   const src = img.data;
   const s = enc.scale;
   for (let i = 0; i < n; i++) {
-    const v = src[i]!;
+    const v = src[i];
     data[i] = v === inv ? NaN : v / s;
   }
   return { width: img.width, height: img.height, data };
@@ -592,7 +601,7 @@ export function encodePngDisparity(
   const out = bitDepth === 16 ? new Uint16Array(n) : new Uint8Array(n);
   const s = enc.scale;
   for (let i = 0; i < n; i++) {
-    const d = data[i]!;
+    const d = data[i];
     if (d - d !== 0) {
       out[i] = inv;
       continue;

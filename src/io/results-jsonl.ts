@@ -15,7 +15,7 @@ export function parseResultsJsonl(text: string, file: string): JobResult[] {
   const torn = lines.length > 0 && lines[lines.length - 1] !== '';
   const out: JobResult[] = [];
   for (let i = 0; i < lines.length; i++) {
-    const line = lines[i]!;
+    const line = lines[i];
     if (line.trim() === '') continue;
     try {
       out.push(JSON.parse(line) as JobResult);

@@ -132,7 +132,7 @@ export function parseRunRecord(text: string, file: string): RunRecord {
     throw new InputError(file, `has run record format ${JSON.stringify(format)}; this parallax reads format ${RUN_RECORD_FORMAT} (a newer version wrote it?)`);
   }
   const r = runRecordSchema.safeParse(json);
-  if (!r.success) throw new InputError(file, `is not a valid run record: ${issueText(r.error.issues[0]!)}`);
+  if (!r.success) throw new InputError(file, `is not a valid run record: ${issueText(r.error.issues[0])}`);
   return r.data;
 }
 

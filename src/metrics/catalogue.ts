@@ -288,15 +288,15 @@ export function metricValue(m: Metric, fig: RegionFigures, map: LevelMap, cost: 
 
 /** Fill `out` (length sumColumnCount(set)) with one pair's sums in column order. */
 export function readSums(s: RegionSums, map: LevelMap, out: Float64Array): void {
-  for (let c = 0; c < SCALAR_SUMS.length; c++) out[c] = s[SCALAR_SUMS[c]!];
-  for (let k = 0; k < map.rate.length; k++) out[SCALAR_SUMS.length + k] = s.bad[map.rate[k]!] ?? 0;
+  for (let c = 0; c < SCALAR_SUMS.length; c++) out[c] = s[SCALAR_SUMS[c]];
+  for (let k = 0; k < map.rate.length; k++) out[SCALAR_SUMS.length + k] = s.bad[map.rate[k]] ?? 0;
 }
 
 /** Apply a pooled recipe to summed columns; null when the denominator is 0. */
 export function pooledFrom(pool: NonNullable<Metric['pool']>, totals: ArrayLike<number>, offset = 0): number | null {
-  const den = totals[offset + pool.den]!;
+  const den = totals[offset + pool.den];
   if (!(den > 0)) return null;
-  const r = (pool.scale * totals[offset + pool.num]!) / den;
+  const r = (pool.scale * totals[offset + pool.num]) / den;
   return pool.sqrt ? Math.sqrt(r) : r;
 }
 

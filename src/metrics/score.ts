@@ -91,43 +91,20 @@ export function scorePair(
   if (valsBuf.length < total) valsBuf = new Float64Array(total);
   const vals = valsBuf;
 
-  const dCount = new Float64Array(256);
-  const dRel = new Float64Array(256);
-  const dSq = new Float64Array(256);
-  const dFail = new Float64Array(256);
+  const depth: DepthSums = { count: new Float64Array(256), rel: new Float64Array(256), sq: new Float64Array(256), fail: new Float64Array(256) };
 
   // Pass 2: signed errors of valid predictions into their pattern's partition.
   if (pred === null) {
     // failed job: nothing valid
   } else if (opts.camera) {
-    const cam = opts.camera;
-    const fb = cam.focalPx * cam.baselineM;
-    if (!(fb > 0) || !Number.isFinite(fb) || !Number.isFinite(cam.cxShiftPx)) {
-      throw new RangeError('scorePair: camera needs focalPx * baselineM > 0 and a finite cxShiftPx');
-    }
-    const eps = opts.depthEps ?? DEFAULT_DEPTH_EPS;
-    collectWithDepth(pred, truth, bits, vals, pos, fb, cam.cxShiftPx, eps, dCount, dRel, dSq, dFail);
+    collectWithDepth(pred, truth, bits, vals, pos, { ...depthConstants(opts.camera, opts.depthEps), ...depth });
   } else {
     collect(pred, truth, bits, vals, pos);
   }
 
   // Per region: the union of the partitions of the patterns that contain its bit.
-  // Segment = one pattern's partition; group g = REGION_IDS[g].
-  const segStart = new Int32Array(256);
-  const segEnd = new Int32Array(256);
-  const member = new Int32Array(256);
-  let nSegs = 0;
-  for (let b = 1; b < 256; b++) {
-    if (pos[b] === start[b]) continue;
-    let m = 0;
-    for (let g = 0; g < REGION_IDS.length; g++) if ((b & REGION_BIT[REGION_IDS[g]]) !== 0) m |= 1 << g;
-    if (m === 0) continue;
-    segStart[nSegs] = start[b];
-    segEnd[nSegs] = pos[b];
-    member[nSegs] = m;
-    nSegs++;
-  }
-  const stats = groupStats(vals, segStart, segEnd, member, nSegs, REGION_IDS.length, thresholds, levels);
+  const segs = regionSegments(start, pos);
+  const stats = groupStats(vals, segs.start, segs.end, segs.member, segs.n, REGION_IDS.length, thresholds, levels);
 
   const out = {} as PairScore;
   REGION_IDS.forEach((id, g) => {
@@ -140,10 +117,10 @@ export function scorePair(
     for (let b = 1; b < 256; b++) {
       if ((b & bit) === 0 || count[b] === 0) continue;
       pixels += count[b];
-      depthCount += dCount[b];
-      depthSumRel += dRel[b];
-      depthSumSq += dSq[b];
-      depthFail += dFail[b];
+      depthCount += depth.count[b];
+      depthSumRel += depth.rel[b];
+      depthSumSq += depth.sq[b];
+      depthFail += depth.fail[b];
     }
     const st = stats[g];
     const invalid = pixels - st.count;
@@ -162,6 +139,45 @@ export function scorePair(
     out[id] = { sums: s, figures: figuresFromSums(s, opts, st.quantiles) };
   });
   return out;
+}
+
+/** Per-pattern depth sums: pixels in the depth means, sum of relative errors, sum of squared errors, failures. */
+interface DepthSums {
+  count: Float64Array;
+  rel: Float64Array;
+  sq: Float64Array;
+  fail: Float64Array;
+}
+
+/** fB, the disparity shift and the truth cut-off of the depth figures; a RangeError for a camera without a positive fB. */
+function depthConstants(cam: NonNullable<ScoreOptions['camera']>, depthEps: number | undefined): { fb: number; shift: number; eps: number } {
+  const fb = cam.focalPx * cam.baselineM;
+  if (!(fb > 0) || !Number.isFinite(fb) || !Number.isFinite(cam.cxShiftPx)) {
+    throw new RangeError('scorePair: camera needs focalPx * baselineM > 0 and a finite cxShiftPx');
+  }
+  return { fb, shift: cam.cxShiftPx, eps: depthEps ?? DEFAULT_DEPTH_EPS };
+}
+
+/**
+ * The non-empty partitions as segments, each with the regions it belongs to as bits
+ * (bit g = REGION_IDS[g]): segment = one pattern's partition [start, pos).
+ */
+function regionSegments(start: Int32Array, pos: Int32Array): { start: Int32Array; end: Int32Array; member: Int32Array; n: number } {
+  const segStart = new Int32Array(256);
+  const segEnd = new Int32Array(256);
+  const member = new Int32Array(256);
+  let n = 0;
+  for (let b = 1; b < 256; b++) {
+    if (pos[b] === start[b]) continue;
+    let m = 0;
+    for (let g = 0; g < REGION_IDS.length; g++) if ((b & REGION_BIT[REGION_IDS[g]]) !== 0) m |= 1 << g;
+    if (m === 0) continue;
+    segStart[n] = start[b];
+    segEnd[n] = pos[b];
+    member[n] = m;
+    n++;
+  }
+  return { start: segStart, end: segEnd, member, n };
 }
 
 /**
@@ -281,14 +297,14 @@ function collectWithDepth(
   bits: Uint8Array,
   vals: Float64Array,
   pos: Int32Array,
-  fb: number,
-  shift: number,
-  eps: number,
-  dCount: Float64Array,
-  dRel: Float64Array,
-  dSq: Float64Array,
-  dFail: Float64Array,
+  d: DepthSums & { fb: number; shift: number; eps: number },
 ): void {
+  // Locals for the loop (the object is read once, not per pixel).
+  const { fb, shift, eps } = d;
+  const dCount = d.count;
+  const dRel = d.rel;
+  const dSq = d.sq;
+  const dFail = d.fail;
   const n = bits.length;
   let cur = 0;
   let w = pos[0];

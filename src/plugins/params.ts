@@ -84,6 +84,7 @@ export function parseMatcherSpec(spec: string, option = '--matcher'): RawSpec {
   if (typeof spec !== 'string') throw new UsageError(option, 'a matcher spec must be a string');
   const { id, rest } = splitIdAndRest(spec);
   if (id === '') throw new UsageError(option, `${quote(spec)}: missing matcher id before ':'`);
+  // eslint-disable-next-line no-control-regex -- control characters are what this refuses
   if (/[\x00-\x1f\x7f]/.test(id)) throw new UsageError(option, `${quote(spec)}: control characters in the matcher id`);
   const assignments: { key: string; values: string[] }[] = [];
   if (rest === undefined || rest.trim() === '') return { id, assignments };

@@ -4,7 +4,7 @@
  * (one per point of a parameter sweep).
  */
 import { createHash } from 'node:crypto';
-import { existsSync, readdirSync, readFileSync, statSync } from 'node:fs';
+import { readdirSync, readFileSync, statSync } from 'node:fs';
 import { dirname, join, resolve } from 'node:path';
 import { fileURLToPath } from 'node:url';
 import { z } from 'zod';
@@ -34,7 +34,7 @@ export interface MatcherConfig {
   params: Record<string, ParamValue>;
   /** sha256 identifying the code (see codeHash notes in registry.ts). */
   codeHash: string;
-  /** Added: how to rebuild `plugin` elsewhere (worker threads), see pluginFromSource. */
+  /** How to rebuild `plugin` elsewhere (worker threads), see pluginFromSource. */
   source: MatcherSource;
 }
 

@@ -97,7 +97,7 @@ export function colorTable(name: ColorMapName): Uint8Array {
 export function colorHex(name: ColorMapName, t: number): string {
   const i = Math.round(Math.min(1, Math.max(0, t)) * 255) * 3;
   const tb = TABLES[name];
-  return `#${[tb[i]!, tb[i + 1]!, tb[i + 2]!].map((v) => v.toString(16).padStart(2, '0')).join('')}`;
+  return `#${[tb[i], tb[i + 1], tb[i + 2]].map((v) => v.toString(16).padStart(2, '0')).join('')}`;
 }
 
 /** Okabe & Ito (2008) colour-blind safe categorical colours, for configurations in charts. */

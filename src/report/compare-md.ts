@@ -100,8 +100,8 @@ export function compareMarkdown(c: Comparison, gates: readonly GateOutcome[], me
   const notes: string[] = [];
   if (c.configsOnlyInBase.length) notes.push(`only in the baseline: ${c.configsOnlyInBase.map(mdCell).join(', ')}`);
   if (c.configsOnlyInCand.length) notes.push(`only in the candidate: ${c.configsOnlyInCand.map(mdCell).join(', ')}`);
-  if (c.pairsOnlyInBase.length) notes.push(`${c.pairsOnlyInBase.length} pair result(s) only in the baseline (e.g. ${mdCell(c.pairsOnlyInBase[0]!)})`);
-  if (c.pairsOnlyInCand.length) notes.push(`${c.pairsOnlyInCand.length} pair result(s) only in the candidate (e.g. ${mdCell(c.pairsOnlyInCand[0]!)})`);
+  if (c.pairsOnlyInBase.length) notes.push(`${c.pairsOnlyInBase.length} pair result(s) only in the baseline (e.g. ${mdCell(c.pairsOnlyInBase[0])})`);
+  if (c.pairsOnlyInCand.length) notes.push(`${c.pairsOnlyInCand.length} pair result(s) only in the candidate (e.g. ${mdCell(c.pairsOnlyInCand[0])})`);
   if (notes.length) {
     L.push('Not compared:', '');
     for (const n of notes) L.push(`- ${n}`);
@@ -133,8 +133,8 @@ export function compareMarkdown(c: Comparison, gates: readonly GateOutcome[], me
 export function compareConsole(c: Comparison, gates: readonly GateOutcome[], all: boolean): string {
   const L: string[] = [];
   const pad = (rows: string[][]): string[] => {
-    const w = rows[0]!.map((_, i) => Math.max(...rows.map((r) => r[i]!.length)));
-    return rows.map((r) => r.map((s, i) => (i < 2 ? s.padEnd(w[i]!) : s.padStart(w[i]!))).join('  ').trimEnd());
+    const w = rows[0].map((_, i) => Math.max(...rows.map((r) => r[i].length)));
+    return rows.map((r) => r.map((s, i) => (i < 2 ? s.padEnd(w[i]) : s.padStart(w[i]))).join('  ').trimEnd());
   };
   for (const x of c.configsOnlyInBase) L.push(`only in baseline:  ${x}`);
   for (const x of c.configsOnlyInCand) L.push(`only in candidate: ${x}`);

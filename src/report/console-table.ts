@@ -8,7 +8,7 @@ import { thresholdName } from '../metrics/types.js';
 
 /** The rate shown in the table: 2 px when measured, else the middle threshold. */
 export function keyThreshold(thresholds: readonly number[]): number {
-  return thresholds.includes(2) ? 2 : thresholds[Math.floor((thresholds.length - 1) / 2)]!;
+  return thresholds.includes(2) ? 2 : thresholds[Math.floor((thresholds.length - 1) / 2)];
 }
 
 function fmt(v: number | null | undefined, digits: number): string {
@@ -17,10 +17,10 @@ function fmt(v: number | null | undefined, digits: number): string {
 
 /** Align columns: text left, numbers right. */
 export function alignColumns(header: string[], rows: string[][], rightAligned: boolean[]): string {
-  const widths = header.map((h, i) => Math.max(h.length, ...rows.map((r) => r[i]!.length)));
+  const widths = header.map((h, i) => Math.max(h.length, ...rows.map((r) => r[i].length)));
   const line = (cells: string[]): string =>
     cells
-      .map((c, i) => (rightAligned[i] ? c.padStart(widths[i]!) : c.padEnd(widths[i]!)))
+      .map((c, i) => (rightAligned[i] ? c.padStart(widths[i]) : c.padEnd(widths[i])))
       .join('  ')
       .trimEnd();
   return [line(header), line(widths.map((w) => '-'.repeat(w))), ...rows.map(line)].join('\n') + '\n';

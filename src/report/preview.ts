@@ -44,7 +44,7 @@ export function downscaleNanMean(img: FloatImage, factor: number): FloatImage {
     const orow = Math.floor(y / factor) * w;
     const irow = y * width;
     for (let x = 0; x < width; x++) {
-      const v = data[irow + x]!;
+      const v = data[irow + x];
       if (v - v !== 0) continue; // NaN or infinity
       const o = orow + Math.floor(x / factor);
       sum[o] += v;
@@ -52,7 +52,7 @@ export function downscaleNanMean(img: FloatImage, factor: number): FloatImage {
     }
   }
   const out = new Float32Array(w * h);
-  for (let i = 0; i < out.length; i++) out[i] = cnt[i]! > 0 ? sum[i]! / cnt[i]! : NaN;
+  for (let i = 0; i < out.length; i++) out[i] = cnt[i] > 0 ? sum[i] / cnt[i] : NaN;
   return { width: w, height: h, data: out };
 }
 

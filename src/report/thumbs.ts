@@ -55,21 +55,21 @@ export function downscaleRaster(img: RasterImage, f: number): RasterImage {
     for (let y = y0; y < y1; y++) {
       let i = y * width * channels;
       if (outC === 1) {
-        for (let x = 0; x < width; x++, i += channels) sum[col[x]!] += data[i]!;
+        for (let x = 0; x < width; x++, i += channels) sum[col[x]] += data[i];
       } else {
         for (let x = 0; x < width; x++, i += channels) {
-          const o = col[x]!;
-          sum[o] += data[i]!;
-          sum[o + 1] += data[i + 1]!;
-          sum[o + 2] += data[i + 2]!;
+          const o = col[x];
+          sum[o] += data[i];
+          sum[o + 1] += data[i + 1];
+          sum[o + 2] += data[i + 2];
         }
       }
     }
     const rows = y1 - y0;
     const base = oy * w * outC;
     for (let ox = 0; ox < w; ox++) {
-      const n = rows * bw[ox]!;
-      for (let c = 0; c < outC; c++) out[base + ox * outC + c] = Math.round((sum[ox * outC + c]! / n) * k);
+      const n = rows * bw[ox];
+      for (let c = 0; c < outC; c++) out[base + ox * outC + c] = Math.round((sum[ox * outC + c] / n) * k);
     }
   }
   return { width: w, height: h, channels: outC as 1 | 3, bitDepth: 8, data: out };
@@ -89,7 +89,7 @@ export function toThumbGrid(src: FloatImage, srcFactor: number, width: number, h
     for (let tx = 0; tx < w; tx++) {
       const cx = Math.min(width - 1, tx * f + (f >> 1));
       const sx = Math.min(src.width - 1, Math.floor(cx / srcFactor));
-      out[ty * w + tx] = src.data[sy * src.width + sx]!;
+      out[ty * w + tx] = src.data[sy * src.width + sx];
     }
   }
   return { width: w, height: h, data: out };
@@ -116,14 +116,14 @@ export function blockMeanThumb(img: FloatImage, pf: number, f: number): FloatIma
     const y0 = Math.min(ph - 1, Math.floor(Math.min(height - 1, ty * f + (f >> 1)) / pf)) * pf;
     const y1 = Math.min(height, y0 + pf);
     for (let tx = 0; tx < w; tx++) {
-      const x0 = x0s[tx]!;
+      const x0 = x0s[tx];
       const x1 = Math.min(width, x0 + pf);
       let sum = 0;
       let cnt = 0;
       for (let y = y0; y < y1; y++) {
         const row = y * width;
         for (let x = x0; x < x1; x++) {
-          const v = data[row + x]!;
+          const v = data[row + x];
           if (v - v !== 0) continue;
           sum += v;
           cnt++;
@@ -142,7 +142,7 @@ export function regionsToThumb(bits: Uint8Array, width: number, height: number, 
   const out = new Uint8Array(w * h);
   for (let ty = 0; ty < h; ty++) {
     const cy = Math.min(height - 1, ty * f + (f >> 1));
-    for (let tx = 0; tx < w; tx++) out[ty * w + tx] = bits[cy * width + Math.min(width - 1, tx * f + (f >> 1))]!;
+    for (let tx = 0; tx < w; tx++) out[ty * w + tx] = bits[cy * width + Math.min(width - 1, tx * f + (f >> 1))];
   }
   return out;
 }
@@ -152,7 +152,7 @@ export function finiteRange(d: Float32Array): [number, number] {
   let lo = Infinity;
   let hi = -Infinity;
   for (let i = 0; i < d.length; i++) {
-    const v = d[i]!;
+    const v = d[i];
     if (v < lo) lo = v;
     if (v > hi) hi = v;
   }
@@ -171,9 +171,9 @@ function mapPalette(name: ColorMapName): Uint8Array {
   const pal = new Uint8Array((MAP_LEVELS + 3) * 3);
   for (let i = 0; i < MAP_LEVELS; i++) {
     const l = Math.round((i / (MAP_LEVELS - 1)) * 255) * 3;
-    pal[i * 3] = lut[l]!;
-    pal[i * 3 + 1] = lut[l + 1]!;
-    pal[i * 3 + 2] = lut[l + 2]!;
+    pal[i * 3] = lut[l];
+    pal[i * 3 + 1] = lut[l + 1];
+    pal[i * 3 + 2] = lut[l + 2];
   }
   pal.set(HATCH_DARK, IDX_HATCH_DARK * 3);
   pal.set(HATCH_LIGHT, IDX_HATCH_LIGHT * 3);
@@ -202,7 +202,7 @@ export function colorizeDisparity(d: FloatImage, lo: number, hi: number, map: Di
   for (let y = 0; y < height; y++) {
     const row = y * width;
     for (let x = 0; x < width; x++) {
-      const v = data[row + x]!;
+      const v = data[row + x];
       if (v - v !== 0) {
         index[row + x] = flat ? IDX_NO_TRUTH : ((x + y) & 3) < 2 ? IDX_HATCH_DARK : IDX_HATCH_LIGHT;
         continue;
@@ -229,8 +229,8 @@ export function colorizeError(pred: FloatImage, truth: FloatImage, clip = ERROR_
     const row = y * width;
     for (let x = 0; x < width; x++) {
       const i = row + x;
-      const t = td[i]!;
-      const p = pd[i]!;
+      const t = td[i];
+      const p = pd[i];
       if (t - t !== 0) index[i] = IDX_NO_TRUTH;
       else if (p - p !== 0) index[i] = ((x + y) & 3) < 2 ? IDX_HATCH_DARK : IDX_HATCH_LIGHT;
       else {
@@ -255,7 +255,7 @@ const REGION_PALETTE = Uint8Array.from([
 export function colorizeRegions(bits: Uint8Array, width: number, height: number): IndexedImage {
   const index = new Uint8Array(width * height);
   for (let i = 0; i < width * height; i++) {
-    const b = bits[i]!;
+    const b = bits[i];
     index[i] =
       (b & REGION_BIT.known) === 0 ? 0 : b & REGION_BIT.jump ? 4 : b & REGION_BIT.flat ? 3 : b & REGION_BIT.occluded ? 2 : 1;
   }

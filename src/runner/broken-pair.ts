@@ -54,7 +54,7 @@ export function truthOnlyScores(
   if (!leftGray) {
     const clear = ~REGION_BIT.flat & 0xff;
     const bits = regions.bits;
-    for (let i = 0; i < n; i++) bits[i] = bits[i]! & clear;
+    for (let i = 0; i < n; i++) bits[i] = bits[i] & clear;
   }
   return scorePair(null, truth.data, regions, { thresholds: set.thresholds, quantiles: set.quantiles, ...(camera ? { camera } : {}) });
 }

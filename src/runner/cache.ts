@@ -70,7 +70,7 @@ export function fileSha256(path: string): Promise<string> {
 /** The cache key of a job (hex sha256). */
 export function cacheKey(p: CacheKeyParts): string {
   const params: Record<string, ParamValue> = {};
-  for (const k of Object.keys(p.params).sort()) params[k] = p.params[k]!;
+  for (const k of Object.keys(p.params).sort()) params[k] = p.params[k];
   const canonical = JSON.stringify({
     format: CACHE_FORMAT,
     left: p.leftHash,
@@ -96,7 +96,7 @@ export function encodeEntry(e: CacheEntry): Buffer {
   out.writeUInt32LE(header.length, 4);
   header.copy(out, 8);
   if (LITTLE_ENDIAN) out.set(new Uint8Array(e.data.buffer, e.data.byteOffset, e.data.length * 4), dataOffset);
-  else for (let i = 0; i < e.data.length; i++) out.writeFloatLE(e.data[i]!, dataOffset + i * 4);
+  else for (let i = 0; i < e.data.length; i++) out.writeFloatLE(e.data[i], dataOffset + i * 4);
   return out;
 }
 

@@ -5,7 +5,7 @@
  *   { "datasets": ["../datasets/demo"],
  *     "matchers": ["block", "sgm:p2=[64,96]", { "id": "census", "params": { "window": [5, 7] } },
  *                  { "program": { ... } }],
- *     "predictions": [{ "dir": "preds", "label": "net-v2", "scale": 256 }],
+ *     "predictions": [{ "dir": "preds", "label": "net-v2", "scale": 100, "invalid": 0 }],
  *     "thresholds": [0.5, 1, 2], "quantiles": [50, 90], "regions": { "flatThreshold": 6 },
  *     "name": "dock-tuning", "out": "../reports/dock-tuning" }
  */
@@ -85,7 +85,7 @@ export function normaliseQuantiles(values: readonly number[], option: string): n
 function numberList(text: string, option: string, example: string): number[] {
   const parts = text.split(',').map((s) => s.trim());
   const vals = parts.map((s) => (s === '' ? NaN : Number(s)));
-  const bad = parts.find((s, i) => !Number.isFinite(vals[i]!));
+  const bad = parts.find((s, i) => !Number.isFinite(vals[i]));
   if (bad !== undefined) throw new UsageError(option, `"${bad}" is not a number (expected a comma list such as ${example})`);
   return vals;
 }
@@ -104,7 +104,7 @@ export function parseQuantiles(text: string): number[] {
 export function regionParams(partial: Partial<RegionParams> | undefined, option = 'regions'): RegionParams {
   const r = regionParamsSchema.safeParse(partial ?? {});
   if (!r.success) {
-    const i = r.error.issues[0]!;
+    const i = r.error.issues[0];
     throw new UsageError(`${option}.${formatFieldPath(i.path)}`, issueMessage(i as ZodIssueLike));
   }
   const out: RegionParams = { ...DEFAULT_REGION_PARAMS };
@@ -130,7 +130,7 @@ export function loadExperimentFile(path: string): RunSettings {
   }
   const r = experimentFileSchema.safeParse(json);
   if (!r.success) {
-    const i = r.error.issues[0]!;
+    const i = r.error.issues[0];
     throw new InputError(path, issueText(i as ZodIssueLike));
   }
   const f = r.data;

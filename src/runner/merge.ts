@@ -52,10 +52,10 @@ export async function mergeRuns(dirsIn: readonly string[], outIn: string): Promi
   const out = resolve(outIn);
   if (dirs.includes(out)) throw new UsageError('--out', `${out} is one of the runs being merged; choose another folder`);
   const infos = dirs.map((d) => readRunRecord(d));
-  const base = infos[0]!;
+  const base = infos[0];
   let shardCount: number | undefined;
   infos.forEach((info, i) => {
-    const file = join(dirs[i]!, RUN_RECORD_FILE);
+    const file = join(dirs[i], RUN_RECORD_FILE);
     const diff = configDifference(base.config, info.config);
     if (diff) throw new InputError(file, `cannot be merged with ${dirs[0]}: ${diff}`);
     const s = info.rerun?.shard;

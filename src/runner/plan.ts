@@ -60,7 +60,7 @@ export interface RunPlan {
   readonly jobs: readonly JobKey[];
   /** The settings the plan was made from (kept in run.json for --resume). */
   readonly settings?: RunSettings;
-  /** Added: worker pool, resume, cache and shard options (see scale.ts); absent = sequential, no cache. */
+  /** Worker pool, resume, cache and shard options (see scale.ts); absent = sequential, no cache. */
   readonly scale?: ScaleOptions;
 }
 
@@ -119,7 +119,7 @@ export async function planRun(settings: RunSettings, cwd = process.cwd()): Promi
     datasets.push({ path, manifest, hash: await datasetHash(manifest, { markUnreadable: true }) });
   }
   const configs = await resolveConfigs(settings);
-  const name = safeRunName(settings.name ?? [datasets[0]!.manifest.name, ...configs.map((c) => c.label)].join('-'));
+  const name = safeRunName(settings.name ?? [datasets[0].manifest.name, ...configs.map((c) => c.label)].join('-'));
   const runDir = settings.out ?? resolve(cwd, 'reports', name);
   const jobs = enumerateJobs(
     datasets.map((d) => ({ name: d.manifest.name, pairIds: sortedPairs(d.manifest).map((p) => p.id) })),

@@ -8,11 +8,8 @@
 import { mkdirSync } from 'node:fs';
 import { join } from 'node:path';
 import { AbortedError, InputError } from '../core/errors.js';
-import type { LoadedPair } from '../core/pair.js';
-import type { RegionMap } from '../core/regions.js';
 import type { JobResult } from '../core/score.js';
-import { buildRegions } from '../dataset/regions.js';
-import { jobKeyString } from './jobs.js';
+import { jobKeyString, type JobKey } from './jobs.js';
 import { appendResult, JOURNAL_FILE, readJournal, recoverJournal, startJournal } from './journal.js';
 import { pruneCache } from './cache.js';
 import { watchInterrupts } from './interrupt.js';
@@ -47,10 +44,54 @@ export interface RunOutcome {
   brokenPairs: BrokenPair[];
 }
 
-/** Regions of a loaded pair: the manifest's occlusion mask, or one derived from the truth. */
-export function pairRegions(pair: LoadedPair, plan: Pick<RunPlan, 'regions'>): RegionMap {
-  // buildRegions derives the occlusion from the truth when the mask is undefined.
-  return buildRegions(pair.truth.data, pair.leftGray, pair.occlusion, pair.width, pair.height, plan.regions);
+export { pairRegions } from '../dataset/regions.js';
+
+const resultKey = (r: JobResult): string => jobKeyString({ dataset: r.dataset, pair: r.pair, label: r.matcher });
+
+/**
+ * The run record at the start, and the jobs left to run: this shard's jobs less those a
+ * resumed journal already holds (counted in the record as done).
+ */
+function startRecord(plan: RunPlan, journal: string): { info: RunRecord; todo: JobKey[] } {
+  const info = runRecord(plan, new Date());
+  const scale = plan.scale;
+  const prior = scale?.resume ? recoverJournal(journal) : [];
+  const mine = scale?.shard ? shardJobs(plan.jobs, scale.shard) : plan.jobs;
+  const mineKeys = new Set(mine.map(jobKeyString));
+  const finished = latestJobs(prior).filter((r) => mineKeys.has(resultKey(r)));
+  const doneKeys = new Set(finished.map(resultKey));
+  info.jobs.total = mine.length;
+  for (const r of finished) {
+    if (r.status === 'ok') info.jobs.ok++;
+    else info.jobs.failed++;
+  }
+  if (plan.settings) info.rerun = { settings: plan.settings, shard: scale?.shard ? shardText(scale.shard) : null };
+  if (scale) info.cache = scale.cache ? { dir: scale.cache.dir, jobs_from_cache: 0, jobs_computed: 0 } : null;
+  return { info, todo: mine.filter((k) => !doneKeys.has(jobKeyString(k))) };
+}
+
+/** The record's end: status, broken pairs, time, cache counts. */
+function endRecord(info: RunRecord, aborted: boolean, brokenPairs: BrokenPair[], stats: ScheduleStats): void {
+  info.status = aborted ? 'aborted' : 'complete';
+  if (brokenPairs.length) info.broken_pairs = brokenPairs;
+  info.ended = new Date().toISOString();
+  if (info.cache) {
+    info.cache.jobs_from_cache = stats.cached;
+    info.cache.jobs_computed = stats.computed;
+    if (stats.cacheWriteErrors) info.cache.write_errors = stats.cacheWriteErrors;
+  }
+}
+
+async function disposeMatchers(plan: RunPlan): Promise<void> {
+  for (const c of plan.configs) {
+    if (c.kind === 'matcher' && c.plugin.dispose) {
+      try {
+        await c.plugin.dispose();
+      } catch {
+        /* a failing dispose must not hide the run's outcome */
+      }
+    }
+  }
 }
 
 /**
@@ -67,19 +108,9 @@ export async function executeRun(plan: RunPlan, hooks: RunHooks = {}): Promise<R
   const watch = plan.scale ? watchInterrupts(hooks.signal) : undefined;
   const signal = watch?.signal ?? hooks.signal ?? new AbortController().signal;
   const journal = join(plan.runDir, JOURNAL_FILE);
-  const info = runRecord(plan, new Date());
   const scale = plan.scale;
-  const prior = scale?.resume ? recoverJournal(journal) : [];
-  const mine = scale?.shard ? shardJobs(plan.jobs, scale.shard) : plan.jobs;
-  const mineKeys = new Set(mine.map(jobKeyString));
-  const finished = latestJobs(prior).filter((r) => mineKeys.has(jobKeyString({ dataset: r.dataset, pair: r.pair, label: r.matcher })));
-  const doneKeys = new Set(finished.map((r) => jobKeyString({ dataset: r.dataset, pair: r.pair, label: r.matcher })));
-  const todo = mine.filter((k) => !doneKeys.has(jobKeyString(k)));
-  info.jobs.total = mine.length;
-  for (const r of finished) r.status === 'ok' ? info.jobs.ok++ : info.jobs.failed++;
-  if (plan.settings) info.rerun = { settings: plan.settings, shard: scale?.shard ? shardText(scale.shard) : null };
+  const { info, todo } = startRecord(plan, journal);
   const stats: ScheduleStats = { cached: 0, computed: 0 };
-  if (scale) info.cache = scale.cache ? { dir: scale.cache.dir, jobs_from_cache: 0, jobs_computed: 0 } : null;
   await writeRunRecord(plan.runDir, info);
   if (!scale?.resume) startJournal(journal);
 
@@ -119,31 +150,16 @@ export async function executeRun(plan: RunPlan, hooks: RunHooks = {}): Promise<R
     }
     aborted = true;
   } finally {
-    for (const c of plan.configs) {
-      if (c.kind === 'matcher' && c.plugin.dispose) {
-        try {
-          await c.plugin.dispose();
-        } catch {
-          /* a failing dispose must not hide the run's outcome */
-        }
-      }
-    }
+    await disposeMatchers(plan);
   }
   const terminated = watch?.received() === 'SIGTERM';
   watch?.dispose();
-  info.status = aborted ? 'aborted' : 'complete';
-  if (brokenPairs.length) info.broken_pairs = brokenPairs;
-  info.ended = new Date().toISOString();
-  if (info.cache) {
-    info.cache.jobs_from_cache = stats.cached;
-    info.cache.jobs_computed = stats.computed;
-    if (stats.cacheWriteErrors) info.cache.write_errors = stats.cacheWriteErrors;
-    if (scale?.cache?.maxMb !== undefined) {
-      try {
-        pruneCache(scale.cache.dir, scale.cache.maxMb * 2 ** 20);
-      } catch {
-        /* an unreadable cache folder must not fail a finished run */
-      }
+  endRecord(info, aborted, brokenPairs, stats);
+  if (info.cache && scale?.cache?.maxMb !== undefined) {
+    try {
+      pruneCache(scale.cache.dir, scale.cache.maxMb * 2 ** 20);
+    } catch {
+      /* an unreadable cache folder must not fail a finished run */
     }
   }
   await writeRunRecord(plan.runDir, info);

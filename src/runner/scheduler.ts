@@ -21,7 +21,7 @@ import type { LoadedPair, PairEntry } from '../core/pair.js';
 import type { RegionMap } from '../core/regions.js';
 import type { JobResult } from '../core/score.js';
 import { loadPair } from '../dataset/load.js';
-import { buildRegions } from '../dataset/regions.js';
+import { pairRegions } from '../dataset/regions.js';
 import type { Manifest } from '../dataset/manifest.js';
 import { pairPreviewPaths, writePairPreview } from '../report/preview.js';
 import { brokenPairResult, brokenPairScores } from './broken-pair.js';
@@ -58,41 +58,72 @@ function isAbort(e: unknown): boolean {
   return e instanceof AbortedError || (e instanceof Error && (e.name === 'AbortError' || (e as { code?: string }).code === 'ABORT_ERR'));
 }
 
-export async function runScheduled(ctx: ScheduleContext): Promise<ScheduleStats> {
-  const { plan } = ctx;
-  const scale = plan.scale ?? {};
-  const jobsN = Math.max(1, Math.floor(scale.jobs ?? 1));
-  const budget = Math.max(1, Math.floor(scale.threads ?? jobsN));
-  const threads = threadsPerJob(budget, jobsN);
-  const cache = scale.cache ? new ResultCache(scale.cache.dir) : undefined;
-  const manifests = new Map<string, Manifest>(plan.datasets.map((d) => [d.manifest.name, d.manifest]));
-  const configs = new Map<string, RunConfig>(plan.configs.map((c) => [c.label, c]));
-  const stats: ScheduleStats = ctx.stats ?? { cached: 0, computed: 0 };
-  const groups = groupByPair(ctx.jobs);
-  const needsPool = jobsN > 1 && groups.length > 0 && plan.configs.some((c) => c.kind === 'matcher' && c.source && c.source.kind !== 'program');
-  const pool = needsPool ? new MatchPool(Math.min(jobsN, ctx.jobs.length)) : undefined;
-  /** Shared-memory slots of pairs whose tasks are all done, for reuse (at most jobs + 1 exist). */
-  const freeSlots: SharedPair[] = [];
-  // One failure (a broken pair, an abort) stops the rest: a private controller.
-  const stop = new AbortController();
-  // piscina listens on the signal once per queued task: many at once is expected here.
-  setMaxListeners(0, stop.signal);
-  const onOuter = (): void => stop.abort();
-  if (ctx.signal.aborted) stop.abort();
-  ctx.signal.addEventListener('abort', onOuter, { once: true });
-  const signal = stop.signal;
-  // Program matchers run in the main thread, one job at a time per configuration.
-  const chains = new Map<string, Promise<unknown>>();
-  const serial = <T>(label: string, f: () => Promise<T>): Promise<T> => {
-    const prev = chains.get(label) ?? Promise.resolve();
-    const next = prev.then(f, f);
-    chains.set(label, next.catch(() => undefined));
-    return next;
-  };
+type PoolGot = Omit<Parameters<typeof scoredOutcome>[4], 'cached'>;
 
-  async function viaPool(cfg: RunConfig & { kind: 'matcher' }, pair: LoadedPair, shared: SharedPair): Promise<Omit<Parameters<typeof scoredOutcome>[4], 'cached'>> {
+/** The state of one scheduled run; each method is one step of it. */
+class Scheduler {
+  private readonly plan: RunPlan;
+  private readonly jobsN: number;
+  private readonly threads: number;
+  private readonly cache: ResultCache | undefined;
+  private readonly manifests: Map<string, Manifest>;
+  private readonly configs: Map<string, RunConfig>;
+  readonly stats: ScheduleStats;
+  private readonly pool: MatchPool | undefined;
+  /** Shared-memory slots of pairs whose tasks are all done, for reuse (at most jobs + 1 exist). */
+  private readonly freeSlots: SharedPair[] = [];
+  /** One failure (a broken pair, an abort) stops the rest: a private controller. */
+  readonly stop = new AbortController();
+  /** Program matchers run in the main thread, one job at a time per configuration. */
+  private readonly chains = new Map<string, Promise<unknown>>();
+
+  constructor(private readonly ctx: ScheduleContext) {
+    const plan = (this.plan = ctx.plan);
+    const scale = plan.scale ?? {};
+    this.jobsN = Math.max(1, Math.floor(scale.jobs ?? 1));
+    const budget = Math.max(1, Math.floor(scale.threads ?? this.jobsN));
+    this.threads = threadsPerJob(budget, this.jobsN);
+    this.cache = scale.cache ? new ResultCache(scale.cache.dir) : undefined;
+    this.manifests = new Map(plan.datasets.map((d) => [d.manifest.name, d.manifest]));
+    this.configs = new Map(plan.configs.map((c) => [c.label, c]));
+    this.stats = ctx.stats ?? { cached: 0, computed: 0 };
+    const needsPool = this.jobsN > 1 && ctx.jobs.length > 0 && plan.configs.some((c) => this.onPool(c));
+    this.pool = needsPool ? new MatchPool(Math.min(this.jobsN, ctx.jobs.length)) : undefined;
+    // piscina listens on the signal once per queued task: many at once is expected here.
+    setMaxListeners(0, this.stop.signal);
+  }
+
+  get signal(): AbortSignal {
+    return this.stop.signal;
+  }
+
+  /** Pairs loaded at a time: the pairs being matched plus the next one being decoded. */
+  get maxPairs(): number {
+    return this.pool ? this.jobsN + 1 : 1;
+  }
+
+  private onPool(c: RunConfig): c is RunConfig & { kind: 'matcher' } {
+    return c.kind === 'matcher' && c.source !== undefined && c.source.kind !== 'program';
+  }
+
+  private checkAbort(): void {
+    if (this.signal.aborted) throw new AbortedError();
+  }
+
+  private serial<T>(label: string, f: () => Promise<T>): Promise<T> {
+    const prev = this.chains.get(label) ?? Promise.resolve();
+    const next = prev.then(f, f);
+    this.chains.set(label, next.catch(() => undefined));
+    return next;
+  }
+
+  async close(): Promise<void> {
+    if (this.pool) await this.pool.close();
+  }
+
+  private async viaPool(cfg: RunConfig & { kind: 'matcher' }, pair: LoadedPair, shared: SharedPair): Promise<PoolGot> {
     try {
-      const reply = await pool!.run(
+      const reply = await this.pool!.run(
         {
           source: cfg.source!,
           params: cfg.params,
@@ -105,119 +136,148 @@ export async function runScheduled(ctx: ScheduleContext): Promise<ScheduleStats>
           minDisparity: pair.disparityRange[0],
           maxDisparity: pair.disparityRange[1],
           files: { pairId: pair.id, left: pair.files.left, right: pair.files.right },
-          threads,
+          threads: this.threads,
         },
-        signal,
+        this.signal,
       );
       return reply.ok
         ? { disparity: reply.disparity, timeMs: reply.timeMs, peakMb: reply.peakMb }
         : { disparity: null, error: reply.error, timeMs: reply.timeMs, peakMb: reply.peakMb };
     } catch (e) {
-      if (signal.aborted || isAbort(e)) throw new AbortedError();
+      if (this.signal.aborted || isAbort(e)) throw new AbortedError();
       // The worker itself died (out of memory, process.exit in a module...): this job fails.
       return { disparity: null, error: `worker thread failed: ${oneLineError(e)}`, timeMs: null, peakMb: null };
     }
   }
 
-  async function runGroup(group: JobKey[]): Promise<void> {
-    const first = group[0]!;
-    const manifest = manifests.get(first.dataset)!;
+  /** Load the pair of a group; a pair that cannot be loaded is recorded as failed for every configuration (null). */
+  private async loadOrRecordBroken(group: readonly JobKey[]): Promise<LoadedPair | null> {
+    const first = group[0];
+    const manifest = this.manifests.get(first.dataset)!;
     const entry: PairEntry | undefined = manifest.pairs.find((p) => p.id === first.pair);
     if (!entry) throw new InputError(manifest.file, `pair ${first.pair} is not in the manifest`);
-    let pair: LoadedPair;
     try {
-      pair = await loadPair(manifest, entry);
+      return await loadPair(manifest, entry);
     } catch (e) {
-      if (signal.aborted || isAbort(e)) throw new AbortedError();
-      // A broken pair: recorded as failed for every configuration; the run goes on.
+      if (this.signal.aborted || isAbort(e)) throw new AbortedError();
       const message = oneLineError(e);
-      ctx.onPairError?.(manifest.name, entry.id, message);
-      const scores = await brokenPairScores(manifest, entry, plan.regions, plan);
+      this.ctx.onPairError?.(manifest.name, entry.id, message);
+      const scores = await brokenPairScores(manifest, entry, this.plan.regions, this.plan);
       for (const key of group) {
-        if (signal.aborted) throw new AbortedError();
-        const cfg = configs.get(key.label)!;
-        await ctx.onResult(brokenPairResult(cfg, manifest.name, entry, message, scores, plan), null, cfg, { dataset: manifest.name, id: entry.id, width: 0, height: 0 });
+        this.checkAbort();
+        const cfg = this.configs.get(key.label)!;
+        await this.ctx.onResult(brokenPairResult(cfg, manifest.name, entry, message, scores, this.plan), null, cfg, { dataset: manifest.name, id: entry.id, width: 0, height: 0 });
       }
-      return;
+      return null;
     }
-    if (signal.aborted) throw new AbortedError();
-    // As run.ts pairRegions: the manifest's occlusion mask, or one derived from the truth.
-    const regions: RegionMap = buildRegions(pair.truth.data, pair.leftGray, pair.occlusion, pair.width, pair.height, plan.regions);
-    if (!existsSync(pairPreviewPaths(plan.runDir, pair.dataset, pair.id).regions)) {
+  }
+
+  /** The pair's regions, and its report thumbnails unless the run folder has them. */
+  private async regionsOf(pair: LoadedPair): Promise<RegionMap> {
+    const regions = pairRegions(pair, this.plan);
+    if (!existsSync(pairPreviewPaths(this.plan.runDir, pair.dataset, pair.id).regions)) {
       try {
-        await writePairPreview(plan.runDir, pair.dataset, pair.id, pair.left, regions);
+        await writePairPreview(this.plan.runDir, pair.dataset, pair.id, pair.left, regions);
       } catch {
         /* thumbnails only save the report time: the report rebuilds them from the dataset */
       }
     }
-    let shared: SharedPair | undefined;
-    let hashes: Promise<[string, string]> | undefined;
-    const fileHashes = (): Promise<[string, string]> => (hashes ??= Promise.all([fileSha256(pair.files.left), fileSha256(pair.files.right)]));
+    return regions;
+  }
 
-    const one = async (key: JobKey): Promise<void> => {
-      if (signal.aborted) throw new AbortedError();
-      const cfg = configs.get(key.label)!;
-      let outcome: JobOutcome | undefined;
-      let ckey: string | undefined;
-      if (cache && cfg.kind === 'matcher') {
-        const [leftHash, rightHash] = await fileHashes();
-        ckey = cacheKey({ leftHash, rightHash, matcherId: cfg.matcherId, codeHash: cfg.codeHash, params: cfg.params, minDisparity: pair.disparityRange[0], maxDisparity: pair.disparityRange[1] });
-        const hit = cache.get(ckey, pair.width, pair.height);
-        if (hit) {
-          outcome = scoredOutcome(cfg, pair, regions, plan, { disparity: hit.data, timeMs: hit.timeMs, peakMb: hit.peakMb, cached: true });
-          stats.cached++;
-        }
-      }
-      if (!outcome) {
-        if (pool && cfg.kind === 'matcher' && cfg.source && cfg.source.kind !== 'program') {
-          shared ??= sharePair(pair, freeSlots.pop());
-          const got = await viaPool(cfg, pair, shared);
-          if (signal.aborted) throw new AbortedError();
-          outcome = scoredOutcome(cfg, pair, regions, plan, got);
-        } else if (pool) {
-          outcome = await serial(cfg.label, () => runJob(cfg, pair, regions, plan, signal, threads));
-        } else {
-          outcome = await runJob(cfg, pair, regions, plan, signal, threads);
-        }
-        stats.computed++;
-        if (cache && ckey && outcome.disparity && outcome.result.status === 'ok') {
-          try {
-            await cache.put(ckey, { width: pair.width, height: pair.height, data: outcome.disparity, timeMs: outcome.result.time_ms, peakMb: outcome.result.peak_mb, matcherId: cfg.matcherId });
-          } catch {
-            stats.cacheWriteErrors = (stats.cacheWriteErrors ?? 0) + 1; // the cache only saves time: a full or read-only disk must not end the run
-          }
-        }
-      }
-      if (signal.aborted) throw new AbortedError();
-      await ctx.onResult(outcome.result, outcome.disparity, cfg, pair);
-    };
+  async runGroup(group: JobKey[]): Promise<void> {
+    const pair = await this.loadOrRecordBroken(group);
+    if (!pair) return;
+    this.checkAbort();
+    const p: PairWork = { pair, regions: await this.regionsOf(pair) };
+    if (!this.pool) {
+      for (const key of group) await this.runOne(key, p);
+      return;
+    }
+    const settled = await Promise.allSettled(group.map((key) => this.runOne(key, p)));
+    // Every task of this pair has settled: its shared buffers may take the next pair.
+    if (p.shared) this.freeSlots.push(p.shared);
+    const bad = settled.find((s) => s.status === 'rejected') as PromiseRejectedResult | undefined;
+    if (bad) throw bad.reason;
+  }
 
-    if (!pool) {
-      for (const key of group) await one(key);
-    } else {
-      const settled = await Promise.allSettled(group.map(one));
-      // Every task of this pair has settled: its shared buffers may take the next pair.
-      if (shared) freeSlots.push(shared);
-      const bad = settled.find((s) => s.status === 'rejected') as PromiseRejectedResult | undefined;
-      if (bad) throw bad.reason;
+  /** The cache key of a matcher job, and its cached outcome when there is one. */
+  private async fromCache(cfg: RunConfig, p: PairWork): Promise<{ key?: string; outcome?: JobOutcome }> {
+    if (!this.cache || cfg.kind !== 'matcher') return {};
+    const { pair } = p;
+    p.hashes ??= Promise.all([fileSha256(pair.files.left), fileSha256(pair.files.right)]);
+    const [leftHash, rightHash] = await p.hashes;
+    const key = cacheKey({ leftHash, rightHash, matcherId: cfg.matcherId, codeHash: cfg.codeHash, params: cfg.params, minDisparity: pair.disparityRange[0], maxDisparity: pair.disparityRange[1] });
+    const hit = this.cache.get(key, pair.width, pair.height);
+    if (!hit) return { key };
+    this.stats.cached++;
+    return { key, outcome: scoredOutcome(cfg, pair, p.regions, this.plan, { disparity: hit.data, timeMs: hit.timeMs, peakMb: hit.peakMb, cached: true }) };
+  }
+
+  /** Run the job: on the pool, serialised in the main thread (programs next to a pool), or in the main thread. */
+  private async compute(cfg: RunConfig, p: PairWork): Promise<JobOutcome> {
+    const { pair, regions } = p;
+    if (this.pool && this.onPool(cfg)) {
+      p.shared ??= sharePair(pair, this.freeSlots.pop());
+      const got = await this.viaPool(cfg, pair, p.shared);
+      this.checkAbort();
+      return scoredOutcome(cfg, pair, regions, this.plan, got);
+    }
+    const run = (): Promise<JobOutcome> => runJob(cfg, pair, regions, this.plan, this.signal, this.threads);
+    return this.pool ? this.serial(cfg.label, run) : run();
+  }
+
+  private async store(key: string, cfg: RunConfig, pair: LoadedPair, outcome: JobOutcome): Promise<void> {
+    if (!this.cache || !outcome.disparity || outcome.result.status !== 'ok') return;
+    try {
+      await this.cache.put(key, { width: pair.width, height: pair.height, data: outcome.disparity, timeMs: outcome.result.time_ms, peakMb: outcome.result.peak_mb, matcherId: cfg.matcherId });
+    } catch {
+      this.stats.cacheWriteErrors = (this.stats.cacheWriteErrors ?? 0) + 1; // the cache only saves time: a full or read-only disk must not end the run
     }
   }
 
+  private async runOne(jobKey: JobKey, p: PairWork): Promise<void> {
+    this.checkAbort();
+    const cfg = this.configs.get(jobKey.label)!;
+    const cached = await this.fromCache(cfg, p);
+    let outcome = cached.outcome;
+    if (!outcome) {
+      outcome = await this.compute(cfg, p);
+      this.stats.computed++;
+      if (cached.key) await this.store(cached.key, cfg, p.pair, outcome);
+    }
+    this.checkAbort();
+    await this.ctx.onResult(outcome.result, outcome.disparity, cfg, p.pair);
+  }
+}
+
+/** A loaded pair while its configurations run: regions, and what its jobs share once made. */
+interface PairWork {
+  pair: LoadedPair;
+  regions: RegionMap;
+  shared?: SharedPair;
+  hashes?: Promise<[string, string]>;
+}
+
+export async function runScheduled(ctx: ScheduleContext): Promise<ScheduleStats> {
+  const s = new Scheduler(ctx);
+  const onOuter = (): void => s.stop.abort();
+  if (ctx.signal.aborted) s.stop.abort();
+  ctx.signal.addEventListener('abort', onOuter, { once: true });
   const inFlight = new Set<Promise<void>>();
   let failure: unknown;
-  const maxPairs = pool ? jobsN + 1 : 1;
   try {
-    for (const group of groups) {
-      if (signal.aborted) break;
-      while (inFlight.size >= maxPairs) await Promise.race(inFlight);
-      if (signal.aborted) break;
-      const p: Promise<void> = runGroup(group).then(
+    for (const group of groupByPair(ctx.jobs)) {
+      if (s.signal.aborted) break;
+      while (inFlight.size >= s.maxPairs) await Promise.race(inFlight);
+      if (s.signal.aborted) break;
+      const p: Promise<void> = s.runGroup(group).then(
         () => void inFlight.delete(p),
         (e: unknown) => {
           inFlight.delete(p);
           // Keep the first real error; aborts caused by it are consequences.
           if (failure === undefined || (isAbort(failure) && !isAbort(e))) failure = e;
-          stop.abort();
+          s.stop.abort();
         },
       );
       inFlight.add(p);
@@ -225,9 +285,9 @@ export async function runScheduled(ctx: ScheduleContext): Promise<ScheduleStats>
     await Promise.all(inFlight);
   } finally {
     ctx.signal.removeEventListener('abort', onOuter);
-    if (pool) await pool.close();
+    await s.close();
   }
   if (failure !== undefined) throw isAbort(failure) ? new AbortedError() : failure;
-  if (signal.aborted) throw new AbortedError();
-  return stats;
+  if (s.signal.aborted) throw new AbortedError();
+  return s.stats;
 }

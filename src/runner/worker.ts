@@ -58,7 +58,7 @@ const REPLY_HEADER_BYTES = 16;
 export function decodeReply(r: MatchReply): DecodedReply {
   if (!(r instanceof ArrayBuffer)) return r;
   const head = new Float64Array(r, 0, 2);
-  return { ok: true, timeMs: head[0]!, peakMb: head[1]!, disparity: new Float32Array(r, REPLY_HEADER_BYTES) };
+  return { ok: true, timeMs: head[0], peakMb: head[1], disparity: new Float32Array(r, REPLY_HEADER_BYTES) };
 }
 
 const plugins = new Map<string, Promise<MatcherPlugin>>();

@@ -121,7 +121,7 @@ export function cellMatrix(jobs: readonly JobResult[], region: RegionId, set: Me
     const nonEmpty = score.sums.pixels > 0;
     const cost = { time_ms: j.time_ms, peak_mb: j.peak_mb };
     for (let m = 0; m < M; m++) {
-      const metric = metrics[m]!;
+      const metric = metrics[m];
       if (!metric.perJob && !nonEmpty) continue;
       const v = metricValue(metric, score.figures, levels, cost);
       if (v === null || !Number.isFinite(v)) continue;
@@ -129,7 +129,7 @@ export function cellMatrix(jobs: readonly JobResult[], region: RegionId, set: Me
       data[base + 2 * m + 1] += 1;
     }
     readSums(score.sums, levels, sums);
-    for (let c = 0; c < sumCols; c++) data[base + 2 * M + c] += sums[c]!;
+    for (let c = 0; c < sumCols; c++) data[base + 2 * M + c] += sums[c];
   }
   return { units: unitKeys.length, cols, data, metrics: metrics.map((x) => x.id), sumBase: 2 * M, unitKeys };
 }
@@ -138,7 +138,7 @@ export function cellMatrix(jobs: readonly JobResult[], region: RegionId, set: Me
 export function cellStats(cm: CellMatrix, set: MetricSet): TotalsStat[] {
   const out: TotalsStat[] = [];
   metricsOf(set).forEach((metric, m) => {
-    out.push((t) => (t[2 * m + 1]! > 0 ? t[2 * m]! / t[2 * m + 1]! : NaN));
+    out.push((t) => (t[2 * m + 1] > 0 ? t[2 * m] / t[2 * m + 1] : NaN));
     const pool = metric.pool;
     if (pool === null) out.push(() => NaN);
     else out.push((t) => pooledFrom(pool, t, cm.sumBase) ?? NaN);
@@ -157,15 +157,15 @@ function summarizeCell(
   const stats = cellStats(cm, opts);
   // Point figures from the totals, summed in sorted unit order.
   const tot = new Float64Array(cm.cols);
-  for (let u = 0; u < cm.units; u++) for (let c = 0; c < cm.cols; c++) tot[c] += cm.data[u * cm.cols + c]!;
+  for (let u = 0; u < cm.units; u++) for (let c = 0; c < cm.cols; c++) tot[c] += cm.data[u * cm.cols + c];
   const cis = opts.ci === false ? stats.map(() => null) : bcaIntervals(cm, stats, opts.ci ?? {});
   const metrics: Record<string, MetricSummary> = {};
   cm.metrics.forEach((name, m) => {
-    const mean = stats[2 * m]!(tot);
-    const pooled = stats[2 * m + 1]!(tot);
+    const mean = stats[2 * m](tot);
+    const pooled = stats[2 * m + 1](tot);
     metrics[name] = {
       mean: Number.isFinite(mean) ? mean : null,
-      n: tot[2 * m + 1]!,
+      n: tot[2 * m + 1],
       pooled: Number.isFinite(pooled) ? pooled : null,
       meanCi: cis[2 * m] ?? null,
       pooledCi: cis[2 * m + 1] ?? null,
@@ -178,9 +178,9 @@ function summarizeCell(
     if (j.status === 'failed') nFailed++;
   }
   return {
-    matcher: jobs[0]!.matcher,
-    matcherId: jobs[0]!.matcherId,
-    dataset: jobs[0]!.dataset,
+    matcher: jobs[0].matcher,
+    matcherId: jobs[0].matcherId,
+    dataset: jobs[0].dataset,
     region,
     tag,
     n_pairs: nPairs,

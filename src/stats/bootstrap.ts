@@ -52,7 +52,7 @@ function columnTotals(m: UnitMatrix, out: Float64Array): void {
   const { units, cols, data } = m;
   for (let u = 0; u < units; u++) {
     const base = u * cols;
-    for (let c = 0; c < cols; c++) out[c] += data[base + c]!;
+    for (let c = 0; c < cols; c++) out[c] += data[base + c];
   }
 }
 
@@ -86,19 +86,19 @@ export function bcaIntervals(m: UnitMatrix, stats: readonly TotalsStat[], opts: 
     ctot.fill(0);
     const off = b * n;
     for (let i = 0; i < n; i++) {
-      const base = draws[off + i]! * k;
-      for (let c = 0; c < k; c++) ctot[c] += cdata[base + c]!;
+      const base = draws[off + i] * k;
+      for (let c = 0; c < k; c++) ctot[c] += cdata[base + c];
     }
-    for (let c = 0; c < m.cols; c++) tot[c] = ctot[map[c]!]!;
-    for (let s = 0; s < S; s++) boot[s]![b] = stats[s]!(tot);
+    for (let c = 0; c < m.cols; c++) tot[c] = ctot[map[c]];
+    for (let s = 0; s < S; s++) boot[s][b] = stats[s](tot);
   }
 
   // Jackknife: totals minus one unit.
   const jack: Float64Array[] = stats.map(() => new Float64Array(n));
   for (let u = 0; u < n; u++) {
     const base = u * m.cols;
-    for (let c = 0; c < m.cols; c++) tot[c] = full[c]! - m.data[base + c]!;
-    for (let s = 0; s < S; s++) jack[s]![u] = stats[s]!(tot);
+    for (let c = 0; c < m.cols; c++) tot[c] = full[c] - m.data[base + c];
+    for (let s = 0; s < S; s++) jack[s][u] = stats[s](tot);
   }
 
   const alpha = (1 - level) / 2;
@@ -106,17 +106,17 @@ export function bcaIntervals(m: UnitMatrix, stats: readonly TotalsStat[], opts: 
   const zHi = normalQuantile(1 - alpha);
   const out: (Interval | null)[] = [];
   for (let s = 0; s < S; s++) {
-    const t = theta[s]!;
+    const t = theta[s];
     if (!Number.isFinite(t)) {
       out.push(null);
       continue;
     }
-    const vals = finiteSorted(boot[s]!);
+    const vals = finiteSorted(boot[s]);
     if (vals.length === 0) {
       out.push(null);
       continue;
     }
-    out.push(bcaFromSamples(t, vals, jack[s]!, zLo, zHi, level, n));
+    out.push(bcaFromSamples(t, vals, jack[s], { zLo, zHi, level }, n));
   }
   return out;
 }
@@ -146,7 +146,7 @@ function dedupeColumns(m: UnitMatrix): { compact: UnitMatrix; map: Int32Array } 
   const seen = new Map<string, number>();
   const col = new Float64Array(m.units);
   for (let c = 0; c < m.cols; c++) {
-    for (let u = 0; u < m.units; u++) col[u] = m.data[u * m.cols + c]!;
+    for (let u = 0; u < m.units; u++) col[u] = m.data[u * m.cols + c];
     const key = Array.prototype.join.call(col, ',');
     const at = seen.get(key);
     if (at !== undefined) map[c] = at;
@@ -158,14 +158,14 @@ function dedupeColumns(m: UnitMatrix): { compact: UnitMatrix; map: Int32Array } 
   }
   const k = keep.length;
   const data = new Float64Array(m.units * k);
-  for (let u = 0; u < m.units; u++) for (let j = 0; j < k; j++) data[u * k + j] = m.data[u * m.cols + keep[j]!]!;
+  for (let u = 0; u < m.units; u++) for (let j = 0; j < k; j++) data[u * k + j] = m.data[u * m.cols + keep[j]];
   return { compact: { units: m.units, cols: k, data }, map };
 }
 
 function finiteSorted(xs: Float64Array): Float64Array {
   let k = 0;
   const tmp = new Float64Array(xs.length);
-  for (let i = 0; i < xs.length; i++) if (Number.isFinite(xs[i]!)) tmp[k++] = xs[i]!;
+  for (let i = 0; i < xs.length; i++) if (Number.isFinite(xs[i])) tmp[k++] = xs[i];
   return tmp.subarray(0, k).sort();
 }
 
@@ -178,17 +178,16 @@ export function bcaFromSamples(
   theta: number,
   sorted: Float64Array,
   jackValues: Float64Array,
-  zLo: number,
-  zHi: number,
-  level: number,
+  z: { zLo: number; zHi: number; level: number },
   units: number,
 ): Interval {
+  const { zLo, zHi, level } = z;
   const B = sorted.length;
-  if (sorted[0] === sorted[B - 1]) return { lo: sorted[0]!, hi: sorted[0]!, level, units, resamples: B };
+  if (sorted[0] === sorted[B - 1]) return { lo: sorted[0], hi: sorted[0], level, units, resamples: B };
   let below = 0;
   let equal = 0;
   for (let i = 0; i < B; i++) {
-    if (sorted[i]! < theta) below++;
+    if (sorted[i] < theta) below++;
     else if (sorted[i] === theta) equal++;
   }
   let share = (below + 0.5 * equal) / B;
@@ -199,8 +198,8 @@ export function bcaFromSamples(
   let jm = 0;
   let jn = 0;
   for (let i = 0; i < jackValues.length; i++) {
-    if (Number.isFinite(jackValues[i]!)) {
-      jm += jackValues[i]!;
+    if (Number.isFinite(jackValues[i])) {
+      jm += jackValues[i];
       jn++;
     }
   }
@@ -208,7 +207,7 @@ export function bcaFromSamples(
   let num = 0;
   let den = 0;
   for (let i = 0; i < jackValues.length; i++) {
-    const v = jackValues[i]!;
+    const v = jackValues[i];
     if (!Number.isFinite(v)) continue;
     const d = jm - v;
     num += d * d * d;
@@ -231,8 +230,8 @@ export function bcaFromSamples(
 export function bcaMean(xs: readonly number[], opts: BootstrapOptions = {}): Interval | null {
   const data = new Float64Array(xs.length * 2);
   for (let i = 0; i < xs.length; i++) {
-    data[2 * i] = xs[i]!;
+    data[2 * i] = xs[i];
     data[2 * i + 1] = 1;
   }
-  return bcaIntervals({ units: xs.length, cols: 2, data }, [(t) => (t[1]! > 0 ? t[0]! / t[1]! : NaN)], opts)[0]!;
+  return bcaIntervals({ units: xs.length, cols: 2, data }, [(t) => (t[1] > 0 ? t[0] / t[1] : NaN)], opts)[0];
 }

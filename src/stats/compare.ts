@@ -142,95 +142,121 @@ function pairValue(j: JobResult, region: RegionId, metric: Metric, levels: Level
   return metric.better === 'abs-lower' ? Math.abs(v) : v;
 }
 
-function compareConfig(label: string, base: Map<string, JobResult>, cand: Map<string, JobResult>, set: MetricSet, opts: CompareOptions): ConfigComparison {
+/** The pairs both runs have, in sorted order, with their level maps and resampling units. */
+interface Paired {
+  common: string[];
+  base: JobResult[];
+  cand: JobResult[];
+  levelsB: LevelMap[];
+  levelsC: LevelMap[];
+  /** Unit index of each common pair (pair, or the manifest's group). */
+  unitOf: number[];
+  units: number;
+  byGroup: boolean;
+}
+
+function pairUp(base: Map<string, JobResult>, cand: Map<string, JobResult>, set: MetricSet): Paired {
   const common = [...base.keys()].filter((k) => cand.has(k)).sort(cmp);
   const pairsB = common.map((k) => base.get(k)!);
   const pairsC = common.map((k) => cand.get(k)!);
-  const rmB = pairsB.map((j) => jobLevels(j, set));
-  const rmC = pairsC.map((j) => jobLevels(j, set));
   const byGroup = pairsC.some((j) => j.group !== undefined) || pairsB.some((j) => j.group !== undefined);
   const unitOf: number[] = [];
   const unitIds = new Map<string, number>();
   common.forEach((k, i) => {
-    const g = pairsC[i]!.group ?? pairsB[i]!.group;
+    const g = pairsC[i].group ?? pairsB[i].group;
     const id = byGroup && g !== undefined ? `group:${g}` : `pair:${k}`;
     if (!unitIds.has(id)) unitIds.set(id, unitIds.size);
     unitOf.push(unitIds.get(id)!);
   });
-  const U = unitIds.size;
+  return {
+    common,
+    base: pairsB,
+    cand: pairsC,
+    levelsB: pairsB.map((j) => jobLevels(j, set)),
+    levelsC: pairsC.map((j) => jobLevels(j, set)),
+    unitOf,
+    units: unitIds.size,
+    byGroup,
+  };
+}
+
+/** Every metric's paired change on one region (see the module comment). */
+function regionDeltas(p: Paired, region: RegionId, set: MetricSet, opts: CompareOptions): MetricDelta[] {
   const metrics = metricsOf(set);
   const M = metrics.length;
   const nSum = sumColumnCount(set);
-  const deltas: MetricDelta[] = [];
+  const U = p.units;
   const sums = new Float64Array(nSum);
-  for (const region of REGION_IDS) {
-    // Columns per metric: [sum d, count, sum base, sum cand]; then base sums, cand sums.
-    const cols = 4 * M + 2 * nSum;
-    const data = new Float64Array(U * cols);
-    for (let i = 0; i < common.length; i++) {
-      const row = unitOf[i]! * cols;
-      for (let m = 0; m < M; m++) {
-        const b = pairValue(pairsB[i]!, region, metrics[m]!, rmB[i]!);
-        const c = pairValue(pairsC[i]!, region, metrics[m]!, rmC[i]!);
-        if (b === null || c === null) continue;
-        data[row + 4 * m] += c - b;
-        data[row + 4 * m + 1] += 1;
-        data[row + 4 * m + 2] += b;
-        data[row + 4 * m + 3] += c;
-      }
-      readSums(pairsB[i]!.scores[region].sums, rmB[i]!, sums);
-      for (let k = 0; k < nSum; k++) data[row + 4 * M + k] += sums[k]!;
-      readSums(pairsC[i]!.scores[region].sums, rmC[i]!, sums);
-      for (let k = 0; k < nSum; k++) data[row + 4 * M + nSum + k] += sums[k]!;
+  // Columns per metric: [sum d, count, sum base, sum cand]; then base sums, cand sums.
+  const cols = 4 * M + 2 * nSum;
+  const data = new Float64Array(U * cols);
+  for (let i = 0; i < p.common.length; i++) {
+    const row = p.unitOf[i] * cols;
+    for (let m = 0; m < M; m++) {
+      const b = pairValue(p.base[i], region, metrics[m], p.levelsB[i]);
+      const c = pairValue(p.cand[i], region, metrics[m], p.levelsC[i]);
+      if (b === null || c === null) continue;
+      data[row + 4 * m] += c - b;
+      data[row + 4 * m + 1] += 1;
+      data[row + 4 * m + 2] += b;
+      data[row + 4 * m + 3] += c;
     }
-    const stats: TotalsStat[] = metrics.map((_, m) => (t: Float64Array) => (t[4 * m + 1]! > 0 ? t[4 * m]! / t[4 * m + 1]! : NaN));
-    const cis = bcaIntervals({ units: U, cols, data }, stats, opts.bootstrap ?? {});
-    const tot = new Float64Array(cols);
-    for (let u = 0; u < U; u++) for (let c = 0; c < cols; c++) tot[c] += data[u * cols + c]!;
-    metrics.forEach((metric, m) => {
-      const n = tot[4 * m + 1]!;
-      const unitDiffs: number[] = [];
-      for (let u = 0; u < U; u++) if (data[u * cols + 4 * m + 1]! > 0) unitDiffs.push(data[u * cols + 4 * m]!);
-      const perm = n > 0 ? signFlipTest(unitDiffs, opts.permutation ?? {}) : null;
-      const change = n > 0 ? tot[4 * m]! / n : null;
-      const ci = cis[m] ?? null;
-      const sign = worseningSign(metric);
-      const pool = metric.pool;
-      deltas.push({
-        region,
-        metric: metric.id,
-        base: n > 0 ? tot[4 * m + 2]! / n : null,
-        cand: n > 0 ? tot[4 * m + 3]! / n : null,
-        change,
-        changeCi: ci,
-        worsening: change === null ? null : sign * change + 0,
-        worseningCi: ci === null ? null : sign > 0 ? { lo: ci.lo, hi: ci.hi } : { lo: -ci.hi + 0, hi: -ci.lo + 0 },
-        p: perm ? perm.p : null,
-        exactP: perm ? perm.exact : true,
-        n,
-        units: unitDiffs.length,
-        unit: byGroup ? 'group' : 'pair',
-        pooledBase: pool ? pooledFrom(pool, tot, 4 * M) : null,
-        pooledCand: pool ? pooledFrom(pool, tot, 4 * M + nSum) : null,
-      });
-    });
+    readSums(p.base[i].scores[region].sums, p.levelsB[i], sums);
+    for (let k = 0; k < nSum; k++) data[row + 4 * M + k] += sums[k];
+    readSums(p.cand[i].scores[region].sums, p.levelsC[i], sums);
+    for (let k = 0; k < nSum; k++) data[row + 4 * M + nSum + k] += sums[k];
   }
+  const stats: TotalsStat[] = metrics.map((_, m) => (t: Float64Array) => (t[4 * m + 1] > 0 ? t[4 * m] / t[4 * m + 1] : NaN));
+  const cis = bcaIntervals({ units: U, cols, data }, stats, opts.bootstrap ?? {});
+  const tot = new Float64Array(cols);
+  for (let u = 0; u < U; u++) for (let c = 0; c < cols; c++) tot[c] += data[u * cols + c];
+  return metrics.map((metric, m) => {
+    const n = tot[4 * m + 1];
+    const unitDiffs: number[] = [];
+    for (let u = 0; u < U; u++) if (data[u * cols + 4 * m + 1] > 0) unitDiffs.push(data[u * cols + 4 * m]);
+    const perm = n > 0 ? signFlipTest(unitDiffs, opts.permutation ?? {}) : null;
+    const change = n > 0 ? tot[4 * m] / n : null;
+    const ci = cis[m] ?? null;
+    const sign = worseningSign(metric);
+    const pool = metric.pool;
+    return {
+      region,
+      metric: metric.id,
+      base: n > 0 ? tot[4 * m + 2] / n : null,
+      cand: n > 0 ? tot[4 * m + 3] / n : null,
+      change,
+      changeCi: ci,
+      worsening: change === null ? null : sign * change + 0,
+      worseningCi: ci === null ? null : sign > 0 ? { lo: ci.lo, hi: ci.hi } : { lo: -ci.hi + 0, hi: -ci.lo + 0 },
+      p: perm ? perm.p : null,
+      exactP: perm ? perm.exact : true,
+      n,
+      units: unitDiffs.length,
+      unit: p.byGroup ? 'group' : 'pair',
+      pooledBase: pool ? pooledFrom(pool, tot, 4 * M) : null,
+      pooledCand: pool ? pooledFrom(pool, tot, 4 * M + nSum) : null,
+    };
+  });
+}
+
+/** Pairs whose status changed, and those that changed most on the headline figure (largest worsening first). */
+function pairChanges(p: Paired, set: MetricSet, opts: CompareOptions): { topChanges: PairChange[]; statusChanges: PairChange[] } {
   const hl = opts.headline ?? { region: 'known' as RegionId, metric: 'epe' };
   const hlMetric = findMetric(set, hl.metric);
   if (!hlMetric) throw new RangeError(`compare: headline metric ${hl.metric} is not in the metric set`);
   const changes: PairChange[] = [];
   const statusChanges: PairChange[] = [];
-  for (let i = 0; i < common.length; i++) {
-    const b = pairValue(pairsB[i]!, hl.region, hlMetric, rmB[i]!);
-    const c = pairValue(pairsC[i]!, hl.region, hlMetric, rmC[i]!);
+  for (let i = 0; i < p.common.length; i++) {
+    const b = pairValue(p.base[i], hl.region, hlMetric, p.levelsB[i]);
+    const c = pairValue(p.cand[i], hl.region, hlMetric, p.levelsC[i]);
     const pc: PairChange = {
-      dataset: pairsB[i]!.dataset,
-      pair: pairsB[i]!.pair,
+      dataset: p.base[i].dataset,
+      pair: p.base[i].pair,
       base: b,
       cand: c,
       change: b !== null && c !== null ? c - b : NaN,
-      baseStatus: pairsB[i]!.status,
-      candStatus: pairsC[i]!.status,
+      baseStatus: p.base[i].status,
+      candStatus: p.cand[i].status,
     };
     if (pc.baseStatus !== pc.candStatus) statusChanges.push(pc);
     if (Number.isFinite(pc.change) && pc.change !== 0) changes.push(pc);
@@ -238,7 +264,13 @@ function compareConfig(label: string, base: Map<string, JobResult>, cand: Map<st
   const sign = worseningSign(hlMetric);
   // Largest worsening first, then largest improvement; ties by pair key.
   changes.sort((x, y) => Math.abs(y.change) - Math.abs(x.change) || sign * (y.change - x.change) || cmp(`${x.dataset}/${x.pair}`, `${y.dataset}/${y.pair}`));
-  return { label, pairs: common.length, deltas, topChanges: changes.slice(0, opts.top ?? 5), statusChanges };
+  return { topChanges: changes.slice(0, opts.top ?? 5), statusChanges };
+}
+
+function compareConfig(label: string, base: Map<string, JobResult>, cand: Map<string, JobResult>, set: MetricSet, opts: CompareOptions): ConfigComparison {
+  const p = pairUp(base, cand, set);
+  const deltas = REGION_IDS.flatMap((region) => regionDeltas(p, region, set, opts));
+  return { label, pairs: p.common.length, deltas, ...pairChanges(p, set, opts) };
 }
 
 export function compareRuns(base: RunData, cand: RunData, opts: CompareOptions = {}): Comparison {

@@ -8,10 +8,10 @@ export function mean(xs: ArrayLike<number>): number {
   const n = xs.length;
   if (n === 0) return NaN;
   let s = 0;
-  for (let i = 0; i < n; i++) s += xs[i]!;
+  for (let i = 0; i < n; i++) s += xs[i];
   const m0 = s / n;
   let r = 0;
-  for (let i = 0; i < n; i++) r += xs[i]! - m0;
+  for (let i = 0; i < n; i++) r += xs[i] - m0;
   return m0 + r / n;
 }
 
@@ -23,7 +23,7 @@ export function sampleSd(xs: ArrayLike<number>): number {
   let ss = 0;
   let sc = 0;
   for (let i = 0; i < n; i++) {
-    const d = xs[i]! - m;
+    const d = xs[i] - m;
     ss += d * d;
     sc += d;
   }
@@ -38,13 +38,13 @@ export function sampleSd(xs: ArrayLike<number>): number {
 export function quantileSorted(sorted: ArrayLike<number>, p: number): number {
   const n = sorted.length;
   if (n === 0) return NaN;
-  if (p <= 0) return sorted[0]!;
-  if (p >= 1) return sorted[n - 1]!;
+  if (p <= 0) return sorted[0];
+  if (p >= 1) return sorted[n - 1];
   const pos = p * (n - 1);
   const lo = Math.floor(pos);
   const f = pos - lo;
-  const a = sorted[lo]!;
-  return f === 0 ? a : a + f * (sorted[lo + 1]! - a);
+  const a = sorted[lo];
+  return f === 0 ? a : a + f * (sorted[lo + 1] - a);
 }
 
 /**
@@ -112,13 +112,13 @@ function acklam(p: number): number {
   const plow = 0.02425;
   if (p < plow) {
     const q = Math.sqrt(-2 * Math.log(p));
-    return (((((c[0]! * q + c[1]!) * q + c[2]!) * q + c[3]!) * q + c[4]!) * q + c[5]!) / ((((d[0]! * q + d[1]!) * q + d[2]!) * q + d[3]!) * q + 1);
+    return (((((c[0] * q + c[1]) * q + c[2]) * q + c[3]) * q + c[4]) * q + c[5]) / ((((d[0] * q + d[1]) * q + d[2]) * q + d[3]) * q + 1);
   }
   if (p > 1 - plow) {
     const q = Math.sqrt(-2 * Math.log(1 - p));
-    return -(((((c[0]! * q + c[1]!) * q + c[2]!) * q + c[3]!) * q + c[4]!) * q + c[5]!) / ((((d[0]! * q + d[1]!) * q + d[2]!) * q + d[3]!) * q + 1);
+    return -(((((c[0] * q + c[1]) * q + c[2]) * q + c[3]) * q + c[4]) * q + c[5]) / ((((d[0] * q + d[1]) * q + d[2]) * q + d[3]) * q + 1);
   }
   const q = p - 0.5;
   const r = q * q;
-  return ((((((a[0]! * r + a[1]!) * r + a[2]!) * r + a[3]!) * r + a[4]!) * r + a[5]!) * q) / (((((b[0]! * r + b[1]!) * r + b[2]!) * r + b[3]!) * r + b[4]!) * r + 1);
+  return ((((((a[0] * r + a[1]) * r + a[2]) * r + a[3]) * r + a[4]) * r + a[5]) * q) / (((((b[0] * r + b[1]) * r + b[2]) * r + b[3]) * r + b[4]) * r + 1);
 }

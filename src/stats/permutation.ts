@@ -40,7 +40,7 @@ function halfSums(xs: ArrayLike<number>, from: number, k: number): Float64Array 
   for (let mask = 0; mask < out.length; mask++) {
     let s = 0;
     for (let j = 0; j < k; j++) {
-      const v = xs[from + j]!;
+      const v = xs[from + j];
       s += (mask >> j) & 1 ? -v : v;
     }
     out[mask] = s;
@@ -54,8 +54,8 @@ export function signFlipTest(diffs: ArrayLike<number>, opts: SignFlipOptions = {
   let obs = 0;
   let absSum = 0;
   for (let i = 0; i < n; i++) {
-    obs += diffs[i]!;
-    absSum += Math.abs(diffs[i]!);
+    obs += diffs[i];
+    absSum += Math.abs(diffs[i]);
   }
   const target = Math.abs(obs) - 1e-12 * absSum;
   const exactMax = Math.min(opts.exactMaxUnits ?? DEFAULT_EXACT_MAX_UNITS, 30);
@@ -66,8 +66,8 @@ export function signFlipTest(diffs: ArrayLike<number>, opts: SignFlipOptions = {
     const B = halfSums(diffs, k1, n - k1);
     let count = 0;
     for (let i = 0; i < A.length; i++) {
-      const a = A[i]!;
-      for (let j = 0; j < B.length; j++) if (Math.abs(a + B[j]!) >= target) count++;
+      const a = A[i];
+      for (let j = 0; j < B.length; j++) if (Math.abs(a + B[j]) >= target) count++;
     }
     const total = A.length * B.length;
     return { meanDiff: obs / n, p: count / total, exact: true, patterns: total, units: n };
@@ -77,7 +77,7 @@ export function signFlipTest(diffs: ArrayLike<number>, opts: SignFlipOptions = {
   let count = 0;
   for (let m = 0; m < M; m++) {
     let s = 0;
-    for (let i = 0; i < n; i++) s += rng.next() < 0.5 ? -diffs[i]! : diffs[i]!;
+    for (let i = 0; i < n; i++) s += rng.next() < 0.5 ? -diffs[i] : diffs[i];
     if (Math.abs(s) >= target) count++;
   }
   return { meanDiff: obs / n, p: (1 + count) / (1 + M), exact: false, patterns: M + 1, units: n };

@@ -1,5 +1,5 @@
 /**
- * Writing synthetic datasets to disk in the manifest form of DESIGN.md:
+ * Writing synthetic datasets to disk in the manifest form of the README's "Datasets":
  *   <outDir>/dataset.json
  *   <outDir>/<pair id>/left.png, right.png     8-bit RGB (dock) or gray (random dots)
  *   <outDir>/<pair id>/truth.pfm               float32 left-referenced disparity
@@ -122,7 +122,7 @@ function pairEntry(id: string, tags: readonly string[], group: string, camera?: 
 /** Track the truth's extent for the manifest's disparityRange. */
 function extent(truth: Float32Array, acc: { min: number; max: number }): void {
   for (let i = 0; i < truth.length; i++) {
-    const d = truth[i]!;
+    const d = truth[i];
     if (d < acc.min) acc.min = d;
     if (d > acc.max) acc.max = d;
   }
@@ -147,7 +147,7 @@ export async function writeDemoDataset(outDir: string, opts: DemoOptions = {}): 
   }
   const specs: DemoPairSpec[] = DEMO_PAIRS.slice(0, count);
   for (let i = DEMO_PAIRS.length; i < count; i++) {
-    const kind = DOCK_VARIANTS[hash32(i, 0, 0, seed) % DOCK_VARIANTS.length]!;
+    const kind = DOCK_VARIANTS[hash32(i, 0, 0, seed) % DOCK_VARIANTS.length];
     specs.push({ id: `extra-${String(i + 1).padStart(2, '0')}`, kind, seedOffset: i, group: kind });
   }
   await mkdir(outDir, { recursive: true });
@@ -156,7 +156,7 @@ export async function writeDemoDataset(outDir: string, opts: DemoOptions = {}): 
   let camera: Camera | undefined;
   const samples = opts.samples ?? 3;
   for (let i = 0; i < specs.length; i++) {
-    const s = specs[i]!;
+    const s = specs[i];
     const pairSeed = subSeed(seed, 1000 + s.seedOffset);
     let r: StereoRender;
     if (s.kind === 'dots') {
@@ -196,7 +196,7 @@ export async function writeSyntheticDataset(outDir: string, opts: SyntheticOptio
   let camera: Camera | undefined;
   for (let i = 0; i < count; i++) {
     const pairSeed = subSeed(seed, 5000 + i);
-    const variant = DOCK_VARIANTS[hash32(i, 1, 0, seed) % DOCK_VARIANTS.length]!;
+    const variant = DOCK_VARIANTS[hash32(i, 1, 0, seed) % DOCK_VARIANTS.length];
     const scene = dockScene(variant, pairSeed);
     const rig = rigForScene(scene, { width, height, hfovDeg: DOCK_HFOV_DEG, baselineM: DOCK_BASELINE_M });
     camera = cameraOf(rig);

@@ -80,15 +80,15 @@ function crateOnPallet(b: Build, x: number, z: number, pallet: number, wood: num
   const r = b.rng;
   const w = r.range(0.8, 1.2);
   const d = r.range(0.8, 1.1);
-  b.prims.push(boxOnFloor(x, 0, z, w, 0.14, d, pallet));
+  b.prims.push(boxOnFloor([x, 0, z], [w, 0.14, d], pallet));
   const cw = w * r.range(0.8, 0.98);
   const cd = d * r.range(0.8, 0.98);
   const ch = r.range(0.5, 1.1);
   const mat = r.next() < 0.7 ? wood : wrap;
-  b.prims.push(boxOnFloor(x + r.range(-0.03, 0.03), 0.14, z, cw, ch, cd, mat));
+  b.prims.push(boxOnFloor([x + r.range(-0.03, 0.03), 0.14, z], [cw, ch, cd], mat));
   if (r.next() < 0.4) {
     const s = r.range(0.45, 0.75);
-    b.prims.push(boxOnFloor(x + r.range(-0.1, 0.1), 0.14 + ch, z + r.range(-0.05, 0.05), cw * s, r.range(0.3, 0.6), cd * s, r.next() < 0.5 ? wood : wrap));
+    b.prims.push(boxOnFloor([x + r.range(-0.1, 0.1), 0.14 + ch, z + r.range(-0.05, 0.05)], [cw * s, r.range(0.3, 0.6), cd * s], r.next() < 0.5 ? wood : wrap));
   }
 }
 
@@ -106,7 +106,7 @@ function scatterCrates(b: Build, count: number, minZ: number, maxZ: number): voi
   const slots: [number, number][] = [];
   for (let z = minZ; z <= maxZ; z += 1.6) for (let x = -5; x <= 5; x += 1.6) slots.push([x, z]);
   for (let i = 0; i < count && slots.length; i++) {
-    const [x, z] = slots.splice(b.rng.int(slots.length), 1)[0]!;
+    const [x, z] = slots.splice(b.rng.int(slots.length), 1)[0];
     crateOnPallet(b, x + b.rng.range(-0.2, 0.2), z + b.rng.range(-0.2, 0.2), m.pallet, m.wood, m.wrap);
   }
 }
@@ -140,7 +140,7 @@ function buildBareWall(b: Build): number {
   const sx = dx + b.rng.range(1.2, 2);
   b.prims.push({ kind: 'rect', origin: [sx, 1.5, backZ - 0.01], u: [0.5, 0, 0], v: [0, 0.35, 0], material: sign });
   const cab = material(b, { kind: 'paint', amplitude: 0.02, scale: 0.8 }, [0.55, 0.2, 0.15], [0.6, 0.23, 0.17]);
-  b.prims.push(boxOnFloor(dx - b.rng.range(1.3, 2), 0, backZ - 0.3, 0.6, 1.0, 0.5, cab));
+  b.prims.push(boxOnFloor([dx - b.rng.range(1.3, 2), 0, backZ - 0.3], [0.6, 1.0, 0.5], cab));
   return backZ;
 }
 
@@ -163,7 +163,7 @@ function buildRamp(b: Build): number {
   const m = crateMaterials(b);
   const cx = x0 + w + b.rng.range(1.2, 1.8);
   const cz = z0 + b.rng.range(0.5, 1.5);
-  b.prims.push(boxOnFloor(cx + 0.5, 0, cz + 0.6, 1.0, 1.0, 0.9, m.wood));
+  b.prims.push(boxOnFloor([cx + 0.5, 0, cz + 0.6], [1.0, 1.0, 0.9], m.wood));
   const board = material(b, { kind: 'noise', scale: 0.06, octaves: 3 }, [0.35, 0.25, 0.15], [0.75, 0.6, 0.4]);
   b.prims.push({ kind: 'rect', origin: [cx - 0.4, 0, cz - 0.1], u: [1.2, 0, 0.25], v: [0.1, 0.95, 0.6], material: board });
   return backZ;
@@ -215,7 +215,7 @@ function buildShelving(b: Build): number {
       if (b.rng.next() < 0.5) continue;
       const bx = x0 + 0.4 + k * (len / 3) + b.rng.range(0, 0.3);
       const s = b.rng.range(0.3, 0.5);
-      b.prims.push(boxOnFloor(bx, h, z + depth / 2 + 0.05, s * 1.2, s, s, k % 2 ? m.wood : m.wrap));
+      b.prims.push(boxOnFloor([bx, h, z + depth / 2 + 0.05], [s * 1.2, s, s], k % 2 ? m.wood : m.wrap));
     }
   }
   // A slatted safety fence to the right: more periodic texture at another depth.

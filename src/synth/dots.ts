@@ -55,6 +55,30 @@ export function defaultDotLayers(width: number, height: number, background: numb
   ];
 }
 
+/** The layers as typed arrays, nearest first, so the first layer that contains a point is the visible one. */
+function layerTable(layers: readonly DotLayer[], seed: number) {
+  const order = layers.map((_, i) => i).sort((a, b) => layers[b].disparity - layers[a].disparity || b - a);
+  const nl = layers.length;
+  const t = {
+    lx0: new Float64Array(nl),
+    lx1: new Float64Array(nl),
+    ly0: new Float64Array(nl),
+    ly1: new Float64Array(nl),
+    ld: new Int32Array(nl),
+    lseed: new Uint32Array(nl),
+  };
+  order.forEach((li, k) => {
+    const l = layers[li];
+    t.lx0[k] = l.x0;
+    t.lx1[k] = l.x1;
+    t.ly0[k] = l.y0;
+    t.ly1[k] = l.y1;
+    t.ld[k] = l.disparity;
+    t.lseed[k] = subSeed(seed >>> 0, 20 + li);
+  });
+  return t;
+}
+
 /** A random-dot stereo pair with exact truth and occlusion (gray, 8 bit). */
 export function randomDotPair(opts: RandomDotOptions): StereoRender {
   const W = opts.width;
@@ -68,24 +92,8 @@ export function randomDotPair(opts: RandomDotOptions): StereoRender {
   for (const l of layers) {
     if (!Number.isInteger(l.disparity)) throw new UsageError('layers', `dot layer disparities must be integers, got ${l.disparity}`);
   }
-  // Nearest first, so the first layer that contains a point is the visible one.
-  const order = layers.map((_, i) => i).sort((a, b) => layers[b]!.disparity - layers[a]!.disparity || b - a);
+  const { lx0, lx1, ly0, ly1, ld, lseed } = layerTable(layers, opts.seed);
   const nl = layers.length;
-  const lx0 = new Float64Array(nl);
-  const lx1 = new Float64Array(nl);
-  const ly0 = new Float64Array(nl);
-  const ly1 = new Float64Array(nl);
-  const ld = new Int32Array(nl);
-  const lseed = new Uint32Array(nl);
-  order.forEach((li, k) => {
-    const l = layers[li]!;
-    lx0[k] = l.x0;
-    lx1[k] = l.x1;
-    ly0[k] = l.y0;
-    ly1[k] = l.y1;
-    ld[k] = l.disparity;
-    lseed[k] = subSeed(opts.seed >>> 0, 20 + li);
-  });
   const density = opts.density ?? 0.5;
   const [dark, bright] = opts.levels ?? [40, 215];
   const threshold = Math.floor(density * 4294967296);
@@ -98,33 +106,33 @@ export function randomDotPair(opts: RandomDotOptions): StereoRender {
     // Left view: nearest layer containing (x, y).
     for (let x = 0; x < W; x++) {
       let k = 0;
-      while (!(x >= lx0[k]! && x < lx1[k]! && y >= ly0[k]! && y < ly1[k]!)) k++;
+      while (!(x >= lx0[k] && x < lx1[k] && y >= ly0[k] && y < ly1[k])) k++;
       layerAt[x] = k;
       const i = y * W + x;
-      left[i] = hash32(x, y, 0, lseed[k]!) < threshold ? bright : dark;
-      truth[i] = ld[k]!;
+      left[i] = hash32(x, y, 0, lseed[k]) < threshold ? bright : dark;
+      truth[i] = ld[k];
     }
     // Right view: nearest layer M whose footprint contains x + d_M.
     for (let x = 0; x < W; x++) {
       let k = 0;
       for (; k < nl; k++) {
-        const u = x + ld[k]!;
-        if (u >= lx0[k]! && u < lx1[k]! && y >= ly0[k]! && y < ly1[k]!) break;
+        const u = x + ld[k];
+        if (u >= lx0[k] && u < lx1[k] && y >= ly0[k] && y < ly1[k]) break;
       }
-      right[y * W + x] = hash32(x + ld[k]!, y, 0, lseed[k]!) < threshold ? bright : dark;
+      right[y * W + x] = hash32(x + ld[k], y, 0, lseed[k]) < threshold ? bright : dark;
     }
     // Occlusion: left pixel x on layer L lands at xr = x - d_L.
     for (let x = 0; x < W; x++) {
-      const L = layerAt[x]!;
-      const xr = x - ld[L]!;
+      const L = layerAt[x];
+      const xr = x - ld[L];
       if (xr < 0) {
         occlusion[y * W + x] = 1;
         continue;
       }
       let k = 0;
       for (; k < nl; k++) {
-        const u = xr + ld[k]!;
-        if (u >= lx0[k]! && u < lx1[k]! && y >= ly0[k]! && y < ly1[k]!) break;
+        const u = xr + ld[k];
+        if (u >= lx0[k] && u < lx1[k] && y >= ly0[k] && y < ly1[k]) break;
       }
       if (k !== L) occlusion[y * W + x] = 1;
     }
@@ -156,10 +164,10 @@ function addNoise(data: Uint8Array, sigma: number, seed: number): void {
     const a = polar[0];
     const b = polar[1];
     const k = polar[2] * sigma;
-    const v0 = Math.round(data[i]! + a * k);
+    const v0 = Math.round(data[i] + a * k);
     data[i] = v0 < 0 ? 0 : v0 > 255 ? 255 : v0;
     if (i + 1 < data.length) {
-      const v1 = Math.round(data[i + 1]! + b * k);
+      const v1 = Math.round(data[i + 1] + b * k);
       data[i + 1] = v1 < 0 ? 0 : v1 > 255 ? 255 : v1;
     }
   }

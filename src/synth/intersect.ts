@@ -30,7 +30,7 @@ export function compileGeometry(scene: Scene): CompiledGeometry {
   const material = new Int32Array(n);
   const p = new Float64Array(n * PSTRIDE);
   for (let i = 0; i < n; i++) {
-    const q = prims[i]!;
+    const q = prims[i];
     material[i] = q.material;
     const o = i * PSTRIDE;
     if (q.kind === 'rect') {
@@ -61,9 +61,9 @@ export function compileGeometry(scene: Scene): CompiledGeometry {
     } else if (q.kind === 'box') {
       kind[i] = KIND_BOX;
       for (let a = 0; a < 3; a++) {
-        if (!(q.max[a]! > q.min[a]!)) throw new Error(`scene ${scene.name}: box ${i} has no volume`);
-        p[o + a] = q.min[a]!;
-        p[o + 3 + a] = q.max[a]!;
+        if (!(q.max[a] > q.min[a])) throw new Error(`scene ${scene.name}: box ${i} has no volume`);
+        p[o + a] = q.min[a];
+        p[o + 3 + a] = q.max[a];
       }
     } else {
       kind[i] = KIND_CYL;
@@ -87,12 +87,12 @@ export function newRay(): Float64Array {
   return new Float64Array(9);
 }
 export function setRay(ray: Float64Array, o: readonly number[], d: readonly number[], tmin: number, tmax: number): Float64Array {
-  ray[0] = o[0]!;
-  ray[1] = o[1]!;
-  ray[2] = o[2]!;
-  ray[3] = d[0]!;
-  ray[4] = d[1]!;
-  ray[5] = d[2]!;
+  ray[0] = o[0];
+  ray[1] = o[1];
+  ray[2] = o[2];
+  ray[3] = d[0];
+  ray[4] = d[1];
+  ray[5] = d[2];
   ray[6] = tmin;
   ray[7] = tmax;
   ray[8] = Infinity;
@@ -104,35 +104,35 @@ export function setRay(ray: Float64Array, o: readonly number[], d: readonly numb
  * (Infinity when there is none) and returns whether there is a hit.
  */
 export function intersectPrimitive(g: CompiledGeometry, k: number, ray: Float64Array): boolean {
-  const ox = ray[0]!;
-  const oy = ray[1]!;
-  const oz = ray[2]!;
-  const dx = ray[3]!;
-  const dy = ray[4]!;
-  const dz = ray[5]!;
-  const tmin = ray[6]!;
-  const tmax = ray[7]!;
+  const ox = ray[0];
+  const oy = ray[1];
+  const oz = ray[2];
+  const dx = ray[3];
+  const dy = ray[4];
+  const dz = ray[5];
+  const tmin = ray[6];
+  const tmax = ray[7];
   ray[RAY_T] = Infinity;
   const p = g.p;
   const o = k * PSTRIDE;
   const kind = g.kind[k];
   if (kind === KIND_RECT) {
-    const nx = p[o + 9]!;
-    const ny = p[o + 10]!;
-    const nz = p[o + 11]!;
+    const nx = p[o + 9];
+    const ny = p[o + 10];
+    const nz = p[o + 11];
     const den = dx * nx + dy * ny + dz * nz;
     if (den === 0) return false;
-    const wx = p[o]! - ox;
-    const wy = p[o + 1]! - oy;
-    const wz = p[o + 2]! - oz;
+    const wx = p[o] - ox;
+    const wy = p[o + 1] - oy;
+    const wz = p[o + 2] - oz;
     const t = (wx * nx + wy * ny + wz * nz) / den;
     if (!(t > tmin && t < tmax)) return false;
-    const qx = ox + t * dx - p[o]!;
-    const qy = oy + t * dy - p[o + 1]!;
-    const qz = oz + t * dz - p[o + 2]!;
-    const a = qx * p[o + 12]! + qy * p[o + 13]! + qz * p[o + 14]!;
+    const qx = ox + t * dx - p[o];
+    const qy = oy + t * dy - p[o + 1];
+    const qz = oz + t * dz - p[o + 2];
+    const a = qx * p[o + 12] + qy * p[o + 13] + qz * p[o + 14];
     if (a < 0 || a > 1) return false;
-    const b = qx * p[o + 15]! + qy * p[o + 16]! + qz * p[o + 17]!;
+    const b = qx * p[o + 15] + qy * p[o + 16] + qz * p[o + 17];
     if (b < 0 || b > 1) return false;
     ray[RAY_T] = t;
     return true;
@@ -143,11 +143,11 @@ export function intersectPrimitive(g: CompiledGeometry, k: number, ray: Float64A
     let t1 = tmax;
     // x
     if (dx === 0) {
-      if (ox < p[o]! || ox > p[o + 3]!) return false;
+      if (ox < p[o] || ox > p[o + 3]) return false;
     } else {
       const inv = 1 / dx;
-      let ta = (p[o]! - ox) * inv;
-      let tb = (p[o + 3]! - ox) * inv;
+      let ta = (p[o] - ox) * inv;
+      let tb = (p[o + 3] - ox) * inv;
       if (ta > tb) {
         const s = ta;
         ta = tb;
@@ -158,11 +158,11 @@ export function intersectPrimitive(g: CompiledGeometry, k: number, ray: Float64A
       if (t0 > t1) return false;
     }
     if (dy === 0) {
-      if (oy < p[o + 1]! || oy > p[o + 4]!) return false;
+      if (oy < p[o + 1] || oy > p[o + 4]) return false;
     } else {
       const inv = 1 / dy;
-      let ta = (p[o + 1]! - oy) * inv;
-      let tb = (p[o + 4]! - oy) * inv;
+      let ta = (p[o + 1] - oy) * inv;
+      let tb = (p[o + 4] - oy) * inv;
       if (ta > tb) {
         const s = ta;
         ta = tb;
@@ -173,11 +173,11 @@ export function intersectPrimitive(g: CompiledGeometry, k: number, ray: Float64A
       if (t0 > t1) return false;
     }
     if (dz === 0) {
-      if (oz < p[o + 2]! || oz > p[o + 5]!) return false;
+      if (oz < p[o + 2] || oz > p[o + 5]) return false;
     } else {
       const inv = 1 / dz;
-      let ta = (p[o + 2]! - oz) * inv;
-      let tb = (p[o + 5]! - oz) * inv;
+      let ta = (p[o + 2] - oz) * inv;
+      let tb = (p[o + 5] - oz) * inv;
       if (ta > tb) {
         const s = ta;
         ta = tb;
@@ -193,11 +193,11 @@ export function intersectPrimitive(g: CompiledGeometry, k: number, ray: Float64A
     return true;
   }
   // Vertical cylinder with caps.
-  const cx = p[o]!;
-  const cz = p[o + 1]!;
-  const r = p[o + 2]!;
-  const y0 = p[o + 3]!;
-  const y1 = p[o + 4]!;
+  const cx = p[o];
+  const cz = p[o + 1];
+  const r = p[o + 2];
+  const y0 = p[o + 3];
+  const y1 = p[o + 4];
   let best = Infinity;
   const fx = ox - cx;
   const fz = oz - cz;
@@ -247,39 +247,39 @@ export function intersectPrimitive(g: CompiledGeometry, k: number, ray: Float64A
  * facing the incoming ray and the surface coordinates (u, v) in metres into out[0..4].
  */
 export function surfaceAt(g: CompiledGeometry, k: number, ray: Float64Array, out: Float64Array): void {
-  const dx = ray[3]!;
-  const dy = ray[4]!;
-  const dz = ray[5]!;
-  const t = ray[RAY_T]!;
-  const px = ray[0]! + t * dx;
-  const py = ray[1]! + t * dy;
-  const pz = ray[2]! + t * dz;
+  const dx = ray[3];
+  const dy = ray[4];
+  const dz = ray[5];
+  const t = ray[RAY_T];
+  const px = ray[0] + t * dx;
+  const py = ray[1] + t * dy;
+  const pz = ray[2] + t * dz;
   const p = g.p;
   const o = k * PSTRIDE;
   const kind = g.kind[k];
   let nx = 0;
   let ny = 0;
   let nz = 0;
-  let u = 0;
-  let v = 0;
+  let u: number;
+  let v: number;
   if (kind === KIND_RECT) {
-    const inv = 1 / p[o + 20]!;
-    nx = p[o + 9]! * inv;
-    ny = p[o + 10]! * inv;
-    nz = p[o + 11]! * inv;
-    const qx = px - p[o]!;
-    const qy = py - p[o + 1]!;
-    const qz = pz - p[o + 2]!;
-    u = (qx * p[o + 12]! + qy * p[o + 13]! + qz * p[o + 14]!) * p[o + 18]!;
-    v = (qx * p[o + 15]! + qy * p[o + 16]! + qz * p[o + 17]!) * p[o + 19]!;
+    const inv = 1 / p[o + 20];
+    nx = p[o + 9] * inv;
+    ny = p[o + 10] * inv;
+    nz = p[o + 11] * inv;
+    const qx = px - p[o];
+    const qy = py - p[o + 1];
+    const qz = pz - p[o + 2];
+    u = (qx * p[o + 12] + qy * p[o + 13] + qz * p[o + 14]) * p[o + 18];
+    v = (qx * p[o + 15] + qy * p[o + 16] + qz * p[o + 17]) * p[o + 19];
   } else if (kind === KIND_BOX) {
     // The face whose plane is nearest to the point.
     let bestD = Infinity;
     let axis = 0;
     for (let a = 0; a < 3; a++) {
       const c = a === 0 ? px : a === 1 ? py : pz;
-      const dl = Math.abs(c - p[o + a]!);
-      const dh = Math.abs(c - p[o + 3 + a]!);
+      const dl = Math.abs(c - p[o + a]);
+      const dh = Math.abs(c - p[o + 3 + a]);
       if (dl < bestD) {
         bestD = dl;
         axis = a;
@@ -305,17 +305,17 @@ export function surfaceAt(g: CompiledGeometry, k: number, ray: Float64Array, out
       v = py;
     }
   } else {
-    const cx = p[o]!;
-    const cz = p[o + 1]!;
-    const r = p[o + 2]!;
+    const cx = p[o];
+    const cz = p[o + 1];
+    const r = p[o + 2];
     const hx = px - cx;
     const hz = pz - cz;
     const eps = 1e-9 * (1 + r);
-    if (Math.abs(py - p[o + 3]!) < eps && hx * hx + hz * hz < r * r * (1 - 1e-9)) {
+    if (Math.abs(py - p[o + 3]) < eps && hx * hx + hz * hz < r * r * (1 - 1e-9)) {
       ny = -1;
       u = px;
       v = pz;
-    } else if (Math.abs(py - p[o + 4]!) < eps && hx * hx + hz * hz < r * r * (1 - 1e-9)) {
+    } else if (Math.abs(py - p[o + 4]) < eps && hx * hx + hz * hz < r * r * (1 - 1e-9)) {
       ny = 1;
       u = px;
       v = pz;
@@ -353,7 +353,7 @@ export function hullOf(q: Primitive): { verts: number[][]; edges: [number, numbe
   const lo = q.kind === 'box' ? q.min : [q.cx - q.radius, q.y0, q.cz - q.radius];
   const hi = q.kind === 'box' ? q.max : [q.cx + q.radius, q.y1, q.cz + q.radius];
   const verts: number[][] = [];
-  for (let i = 0; i < 8; i++) verts.push([i & 1 ? hi[0]! : lo[0]!, i & 2 ? hi[1]! : lo[1]!, i & 4 ? hi[2]! : lo[2]!]);
+  for (let i = 0; i < 8; i++) verts.push([i & 1 ? hi[0] : lo[0], i & 2 ? hi[1] : lo[1], i & 4 ? hi[2] : lo[2]]);
   const edges: [number, number][] = [];
   for (let i = 0; i < 8; i++) for (let b = 1; b < 8; b <<= 1) if (!(i & b)) edges.push([i, i | b]);
   return { verts, edges };

@@ -56,9 +56,9 @@ export function subSeed(seed: number, stream: number): number {
  * no closures.
  */
 export function polarDraw(state: number, out: Float64Array): number {
-  let a = 0;
-  let b = 0;
-  let q = 0;
+  let a: number;
+  let b: number;
+  let q: number;
   do {
     state = (state + 0x9e3779b9) >>> 0;
     a = (fmix32(state) / 4294967296) * 2 - 1;
@@ -100,7 +100,7 @@ export function splitmix32(seed: number): Prng {
       return Math.floor(next() * n);
     },
     pick<T>(items: readonly T[]): T {
-      return items[Math.floor(next() * items.length)]!;
+      return items[Math.floor(next() * items.length)];
     },
   };
 }

@@ -76,12 +76,12 @@ function footprints(scene: Scene, view: View): Footprint {
   const polys: (Float64Array | null)[] = [];
   const { centre: c, right: r, down: d, forward: f, focalPx, cx, cy } = view;
   for (let i = 0; i < n; i++) {
-    const prim = scene.primitives[i]!;
+    const prim = scene.primitives[i];
     const { verts, edges } = hullOf(prim);
     const cam = verts.map((w) => {
-      const x = w[0]! - c[0];
-      const y = w[1]! - c[1];
-      const z = w[2]! - c[2];
+      const x = w[0] - c[0];
+      const y = w[1] - c[1];
+      const z = w[2] - c[2];
       return [x * r[0] + y * r[1] + z * r[2], x * d[0] + y * d[1] + z * d[2], x * f[0] + y * f[1] + z * f[2]] as const;
     });
     const pts: number[] = [];
@@ -91,8 +91,8 @@ function footprints(scene: Scene, view: View): Footprint {
     if (prim.kind === 'rect') {
       // Sutherland-Hodgman against Z >= NEAR, vertices in order around the parallelogram.
       for (let k = 0; k < 4; k++) {
-        const pa = cam[k]!;
-        const pb = cam[(k + 1) % 4]!;
+        const pa = cam[k];
+        const pb = cam[(k + 1) % 4];
         if (pa[2] >= NEAR) project(pa[0], pa[1], pa[2]);
         if ((pa[2] < NEAR) !== (pb[2] < NEAR)) {
           const t = (NEAR - pa[2]) / (pb[2] - pa[2]);
@@ -102,8 +102,8 @@ function footprints(scene: Scene, view: View): Footprint {
     } else {
       for (const p of cam) if (p[2] >= NEAR) project(p[0], p[1], p[2]);
       for (const [a, b] of edges) {
-        const pa = cam[a]!;
-        const pb = cam[b]!;
+        const pa = cam[a];
+        const pb = cam[b];
         if ((pa[2] < NEAR) !== (pb[2] < NEAR)) {
           const t = (NEAR - pa[2]) / (pb[2] - pa[2]);
           project(pa[0] + t * (pb[0] - pa[0]), pa[1] + t * (pb[1] - pa[1]), NEAR);
@@ -115,10 +115,10 @@ function footprints(scene: Scene, view: View): Footprint {
     let y0 = Infinity;
     let y1 = -Infinity;
     for (let k = 0; k < pts.length; k += 2) {
-      x0 = Math.min(x0, pts[k]!);
-      x1 = Math.max(x1, pts[k]!);
-      y0 = Math.min(y0, pts[k + 1]!);
-      y1 = Math.max(y1, pts[k + 1]!);
+      x0 = Math.min(x0, pts[k]);
+      x1 = Math.max(x1, pts[k]);
+      y0 = Math.min(y0, pts[k + 1]);
+      y1 = Math.max(y1, pts[k + 1]);
     }
     box[i * 4] = pts.length ? x0 : 1;
     box[i * 4 + 1] = pts.length ? x1 : 0;
@@ -136,17 +136,17 @@ function footprints(scene: Scene, view: View): Footprint {
 function polyOverlapsRect(poly: Float64Array, rx0: number, rx1: number, ry0: number, ry1: number): boolean {
   const m = poly.length / 2;
   for (let k = 0; k < m; k++) {
-    const ax = poly[2 * k]!;
-    const ay = poly[2 * k + 1]!;
-    const bx = poly[(2 * k + 2) % poly.length]!;
-    const by = poly[(2 * k + 3) % poly.length]!;
+    const ax = poly[2 * k];
+    const ay = poly[2 * k + 1];
+    const bx = poly[(2 * k + 2) % poly.length];
+    const by = poly[(2 * k + 3) % poly.length];
     const nx = ay - by;
     const ny = bx - ax;
     if (nx === 0 && ny === 0) continue;
     let pmin = Infinity;
     let pmax = -Infinity;
     for (let j = 0; j < m; j++) {
-      const v = poly[2 * j]! * nx + poly[2 * j + 1]! * ny;
+      const v = poly[2 * j] * nx + poly[2 * j + 1] * ny;
       if (v < pmin) pmin = v;
       if (v > pmax) pmax = v;
     }
@@ -173,10 +173,10 @@ function buildTiles(scene: Scene, view: View): Tiles {
   // Per tile, the primitives whose footprint meets the tile's pixels (plus slack).
   const perTile: number[][] = Array.from({ length: nt }, () => []);
   for (let i = 0; i < n; i++) {
-    const x0 = box[i * 4]!;
-    const x1 = box[i * 4 + 1]!;
-    const y0 = box[i * 4 + 2]!;
-    const y1 = box[i * 4 + 3]!;
+    const x0 = box[i * 4];
+    const x1 = box[i * 4 + 1];
+    const y0 = box[i * 4 + 2];
+    const y1 = box[i * 4 + 3];
     if (!(x1 >= x0)) continue;
     const px0 = Math.max(0, Math.floor(Math.max(-1e9, x0) - TILE_SLACK));
     const px1 = Math.min(view.width - 1, Math.ceil(Math.min(1e9, x1) + TILE_SLACK));
@@ -193,14 +193,14 @@ function buildTiles(scene: Scene, view: View): Tiles {
           const ry1 = Math.min(view.height, (ty + 1) * TILE) - 0.5 + TILE_SLACK;
           if (!polyOverlapsRect(poly, rx0, rx1, ry0, ry1)) continue;
         }
-        perTile[ty * tilesX + tx]!.push(i);
+        perTile[ty * tilesX + tx].push(i);
       }
     }
   }
   const start = new Int32Array(nt + 1);
-  for (let t = 0; t < nt; t++) start[t + 1] = start[t]! + perTile[t]!.length;
-  const list = new Int32Array(start[nt]!);
-  for (let t = 0; t < nt; t++) list.set(perTile[t]!, start[t]!);
+  for (let t = 0; t < nt; t++) start[t + 1] = start[t] + perTile[t].length;
+  const list = new Int32Array(start[nt]);
+  for (let t = 0; t < nt; t++) list.set(perTile[t], start[t]);
   return { tilesX, tilesY, start, list };
 }
 
@@ -209,45 +209,45 @@ const RAY = newRay();
 const SURF = new Float64Array(6);
 
 function nearest(g: CompiledGeometry, list: Int32Array, s0: number, s1: number, ray: Float64Array): number {
-  const ox = ray[0]!;
-  const oy = ray[1]!;
-  const oz = ray[2]!;
-  const dx = ray[3]!;
-  const dy = ray[4]!;
-  const dz = ray[5]!;
-  const tmin = ray[6]!;
-  let best = ray[7]!;
+  const ox = ray[0];
+  const oy = ray[1];
+  const oz = ray[2];
+  const dx = ray[3];
+  const dy = ray[4];
+  const dz = ray[5];
+  const tmin = ray[6];
+  let best = ray[7];
   let bi = -1;
   const kind = g.kind;
   const p = g.p;
   for (let s = s0; s < s1; s++) {
-    const k = list[s]!;
+    const k = list[s];
     if (kind[k] === KIND_RECT) {
       // Inlined rect test (the common case: walls, floor, ceiling, panels).
       const o = k * PSTRIDE;
-      const nx = p[o + 9]!;
-      const ny = p[o + 10]!;
-      const nz = p[o + 11]!;
+      const nx = p[o + 9];
+      const ny = p[o + 10];
+      const nz = p[o + 11];
       const den = dx * nx + dy * ny + dz * nz;
       if (den === 0) continue;
-      const wx = p[o]! - ox;
-      const wy = p[o + 1]! - oy;
-      const wz = p[o + 2]! - oz;
+      const wx = p[o] - ox;
+      const wy = p[o + 1] - oy;
+      const wz = p[o + 2] - oz;
       const t = (wx * nx + wy * ny + wz * nz) / den;
       if (!(t > tmin && t < best)) continue;
       const qx = t * dx - wx;
       const qy = t * dy - wy;
       const qz = t * dz - wz;
-      const a = qx * p[o + 12]! + qy * p[o + 13]! + qz * p[o + 14]!;
+      const a = qx * p[o + 12] + qy * p[o + 13] + qz * p[o + 14];
       if (a < 0 || a > 1) continue;
-      const b = qx * p[o + 15]! + qy * p[o + 16]! + qz * p[o + 17]!;
+      const b = qx * p[o + 15] + qy * p[o + 16] + qz * p[o + 17];
       if (b < 0 || b > 1) continue;
       best = t;
       bi = k;
     } else {
       ray[7] = best;
       if (intersectPrimitive(g, k, ray)) {
-        best = ray[RAY_T]!;
+        best = ray[RAY_T];
         bi = k;
       }
     }
@@ -290,8 +290,8 @@ function shadeView(
     const yEnd = Math.min(H, (ty + 1) * TILE);
     for (let tx = 0; tx < tiles.tilesX; tx++) {
       const ti = ty * tiles.tilesX + tx;
-      const s0 = start[ti]!;
-      const s1 = start[ti + 1]!;
+      const s0 = start[ti];
+      const s1 = start[ti + 1];
       const xEnd = Math.min(W, (tx + 1) * TILE);
       for (let y = ty * TILE; y < yEnd; y++) {
         for (let x = tx * TILE; x < xEnd; x++) {
@@ -317,15 +317,15 @@ function shadeView(
             const pk = nearest(g, list, s0, s1, RAY);
             if (pk < 0) continue;
             surfaceAt(g, pk, RAY, SURF);
-            const mi = gm[pk]!;
+            const mi = gm[pk];
             patternInto(cm, mi, SURF);
-            const pv = SURF[5]!;
-            const lam = SURF[0]! * lx + SURF[1]! * ly + SURF[2]! * lz;
+            const pv = SURF[5];
+            const lam = SURF[0] * lx + SURF[1] * ly + SURF[2] * lz;
             const shade = amb + (lam > 0 ? dif * lam : 0);
             const mo = mi * MSTRIDE;
-            ar += shade * (m[mo + 1]! + (m[mo + 4]! - m[mo + 1]!) * pv);
-            ag += shade * (m[mo + 2]! + (m[mo + 5]! - m[mo + 2]!) * pv);
-            ab += shade * (m[mo + 3]! + (m[mo + 6]! - m[mo + 3]!) * pv);
+            ar += shade * (m[mo + 1] + (m[mo + 4] - m[mo + 1]) * pv);
+            ag += shade * (m[mo + 2] + (m[mo + 5] - m[mo + 2]) * pv);
+            ab += shade * (m[mo + 3] + (m[mo + 6] - m[mo + 3]) * pv);
           }
           const o = (y * W + x) * 3;
           out[o] = ar * norm;
@@ -362,7 +362,7 @@ function centreDepths(g: CompiledGeometry, view: View, tiles: Tiles): Float64Arr
       RAY[5] = a * rz + b * ez + fz;
       RAY[6] = NEAR;
       RAY[7] = Infinity;
-      depth[y * W + x] = nearest(g, tiles.list, tiles.start[ti]!, tiles.start[ti + 1]!, RAY) < 0 ? Infinity : RAY[RAY_T]!;
+      depth[y * W + x] = nearest(g, tiles.list, tiles.start[ti], tiles.start[ti + 1], RAY) < 0 ? Infinity : RAY[RAY_T];
     }
   }
   return depth;
@@ -386,7 +386,7 @@ function occlusionMask(g: CompiledGeometry, left: View, right: View, rtiles: Til
     const b = (y - left.cy) * inF;
     for (let x = 0; x < W; x++) {
       const i = y * W + x;
-      const t = depth[i]!;
+      const t = depth[i];
       if (t === Infinity) continue;
       const a = (x - left.cx) * inF;
       // The world point, then the segment from the right centre to it.
@@ -410,7 +410,7 @@ function occlusionMask(g: CompiledGeometry, left: View, right: View, rtiles: Til
       const cxr = Math.min(right.width - 1, Math.max(0, Math.round(xr)));
       const cyr = Math.min(right.height - 1, Math.max(0, Math.round(yr)));
       const ti = Math.floor(cyr / TILE) * rtiles.tilesX + Math.floor(cxr / TILE);
-      const s1 = start[ti + 1]!;
+      const s1 = start[ti + 1];
       RAY[0] = qx;
       RAY[1] = qy;
       RAY[2] = qz;
@@ -418,9 +418,9 @@ function occlusionMask(g: CompiledGeometry, left: View, right: View, rtiles: Til
       RAY[4] = sy;
       RAY[5] = sz;
       RAY[6] = NEAR / Zr;
-      for (let s = start[ti]!; s < s1; s++) {
+      for (let s = start[ti]; s < s1; s++) {
         RAY[7] = 1 - eps;
-        if (intersectPrimitive(g, list[s]!, RAY)) {
+        if (intersectPrimitive(g, list[s], RAY)) {
           occ[i] = 1;
           break;
         }
@@ -440,7 +440,7 @@ export function renderPair(scene: Scene, rig: Rig, opts: RenderOptions = {}): St
   const g = compileGeometry(scene);
   const cm = compileMaterials(scene);
   for (let i = 0; i < g.count; i++) {
-    if (g.material[i]! < 0 || g.material[i]! >= cm.count) throw new Error(`scene ${scene.name}: primitive ${i} has no material ${g.material[i]}`);
+    if (g.material[i] < 0 || g.material[i] >= cm.count) throw new Error(`scene ${scene.name}: primitive ${i} has no material ${g.material[i]}`);
   }
   const lv = viewOf(rig, 'left');
   const rv = viewOf(rig, 'right');
@@ -454,7 +454,7 @@ export function renderPair(scene: Scene, rig: Rig, opts: RenderOptions = {}): St
   const truth = new Float32Array(W * H);
   const cam = cameraOf(rig);
   for (let i = 0; i < W * H; i++) {
-    const z = depth[i]!;
+    const z = depth[i];
     truth[i] = z === Infinity ? NaN : disparityFromDepth(cam, z);
   }
   const occlusion = occlusionMask(g, lv, rv, rt, depth, opts.occlusionEpsilon ?? 1e-6);

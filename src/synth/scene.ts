@@ -98,8 +98,10 @@ export function rectAround(centre: Vec3, halfU: Vec3, halfV: Vec3, material: num
   };
 }
 
-/** An axis-aligned box from its floor centre (x, y0, z) and its size (width x, height y, depth z). */
-export function boxOnFloor(x: number, y0: number, z: number, w: number, h: number, d: number, material: number): Primitive {
+/** An axis-aligned box from its floor centre [x, y0, z] and its size [width x, height y, depth z]. */
+export function boxOnFloor(floorCentre: Vec3, size: Vec3, material: number): Primitive {
+  const [x, y0, z] = floorCentre;
+  const [w, h, d] = size;
   return { kind: 'box', min: [x - w / 2, y0, z - d / 2], max: [x + w / 2, y0 + h, z + d / 2], material };
 }
 

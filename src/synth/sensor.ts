@@ -85,9 +85,9 @@ export function applySensor(
       let L: number;
       if (ch === 1) {
         const j = i * 3;
-        L = BT601.r * radiance[j]! + BT601.g * radiance[j + 1]! + BT601.b * radiance[j + 2]!;
+        L = BT601.r * radiance[j] + BT601.g * radiance[j + 1] + BT601.b * radiance[j + 2];
       } else {
-        L = radiance[i * 3 + c]!;
+        L = radiance[i * 3 + c];
       }
       let v = gain * L + offset;
       v = v < 0 ? 0 : v > 1 ? 1 : v;
@@ -98,7 +98,7 @@ export function applySensor(
         const pos = v * LUT_N;
         const k = Math.floor(pos);
         const w = pos - k;
-        e = lut[k]! + (lut[k + 1]! - lut[k]!) * w;
+        e = lut[k] + (lut[k + 1] - lut[k]) * w;
       }
       if (sigma > 0) {
         let g: number;

@@ -53,7 +53,7 @@ export function compileMaterials(scene: Scene): CompiledMaterials {
   const mats = scene.materials;
   const m = new Float64Array(Math.max(1, mats.length) * MSTRIDE);
   for (let i = 0; i < mats.length; i++) {
-    const q: Material = mats[i]!;
+    const q: Material = mats[i];
     const o = i * MSTRIDE;
     m[o + 1] = q.colorA[0];
     m[o + 2] = q.colorA[1];
@@ -95,12 +95,12 @@ export function compileMaterials(scene: Scene): CompiledMaterials {
         break;
     }
     for (let s = 8; s < 12; s++) {
-      if (!Number.isFinite(m[o + s]!)) throw new Error(`scene ${scene.name}: material ${i} has a non-finite parameter`);
+      if (!Number.isFinite(m[o + s])) throw new Error(`scene ${scene.name}: material ${i} has a non-finite parameter`);
     }
-    if (m[o] !== PAT_PAINT && !(m[o + 8]! > 0)) throw new Error(`scene ${scene.name}: material ${i} needs a positive scale/period`);
+    if (m[o] !== PAT_PAINT && !(m[o + 8] > 0)) throw new Error(`scene ${scene.name}: material ${i} needs a positive scale/period`);
   }
   for (let i = 0; i < mats.length; i++) {
-    const seed = mats[i]!.seed >>> 0;
+    const seed = mats[i].seed >>> 0;
     m[i * MSTRIDE + 12] = (fmix32((seed ^ 0x2545f491) >>> 0) / 4294967296) * NOISE_SIZE;
     m[i * MSTRIDE + 13] = (fmix32((seed ^ 0x6a09e667) >>> 0) / 4294967296) * NOISE_SIZE;
   }
@@ -130,10 +130,10 @@ export function valueNoise(table: Float32Array, x: number, y: number): number {
   const r1 = ((iy + 1) & NOISE_MASK) * NOISE_SIZE;
   const sx = fx * fx * (3 - 2 * fx);
   const sy = fy * fy * (3 - 2 * fy);
-  const a = table[r0 + ix]!;
-  const b = table[r0 + ix1]!;
-  const c = table[r1 + ix]!;
-  const d = table[r1 + ix1]!;
+  const a = table[r0 + ix];
+  const b = table[r0 + ix1];
+  const c = table[r1 + ix];
+  const d = table[r1 + ix1];
   const top = a + (b - a) * sx;
   const bot = c + (d - c) * sx;
   return top + (bot - top) * sy;
@@ -166,7 +166,7 @@ export function patternAt(cm: CompiledMaterials, mi: number, u: number, v: numbe
   PAT_IO[3] = u;
   PAT_IO[4] = v;
   patternInto(cm, mi, PAT_IO);
-  return PAT_IO[5]!;
+  return PAT_IO[5];
 }
 const PAT_IO = new Float64Array(6);
 
@@ -180,7 +180,7 @@ export function patternInto(cm: CompiledMaterials, mi: number, io: Float64Array)
   const m = cm.m;
   const o = mi * MSTRIDE;
   const kind = m[o];
-  const table = cm.tables[mi]!;
+  const table = cm.tables[mi];
   if (kind === PAT_NOISE) noiseInto(m, o, table, io);
   else if (kind === PAT_PAINT) paintInto(m, o, table, io);
   else if (kind === PAT_SLATS) slatsInto(m, o, table, io);
@@ -189,17 +189,17 @@ export function patternInto(cm: CompiledMaterials, mi: number, io: Float64Array)
 }
 
 function noiseInto(m: Float64Array, o: number, table: Float32Array, io: Float64Array): void {
-  const u = io[3]!;
-  const v = io[4]!;
+  const u = io[3];
+  const v = io[4];
   // fractalNoise(table, u / s, v / s, octaves, gain), written out so that no double
   // crosses a call boundary in the hot loop.
-  const s = m[o + 8]!;
-  const octaves = m[o + 9]!;
-  const gain = m[o + 10]!;
+  const s = m[o + 8];
+  const octaves = m[o + 9];
+  const gain = m[o + 10];
   const x0 = u / s;
   const y0 = v / s;
-  const ox = m[o + 12]!;
-  const oy = m[o + 13]!;
+  const ox = m[o + 12];
+  const oy = m[o + 13];
   let sum = 0;
   let norm = 0;
   let amp = 1;
@@ -217,10 +217,10 @@ function noiseInto(m: Float64Array, o: number, table: Float32Array, io: Float64A
     const r1 = ((fy0 + 1) & NOISE_MASK) * NOISE_SIZE;
     const sx = fx * fx * (3 - 2 * fx);
     const sy = fy * fy * (3 - 2 * fy);
-    const a = table[r0 + ix]!;
-    const b = table[r0 + ix1]!;
-    const c = table[r1 + ix]!;
-    const d = table[r1 + ix1]!;
+    const a = table[r0 + ix];
+    const b = table[r0 + ix1];
+    const c = table[r1 + ix];
+    const d = table[r1 + ix1];
     const top = a + (b - a) * sx;
     sum += amp * (top + (c + (d - c) * sx - top) * sy);
     norm += amp;
@@ -233,38 +233,38 @@ function noiseInto(m: Float64Array, o: number, table: Float32Array, io: Float64A
 }
 
 function paintInto(m: Float64Array, o: number, table: Float32Array, io: Float64Array): void {
-  const u = io[3]!;
-  const v = io[4]!;
-  const s = m[o + 9]!;
-  io[5] = clamp01(0.5 + m[o + 8]! * 2 * (valueNoise(table, u / s + m[o + 12]!, v / s + m[o + 13]!) - 0.5));
+  const u = io[3];
+  const v = io[4];
+  const s = m[o + 9];
+  io[5] = clamp01(0.5 + m[o + 8] * 2 * (valueNoise(table, u / s + m[o + 12], v / s + m[o + 13]) - 0.5));
 }
 
 function slatsInto(m: Float64Array, o: number, table: Float32Array, io: Float64Array): void {
-  const u = io[3]!;
-  const v = io[4]!;
-  const period = m[o + 8]!;
-  const c = m[o + 10]! === 1 ? v : u;
+  const u = io[3];
+  const v = io[4];
+  const period = m[o + 8];
+  const c = m[o + 10] === 1 ? v : u;
   const f = c / period - Math.floor(c / period);
-  const stripe = f < m[o + 9]! ? 1 : 0;
-  const grain = m[o + 11]!;
+  const stripe = f < m[o + 9] ? 1 : 0;
+  const grain = m[o + 11];
   const ns = period * 0.7;
-  io[5] = clamp01(stripe * (1 - grain) + grain * valueNoise(table, u / ns + m[o + 12]!, v / ns + m[o + 13]!));
+  io[5] = clamp01(stripe * (1 - grain) + grain * valueNoise(table, u / ns + m[o + 12], v / ns + m[o + 13]));
 }
 
 function dotsInto(m: Float64Array, o: number, io: Float64Array): void {
-  const u = io[3]!;
-  const v = io[4]!;
-  const seed = m[o + 7]!;
-  const s = m[o + 8]!;
+  const u = io[3];
+  const v = io[4];
+  const seed = m[o + 7];
+  const s = m[o + 8];
   const x = u / s;
   const y = v / s;
   const ix = Math.floor(x);
   const iy = Math.floor(y);
-  if (lattice(ix, iy, seed) >= m[o + 9]!) {
+  if (lattice(ix, iy, seed) >= m[o + 9]) {
     io[5] = 0;
     return;
   }
-  const r = m[o + 10]!;
+  const r = m[o + 10];
   const slack = 0.5 - r;
   const jx = (lattice(ix, iy, (seed ^ 0x68bc21eb) >>> 0) - 0.5) * 2 * slack;
   const jy = (lattice(ix, iy, (seed ^ 0x02e5be93) >>> 0) - 0.5) * 2 * slack;
@@ -274,12 +274,12 @@ function dotsInto(m: Float64Array, o: number, io: Float64Array): void {
 }
 
 function planksInto(m: Float64Array, o: number, table: Float32Array, io: Float64Array): void {
-  const u = io[3]!;
-  const v = io[4]!;
-  const seed = m[o + 7]!;
+  const u = io[3];
+  const v = io[4];
+  const seed = m[o + 7];
   // planks: boards of `period` along v, gaps between them, tint per board, grain along u
-  const period = m[o + 8]!;
-  const gs = m[o + 9]!;
+  const period = m[o + 8];
+  const gs = m[o + 9];
   const bv = v / period;
   const board = Math.floor(bv);
   const f = bv - board;
@@ -288,6 +288,6 @@ function planksInto(m: Float64Array, o: number, table: Float32Array, io: Float64
     return;
   }
   const tint = lattice(board, 7, seed);
-  const grain = valueNoise(table, u / (gs * 8) + m[o + 12]!, v / gs + m[o + 13]!);
+  const grain = valueNoise(table, u / (gs * 8) + m[o + 12], v / gs + m[o + 13]);
   io[5] = clamp01(0.2 + 0.45 * tint + 0.35 * grain);
 }

@@ -57,7 +57,7 @@ describe('run options', () => {
     expect(() => settingsFromArgs({ ...baseArgs, dataset: d }, root)).toThrow(/^--matcher: /);
     const s = settingsFromArgs({ ...baseArgs, dataset: d, predictions: 'p', label: 'n', 'prediction-scale': 256, 'prediction-invalid': 0 }, root);
     expect(s.predictions).toEqual([{ label: 'n', dir: join(root, 'p'), scale: 256, invalid: 0 }]);
-    // Defaults from core (DESIGN.md region parameters) when nothing is given.
+    // Defaults from core (README region parameter table) when nothing is given.
     expect(s.regions).toEqual(DEFAULT_REGION_PARAMS);
   });
 });
@@ -170,7 +170,7 @@ describe('experiment files', () => {
     expect(r.code).toBe(0);
     const job = JSON.parse(readFileSync(join(root, 'exp-live-out', 'results.jsonl'), 'utf8').trim());
     expect(job.status).toBe('ok');
-    expect(job.time_ms).toBe(2.5); // the program's own figure (the requirement)
+    expect(job.time_ms).toBe(2.5); // the program's own figure (README, "Outputs": time_ms)
     expect(job.wall_ms).toBeGreaterThanOrEqual(79); // at least the 80 ms wait (timers may fire ~1 ms early)
   });
 

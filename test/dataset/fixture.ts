@@ -42,7 +42,7 @@ export function makePair(id: string, seed: number, width = 64, height = 48, bg =
       const d = x >= x0 && x < x1 && y >= y0 && y < y1 ? fg : bg;
       truth[i] = d;
       const xr = x - d;
-      left[i] = xr >= 0 ? right[y * width + xr]! : Math.floor(rnd() * 256);
+      left[i] = xr >= 0 ? right[y * width + xr] : Math.floor(rnd() * 256);
     }
   }
   return { id, width, height, truth, left, right };
@@ -55,7 +55,7 @@ export interface WrittenDataset {
 
 /**
  * Write a dataset folder: `<id>/left.png`, `<id>/right.png`, `<id>/truth.pfm`, and
- * dataset.json (the exact form of the brief, extended to several pairs).
+ * dataset.json (the README's manifest example, extended to several pairs).
  */
 export function writeDataset(dir: string, opts: { ids?: string[]; width?: number; height?: number; name?: string } = {}): WrittenDataset {
   const ids = opts.ids ?? ['crates-01', 'crates-02'];

@@ -21,10 +21,10 @@ describe('loadPair', () => {
   it('loads images, luminance, truth and camera of a pair', async () => {
     const ds = writeDataset(join(root, 'ok'));
     const m = loadManifest(ds.dir);
-    const p = await loadPair(m, m.pairs[0]!);
+    const p = await loadPair(m, m.pairs[0]);
     expect([p.width, p.height]).toEqual([64, 48]);
-    // 8-bit gray luminance is the stored value (DESIGN.md: 0-255 scale, BT.601 only for colour).
-    expect(p.leftGray[5]).toBe(ds.pairs[0]!.left[5]);
+    // 8-bit gray luminance is the stored value (README, "Datasets" conventions: 0-255 scale, BT.601 only for colour).
+    expect(p.leftGray[5]).toBe(ds.pairs[0].left[5]);
     // Truth as written by the fixture (PFM stores float32 exactly).
     expect(Array.from(p.truth.data.slice(0, 3))).toEqual([4, 4, 4]);
     expect(p.camera).toEqual({ focalPx: 700, baselineM: 0.12, cxShiftPx: 0 });
@@ -35,7 +35,7 @@ describe('loadPair', () => {
     const ds = writeDataset(join(root, 'mismatch'), { ids: ['bay-1'] });
     writeFileSync(join(ds.dir, 'bay-1/right.png'), gray(60, 48));
     const m = loadManifest(ds.dir);
-    const err = await loadPair(m, m.pairs[0]!).then(
+    const err = await loadPair(m, m.pairs[0]).then(
       () => undefined,
       (e: unknown) => e,
     );
@@ -54,7 +54,7 @@ describe('loadPair', () => {
     mj.pairs[0].occlusion = 'bay-2/occ.png';
     writeFileSync(join(ds.dir, 'dataset.json'), JSON.stringify(mj));
     const m = loadManifest(ds.dir);
-    await expect(loadPair(m, m.pairs[0]!)).rejects.toThrow(/occ\.png: size 64x40 differs from .*left\.png \(64x48\)/);
+    await expect(loadPair(m, m.pairs[0])).rejects.toThrow(/occ\.png: size 64x40 differs from .*left\.png \(64x48\)/);
   });
 });
 
@@ -87,11 +87,11 @@ describe('checkDataset', () => {
     // 3. size mismatch
     writeFileSync(join(dir, 'p-size/left.png'), gray(32, 48));
     // 4. truth outside disparityRange [0, 32]: one pixel at 50
-    const t = ds.pairs[3]!.truth.slice();
+    const t = ds.pairs[3].truth.slice();
     t[7] = 50;
     writeFileSync(join(dir, 'p-range/truth.pfm'), encodePfm({ width: 64, height: 48, data: t }));
     // 5. mostly invalid truth: 75% NaN (> 50% default limit)
-    const inv = ds.pairs[4]!.truth.slice();
+    const inv = ds.pairs[4].truth.slice();
     for (let i = 0; i < (inv.length * 3) / 4; i++) inv[i] = NaN;
     writeFileSync(join(dir, 'p-invalid/truth.pfm'), encodePfm({ width: 64, height: 48, data: inv }));
     // 6. duplicate id

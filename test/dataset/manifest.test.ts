@@ -11,8 +11,8 @@ import { readFileSync } from 'node:fs';
 const root = mkdtempSync(join(tmpdir(), 'parallax-manifest-'));
 afterAll(() => rmSync(root, { recursive: true, force: true }));
 
-/** The exact manifest form from the task brief. */
-const BRIEF_FORM =
+/** The README's example manifest ("Datasets"), as one line. */
+const README_FORM =
   '{"name":"dock-demo","camera":{"focalPx":700,"baselineM":0.12,"cxShiftPx":0},"disparityRange":[0,96],"truthEncoding":{"scale":64,"invalid":0},"pairs":[{"id":"crates-01","left":"crates-01/left.png","right":"crates-01/right.png","truth":"crates-01/truth.pfm","occlusion":"crates-01/occluded.png"}]}';
 
 let n = 0;
@@ -34,19 +34,19 @@ function errorOf(f: () => unknown): InputError {
 }
 
 describe('loadManifest', () => {
-  it('loads the exact form of the brief, from the folder and from the file', () => {
-    const d = dsDir(BRIEF_FORM);
+  it('loads the example manifest of the README, from the folder and from the file', () => {
+    const d = dsDir(README_FORM);
     for (const arg of [d, join(d, 'dataset.json')]) {
       const m = loadManifest(arg);
-      // Expected values: read off the brief's JSON text above.
+      // Expected values: read off the JSON text above.
       expect(m.name).toBe('dock-demo');
       expect(m.camera).toEqual({ focalPx: 700, baselineM: 0.12, cxShiftPx: 0 });
       expect(m.disparityRange).toEqual([0, 96]);
       expect(m.truthEncoding).toEqual({ scale: 64, invalid: 0 });
       expect(m.pairs).toHaveLength(1);
-      // Paths are relative to the manifest's folder (our DESIGN.md convention).
-      expect(m.pairs[0]!.left).toBe(join(d, 'crates-01/left.png'));
-      expect(m.pairs[0]!.occlusion).toBe(join(d, 'crates-01/occluded.png'));
+      // Paths are relative to the manifest's folder (README, "Datasets").
+      expect(m.pairs[0].left).toBe(join(d, 'crates-01/left.png'));
+      expect(m.pairs[0].occlusion).toBe(join(d, 'crates-01/occluded.png'));
     }
   });
 
@@ -63,9 +63,9 @@ describe('loadManifest', () => {
     );
     const m = loadManifest(d);
     expect(m.camera).toBeUndefined();
-    expect(m.pairs[0]!.group).toBe('drive-a');
-    expect(m.pairs[0]!.tags).toEqual(['night']);
-    expect(m.pairs[1]!.camera).toEqual({ focalPx: 500, baselineM: 0.1, cxShiftPx: 3 });
+    expect(m.pairs[0].group).toBe('drive-a');
+    expect(m.pairs[0].tags).toEqual(['night']);
+    expect(m.pairs[1].camera).toEqual({ focalPx: 500, baselineM: 0.1, cxShiftPx: 3 });
     // Code-unit order: "ramp-1" < "ramp-2" (common practice: locale-independent sort).
     expect(sortedPairs(m).map((p) => p.id)).toEqual(['ramp-1', 'ramp-2']);
   });
@@ -79,7 +79,7 @@ describe('loadManifest', () => {
   });
 
   it('a missing field names the file and the field path', () => {
-    const obj = JSON.parse(BRIEF_FORM);
+    const obj = JSON.parse(README_FORM);
     delete obj.pairs[0].truth;
     const d = dsDir(JSON.stringify(obj));
     const e = errorOf(() => loadManifest(d));
@@ -89,18 +89,18 @@ describe('loadManifest', () => {
   });
 
   it('a wrong type names the field path', () => {
-    const obj = JSON.parse(BRIEF_FORM);
+    const obj = JSON.parse(README_FORM);
     obj.camera.focalPx = '700';
     const d = dsDir(JSON.stringify(obj));
     const e = errorOf(() => loadManifest(d));
     expect(e.message).toContain('camera.focalPx');
-    const obj2 = JSON.parse(BRIEF_FORM);
+    const obj2 = JSON.parse(README_FORM);
     obj2.disparityRange = [96, 0];
     expect(errorOf(() => loadManifest(dsDir(JSON.stringify(obj2)))).message).toContain('disparityRange');
   });
 
   it('an unknown field (a typo) is refused, naming it', () => {
-    const obj = JSON.parse(BRIEF_FORM);
+    const obj = JSON.parse(README_FORM);
     obj.pairs[0].occlusoin = 'x.png';
     const e = errorOf(() => loadManifest(dsDir(JSON.stringify(obj))));
     expect(e.message).toContain('pairs[0]');
@@ -108,7 +108,7 @@ describe('loadManifest', () => {
   });
 
   it('PNG truth without truthEncoding is an error naming the truth file', () => {
-    const obj = JSON.parse(BRIEF_FORM);
+    const obj = JSON.parse(README_FORM);
     delete obj.truthEncoding;
     obj.pairs[0].truth = 'crates-01/truth.png';
     const e = errorOf(() => loadManifest(dsDir(JSON.stringify(obj))));
@@ -117,12 +117,12 @@ describe('loadManifest', () => {
   });
 
   it('duplicate and unsafe pair ids are refused', () => {
-    const obj = JSON.parse(BRIEF_FORM);
+    const obj = JSON.parse(README_FORM);
     obj.pairs.push({ ...obj.pairs[0] });
     const e = errorOf(() => loadManifest(dsDir(JSON.stringify(obj))));
     expect(e.message).toMatch(/duplicate pair id "crates-01"/);
     for (const bad of ['../up', 'a/b', '.hidden', '', 'sp ace']) {
-      const o = JSON.parse(BRIEF_FORM);
+      const o = JSON.parse(README_FORM);
       o.pairs[0].id = bad;
       expect(errorOf(() => loadManifest(dsDir(JSON.stringify(o)))).message).toContain('pairs[0].id');
     }
@@ -136,7 +136,7 @@ describe('loadManifest', () => {
       ['right', 'crates-01/../../x.png'],
       ['truth', '/etc/passwd'],
     ] as const) {
-      const o = JSON.parse(BRIEF_FORM);
+      const o = JSON.parse(README_FORM);
       o.pairs[0][field] = value;
       const d = dsDir(JSON.stringify(o));
       const e = errorOf(() => loadManifest(d));
@@ -144,7 +144,7 @@ describe('loadManifest', () => {
       expect(e.message).toContain(value);
       expect(e.message).toContain(`pairs[0].${field}`);
     }
-    const o = JSON.parse(BRIEF_FORM);
+    const o = JSON.parse(README_FORM);
     const d = dsDir(JSON.stringify(o));
     mkdirSync(join(d, 'crates-01'));
     symlinkSync(outside, join(d, 'crates-01/left.png'));
@@ -159,7 +159,7 @@ describe('loadManifest', () => {
   });
 
   it('validateManifest collects every problem, not only the first', () => {
-    const o = JSON.parse(BRIEF_FORM);
+    const o = JSON.parse(README_FORM);
     o.pairs.push({ ...o.pairs[0], left: '../a.png' });
     const v = validateManifest(JSON.stringify(o), '/x/dataset.json');
     expect(v.manifest).toBeUndefined();

@@ -1,8 +1,8 @@
 /**
  * End to end, bad input, through the built CLI.
  *
- * - A broken pair (DESIGN.md: "One broken pair or crashing matcher is recorded in the
- *   results and the run goes on"): one line on stderr naming the file (both sizes for
+ * - A broken pair (README, "Exit codes": "one broken pair or crashing matcher is recorded in the
+ *   results as `failed` and the run goes on"): one line on stderr naming the file (both sizes for
  *   a mismatch) as it happens, no stack trace; the other pairs are scored, every table
  *   and the report are written, the broken pair's jobs are `failed`, exit code 2.
  * - A manifest-level error (malformed manifest, a path leaving the folder, unknown
@@ -43,7 +43,7 @@ describe('a broken pair: recorded as failed, the other pair scored, tables and r
   function expectWentOn(name: string, file: string): Record<string, string> {
     const dir = out(name);
     const results = readFileSync(join(dir, 'results.jsonl'), 'utf8').trim().split('\n').map((l) => JSON.parse(l));
-    expect(results).toHaveLength(2); // one line per pair x configuration (DESIGN.md run folder)
+    expect(results).toHaveLength(2); // one line per pair x configuration (README, "Outputs")
     const byPair = new Map(results.map((r) => [r.pair, r]));
     expect(byPair.get('dock-2').status).toBe('ok');
     // The fixture's left image is built from the right by the truth (exact matches), so
@@ -77,7 +77,7 @@ describe('a broken pair: recorded as failed, the other pair scored, tables and r
     expect(known.pixels).toBe('0');
     expect(known.coverage).toBe('');
     expect(known['over2px']).toBe('');
-    // DESIGN.md: an empty region is left out of means over pairs; n_pairs says how many.
+    // README, "Regions and metrics": an empty region is left out of means over pairs; n_pairs says how many.
     const summary = readCsv(readFileSync(join(out('trunc'), 'summary.csv'), 'utf8')).rows;
     const row = summary.find((s) => s.region === 'known' && (s.tag ?? '') === '')!;
     expect(row.n_pairs).toBe('1');
@@ -109,7 +109,7 @@ describe('a broken pair: recorded as failed, the other pair scored, tables and r
     expect(line).toContain('64x48');
     const known = expectWentOn('sizes', join(ds.dir, 'dock-1/right.png'));
     // The truth reads: every truth pixel is finite in the fixture, so `known` has W*H
-    // pixels; DESIGN.md: a failed job scores as all-invalid (coverage 0, every rate 100 %).
+    // pixels; README, "Regions and metrics": a failed job scores as all-invalid (coverage 0, every rate 100 %).
     expect(known.pixels).toBe(String(W * H));
     expect(Number(known.coverage)).toBe(0);
     expect(Number(known['over0.25px'])).toBe(100);

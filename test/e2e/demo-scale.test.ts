@@ -1,7 +1,7 @@
 /**
  * `parallax demo` runs on the same scheduler as `parallax run` with its defaults: the
  * worker pool (--jobs, default the cores) and the result cache (--no-cache to skip it).
- * The issue's requirement; the built CLI on a 64x48 two-pair synthetic set.
+ * Source: README, "parallax demo"; the built CLI on a 64x48 two-pair synthetic set.
  */
 import { mkdtempSync, readFileSync, rmSync } from 'node:fs';
 import { tmpdir } from 'node:os';

@@ -27,7 +27,7 @@ export function splitCsvLine(line: string): string[] {
   let cur = '';
   let q = false;
   for (let i = 0; i < line.length; i++) {
-    const c = line[i]!;
+    const c = line[i];
     if (q) {
       if (c === '"' && line[i + 1] === '"') {
         cur += '"';
@@ -47,7 +47,7 @@ export function splitCsvLine(line: string): string[] {
 /** Minimal RFC 4180 reader for our own CSV files (no embedded newlines in our data). */
 export function readCsv(text: string): { header: string[]; rows: Record<string, string>[] } {
   const lines = text.trimEnd().split('\n');
-  const header = splitCsvLine(lines[0]!);
+  const header = splitCsvLine(lines[0]);
   const rows = lines.slice(1).map((l) => {
     const cells = splitCsvLine(l);
     return Object.fromEntries(header.map((h, i) => [h, cells[i] ?? '']));
@@ -60,5 +60,5 @@ export function expectOneLineError(r: CliResult): string {
   const lines = r.stderr.trimEnd().split('\n');
   if (lines.length !== 1) throw new Error(`expected one stderr line, got:\n${r.stderr}`);
   if (/^\s+at /m.test(r.stderr)) throw new Error(`stack frames in stderr:\n${r.stderr}`);
-  return lines[0]!;
+  return lines[0];
 }

@@ -41,7 +41,7 @@ describe('parallax demo (on a small synthetic dataset)', () => {
     expect(lines).toHaveLength(2 * n);
     const pairs = readFileSync(join(out, 'pairs.csv'), 'utf8');
     expect(pairs.split('\n')[0]).toBe(PAIRS_COLUMNS);
-    // one row per configuration, pair and region (5 regions, DESIGN.md)
+    // one row per configuration, pair and region (5 regions, README "Outputs")
     expect(readCsv(pairs).rows).toHaveLength(2 * n * 5);
     expect(existsSync(join(out, 'summary.csv'))).toBe(true);
     const summary = readCsv(readFileSync(join(out, 'summary.csv'), 'utf8'));
@@ -75,7 +75,7 @@ describe('scoring predictions made elsewhere', () => {
     const rows = readCsv(readFileSync(join(out, 'pairs.csv'), 'utf8')).rows.filter((x) => x.region === 'known');
     const by = new Map(rows.map((x) => [x.pair, x]));
     for (const id of ['bay-a', 'bay-c']) {
-      // A perfect prediction: |e| = 0 everywhere, so epe = 0 and over0.25px = 0 % (DESIGN.md definitions).
+      // A perfect prediction: |e| = 0 everywhere, so epe = 0 and over0.25px = 0 % (README metric table).
       expect(by.get(id)!.status).toBe('ok');
       expect(Number(by.get(id)!.epe)).toBe(0);
       expect(Number(by.get(id)!['over0.25px'])).toBe(0);

@@ -31,7 +31,7 @@ function rawU16(name: string): Uint16Array {
   for (let i = 0; i < out.length; i++) out[i] = b.readUInt16LE(2 * i);
   return out;
 }
-/** Expected in memory: infinities read as NaN (DESIGN.md). */
+/** Expected in memory: infinities read as NaN (README, "File formats"). */
 function invalidAsNaN(a: Float32Array): number[] {
   return Array.from(a, (v) => (Number.isFinite(v) ? v : NaN));
 }

@@ -1,8 +1,8 @@
 /**
  * Error cases: every user-caused problem is an InputError (or UsageError for a
  * missing option) whose one-line message names the file. Source: the parser
- * contract in DESIGN.md ("Errors a user can cause ... name the file ... one line")
- * and the format descriptions (PFM in DESIGN.md, NEP 1, PNG spec).
+ * contract in the README's "Exit codes" ("Every error a user can cause ... one line ... names it")
+ * and the format descriptions (PFM in the README's "File formats", NEP 1, PNG spec).
  */
 import { describe, expect, it } from 'vitest';
 import { InputError, UsageError } from '../../src/core/errors.js';

@@ -1,5 +1,5 @@
 /**
- * File readers and the atomic writer. Sources: DESIGN.md (formats chosen by
+ * File readers and the atomic writer. Sources: README, "File formats" (formats chosen by
  * extension, PNG truth needs a declared scale, masks non-zero = occluded, writes
  * are atomic, user errors are one-line InputErrors naming the file) and POSIX
  * rename(2) semantics (the target is replaced as a whole).
@@ -80,7 +80,7 @@ describe('readImageFile and readMaskFile', () => {
     const jpg = join(dir, 'img.jpg');
     expect((await rejection(readImageFile(jpg))).message).toMatch(/img\.jpg: images must be PNG files/);
   });
-  it('mask: non-zero = 1 (DESIGN.md occlusion masks), gray or colour, alpha ignored', async () => {
+  it('mask: non-zero = 1 (README, "File formats": masks), gray or colour, alpha ignored', async () => {
     const g = join(dir, 'mask.png');
     writeFileSync(g, encodePng({ width: 4, height: 1, channels: 1, bitDepth: 8, data: Uint8Array.of(0, 1, 255, 0) }));
     const m = await readMaskFile(g);

@@ -1,8 +1,8 @@
 /**
  * Property-based tests of every file parser with hostile input (fast-check).
  *
- * Property of the parser contract (DESIGN.md, "Errors a user can cause ... are typed,
- * name the file ... one line"; brief for src/io): for any bytes, a decoder either
+ * Property of the parser contract (README, "Exit codes": "Every error a user can cause ... is reported this way":
+ * one line naming the file or option): for any bytes, a decoder either
  * returns an image within the pixel limit or throws an InputError naming the file in
  * one line; never another exception, never a hang (CPU time), never an allocation above the
  * configured pixel limit. Inputs: random bytes, mutated valid files, and valid-looking
@@ -46,7 +46,7 @@ function checkContract(decode: (b: Uint8Array, maxPixels: number) => { width: nu
   } catch (e) {
     if (!(e instanceof InputError)) throw e; // any other exception breaks the contract
     // one line, printable ASCII only: text quoted from the file must not break the line or the terminal
-    if (!e.message.startsWith(`${NAME}: `) || /[^\x20-\x7e]/.test(e.message)) throw new Error(`not a one-line message naming the file: ${JSON.stringify(e.message)}`);
+    if (!e.message.startsWith(`${NAME}: `) || /[^\x20-\x7e]/.test(e.message)) throw new Error(`not a one-line message naming the file: ${JSON.stringify(e.message)}`, { cause: e });
     outcome = { ok: false, message: e.message };
   }
   const cpu = process.cpuUsage(cpu0);
@@ -308,13 +308,13 @@ describe('.npy decoder under hostile input', () => {
           const shapeText = `(${shape.map((d) => String(BigInt(Math.floor(d)))).join(', ')}${shape.length === 1 || trailingComma ? ',' : ''})`;
           const header = `{${q}descr${q}: ${q}${descr}${q}, ${q}fortran_order${q}: ${fortran ? 'True' : 'False'}, ${q}shape${q}: ${shapeText}${trailingComma ? ', ' : ''}}\n`;
           const size = Number(descr[2]);
-          const n = shape.length >= 2 ? shape[0]! * shape[1]! : NaN;
+          const n = shape.length >= 2 ? shape[0] * shape[1] : NaN;
           const small = n <= 4096;
           const body = new Uint8Array(Math.max(0, (small ? n * size : 16) + bodyDelta));
           const out = checkContract(decNpy, npyFile(major, header, body), mp);
           const accepted = ['<f4', '>f8', '|u1'].includes(descr) && !fortran;
           const twoD = shape.length === 2 || (shape.length === 3 && shape[2] === 1);
-          const valid = accepted && twoD && shape[0]! > 0 && shape[1]! > 0 && Number.isSafeInteger(n);
+          const valid = accepted && twoD && shape[0] > 0 && shape[1] > 0 && Number.isSafeInteger(n);
           if (valid && n > mp) {
             expect(out.ok).toBe(false);
             if (!out.ok) expect(out.message).toMatch(/above the limit/);

@@ -30,7 +30,7 @@ function floats(values: number[], little: boolean): Uint8Array {
 
 describe('PFM built by hand', () => {
   it('big-endian, scale 2.5, rows bottom to top; scale magnitude ignored; inf/NaN -> NaN', () => {
-    // DESIGN.md "Data conventions": positive scale = big-endian, rows bottom to top,
+    // README, "File formats": positive scale = big-endian, rows bottom to top,
     // magnitude ignored, infinities and NaN invalid. Bottom row first in the file.
     const bottom = [7.5, -1.25, Infinity];
     const top = [0.5, NaN, 1e-3];
@@ -42,7 +42,7 @@ describe('PFM built by hand', () => {
   });
 
   it('little-endian with mixed whitespace between tokens', () => {
-    // DESIGN.md: tokens separated by any whitespace; negative scale = little-endian.
+    // README, "File formats": tokens separated by any whitespace; negative scale = little-endian.
     const file = concat([ascii('Pf \t 2\r\n\n2   -0.5\n'), floats([3, 4], true), floats([1, 2], true)]);
     const img = decodePfm(file, 'ws.pfm');
     expect(Array.from(img.data)).toEqual([1, 2, 3, 4]); // top row = second row in the file
@@ -58,7 +58,7 @@ describe('PFM built by hand', () => {
   });
 
   it('encodePfm writes the header and bottom row first, little-endian by default', () => {
-    // Expected bytes assembled by hand from DESIGN.md's PFM layout.
+    // Expected bytes assembled by hand from the README's PFM layout ("File formats").
     const img = { width: 2, height: 2, data: Float32Array.from([1, 2, 3, 4]) };
     const le = encodePfm(img);
     expect(new Uint8Array(le)).toEqual(concat([ascii('Pf\n2 2\n-1\n'), floats([3, 4, 1, 2], true)]));
@@ -117,16 +117,16 @@ describe('PNG built by hand (ISO/IEC 15948 / W3C PNG: IHDR, IDAT zlib stream, IE
       const want: number[] = [];
       for (const r of rows) {
         if (c.bytesPerSample === 1) want.push(...r);
-        else for (let i = 0; i < r.length; i += 2) want.push((r[i]! << 8) | r[i + 1]!);
+        else for (let i = 0; i < r.length; i += 2) want.push((r[i] << 8) | r[i + 1]);
       }
       expect(Array.from(img.data)).toEqual(want);
       const ref = pngjs.PNG.sync.read(Buffer.from(file), { skipRescale: true });
       const refData = ref.data as unknown as ArrayLike<number>;
       const fromRef: number[] = [];
       for (let p = 0; p < w * h; p++) {
-        if (c.channels === 1) fromRef.push(refData[4 * p]!);
-        else if (c.channels === 2) fromRef.push(refData[4 * p]!, refData[4 * p + 3]!);
-        else fromRef.push(refData[4 * p]!, refData[4 * p + 1]!, refData[4 * p + 2]!);
+        if (c.channels === 1) fromRef.push(refData[4 * p]);
+        else if (c.channels === 2) fromRef.push(refData[4 * p], refData[4 * p + 3]);
+        else fromRef.push(refData[4 * p], refData[4 * p + 1], refData[4 * p + 2]);
       }
       expect(fromRef).toEqual(want);
     }
@@ -263,7 +263,7 @@ describe('.npy built by hand (NEP 1)', () => {
     // NEP 1: magic, version, uint16 LE header length, header padded so the data are aligned.
     const buf = new Uint8Array(encodeNpy({ width: 2, height: 1, data: Float32Array.of(1.5, -2) }));
     expect(Array.from(buf.subarray(0, 8))).toEqual([0x93, 0x4e, 0x55, 0x4d, 0x50, 0x59, 1, 0]);
-    const hlen = buf[8]! | (buf[9]! << 8);
+    const hlen = buf[8] | (buf[9] << 8);
     expect((10 + hlen) % 64).toBe(0);
     expect(buf[10 + hlen - 1]).toBe(0x0a);
     expect(String.fromCharCode(...buf.subarray(10, 10 + hlen))).toMatch(/'descr': '<f4'.*'fortran_order': False.*'shape': \(1, 2\)/);

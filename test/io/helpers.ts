@@ -24,7 +24,7 @@ const CRC_TABLE = (() => {
 /** CRC-32 per PNG spec Annex D: crc = update(0xffffffff, bytes) ^ 0xffffffff. */
 export function specCrc32(bytes: Uint8Array): number {
   let c = 0xffffffff;
-  for (let i = 0; i < bytes.length; i++) c = CRC_TABLE[(c ^ bytes[i]!) & 0xff]! ^ (c >>> 8);
+  for (let i = 0; i < bytes.length; i++) c = CRC_TABLE[(c ^ bytes[i]) & 0xff] ^ (c >>> 8);
   return (c ^ 0xffffffff) >>> 0;
 }
 
@@ -80,8 +80,8 @@ export function buildPng(header: Uint8Array, scanlines: Uint8Array, extra: Uint8
 export function be16(values: number[]): Uint8Array {
   const out = new Uint8Array(values.length * 2);
   for (let i = 0; i < values.length; i++) {
-    out[2 * i] = values[i]! >> 8;
-    out[2 * i + 1] = values[i]! & 0xff;
+    out[2 * i] = values[i] >> 8;
+    out[2 * i + 1] = values[i] & 0xff;
   }
   return out;
 }
@@ -107,7 +107,7 @@ export function adam7Scanlines(pixels: Uint8Array, width: number, height: number
     for (let y = y0; y < height; y += dy) {
       const row: number[] = [0];
       for (let x = x0; x < width; x += dx) {
-        for (let b = 0; b < bytesPerPixel; b++) row.push(pixels[(y * width + x) * bytesPerPixel + b]!);
+        for (let b = 0; b < bytesPerPixel; b++) row.push(pixels[(y * width + x) * bytesPerPixel + b]);
       }
       if (row.length > 1) parts.push(Uint8Array.from(row));
     }
@@ -140,14 +140,14 @@ export function runPython(script: string, cwd: string): string {
 export function filteredScanlines(rows: Uint8Array[], bpp: number, types: number[]): Uint8Array {
   const parts: Uint8Array[] = [];
   rows.forEach((row, y) => {
-    const t = types[y % types.length]!;
-    const prev = y > 0 ? rows[y - 1]! : new Uint8Array(row.length);
+    const t = types[y % types.length];
+    const prev = y > 0 ? rows[y - 1] : new Uint8Array(row.length);
     const out = new Uint8Array(row.length + 1);
     out[0] = t;
     for (let i = 0; i < row.length; i++) {
-      const a = i >= bpp ? row[i - bpp]! : 0;
-      const b = prev[i]!;
-      const c = i >= bpp ? prev[i - bpp]! : 0;
+      const a = i >= bpp ? row[i - bpp] : 0;
+      const b = prev[i];
+      const c = i >= bpp ? prev[i - bpp] : 0;
       let pred = 0;
       if (t === 1) pred = a;
       else if (t === 2) pred = b;
@@ -159,7 +159,7 @@ export function filteredScanlines(rows: Uint8Array[], bpp: number, types: number
         const pc = Math.abs(p - c);
         pred = pa <= pb && pa <= pc ? a : pb <= pc ? b : c;
       }
-      out[i + 1] = (row[i]! - pred) & 0xff;
+      out[i + 1] = (row[i] - pred) & 0xff;
     }
     parts.push(out);
   });

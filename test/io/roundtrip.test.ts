@@ -97,7 +97,7 @@ describe('PNG round trip', () => {
 
 describe('disparity PNG round trip', () => {
   it('16 bit, scale 256: values on the 1/256 grid come back exactly, NaN stays NaN', () => {
-    // DESIGN.md: stored = round(d * scale), invalid code 0 -> NaN.
+    // README, "File formats": stored = round(d * scale), invalid code 0 -> NaN.
     const d = Float32Array.from([0.5, 1, 100.25, NaN, 255.99609375, 12.00390625]);
     const back = decodePngDisparity(encodePngDisparity({ width: 3, height: 2, data: d }, { scale: 256 }), 'd.png', { scale: 256 });
     expect(Array.from(back.data)).toEqual(Array.from(d));
@@ -118,7 +118,7 @@ describe('disparity PNG round trip', () => {
     let worst = 0;
     for (let i = 0; i < data.length; i++) {
       if (Number.isNaN(data[i])) expect(back.data[i]).toBeNaN();
-      else worst = Math.max(worst, Math.abs(back.data[i]! - data[i]!));
+      else worst = Math.max(worst, Math.abs(back.data[i] - data[i]));
     }
     expect(worst).toBeLessThanOrEqual(0.5 / 256 + 1e-6);
   });

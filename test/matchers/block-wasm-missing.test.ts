@@ -8,10 +8,11 @@
 import { existsSync } from 'node:fs';
 import { describe, expect, it, vi } from 'vitest';
 import { randomDotStereogram } from './block-rds.js';
+import type * as WasmModule from '../../matchers/sgm/wasm.js';
 
 const target = vi.hoisted(() => ({ path: '' }));
 vi.mock('../../matchers/sgm/wasm.js', async (importOriginal) => {
-  const real = await importOriginal<typeof import('../../matchers/sgm/wasm.js')>();
+  const real = await importOriginal<typeof WasmModule>();
   return { ...real, wasmPath: (name: string) => (name === 'block' ? target.path : real.wasmPath(name)) };
 });
 
@@ -49,7 +50,7 @@ describe('block matcher without a usable wasm kernel', () => {
   });
 
   it('a module without the block exports (out of date) counts as missing', async () => {
-    const { wasmPath } = await vi.importActual<typeof import('../../matchers/sgm/wasm.js')>('../../matchers/sgm/wasm.js');
+    const { wasmPath } = await vi.importActual<typeof WasmModule>('../../matchers/sgm/wasm.js');
     const other = wasmPath('sgm')!;
     expect(existsSync(other)).toBe(true); // built by npm run build with the block kernel
     const { blockMatch, MatcherFailure } = await freshBlock(other);

@@ -3,7 +3,7 @@
  * that no one tuned on (the defaults of sgm and bp were chosen on seeds 501-504 and
  * on random-dot stereograms). Scored by src/metrics scorePair on the regions of
  * src/dataset buildRegions; rates are pooled over the scenes (bad pixels / pixels,
- * DESIGN.md's pooled figure), metric over2px.
+ * the README's pooled figure), metric over2px.
  *
  * Expectations (common practice, measured here rather than taken from a paper):
  *  - semi-global matching and belief propagation beat plain block matching (default

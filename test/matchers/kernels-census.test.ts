@@ -140,7 +140,7 @@ describe('Hamming costs', () => {
       hammingSlice(cl.bits, cr.bits, cl.words, w, h, d, slice);
       for (let p = 0; p < w * h; p++) {
         const x = p % w;
-        const inside = x - d >= 0 && x - d < w; // d = x_left - x_right (DESIGN.md convention)
+        const inside = x - d >= 0 && x - d < w; // d = x_left - x_right (README, "Datasets" conventions)
         expect(vol[p * levels + l]).toBe(inside ? slice[p] : EXCLUDED_U16);
       }
     }

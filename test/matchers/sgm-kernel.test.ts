@@ -314,7 +314,8 @@ describe('SGM WebAssembly pipeline stages', () => {
     const left = Float32Array.from({ length: W * H }, () => r() * 255);
     const right = new Float32Array(W * H);
     for (let y = 0; y < H; y++) for (let x = 0; x < W; x++) right[y * W + x] = left[y * W + Math.min(W - 1, x + 5)] + (r() - 0.5) * 20;
-    for (const params of [{}, { cost: 'bt', paths: '4', p2edge: 20 }, { censusW: 5, censusH: 5, uniq: 0, lr: 0 }]) {
+    const sets: Record<string, string | number>[] = [{}, { cost: 'bt', paths: '4', p2edge: 20 }, { censusW: 5, censusH: 5, uniq: 0, lr: 0 }];
+    for (const params of sets) {
       const input = { width: W, height: H, left, right, minDisparity: -3, maxDisparity: 13 };
       const a = await sgmMatch(input, { ...params, kernel: 'wasm' });
       const b = await sgmMatch(input, { ...params, kernel: 'ts' });

@@ -33,7 +33,7 @@ describe('metric catalogue', () => {
     const one = new Float64Array(sumColumnCount(set));
     for (const s of [a, b]) {
       readSums(s.known.sums, levelMapOf(set, set), one);
-      for (let i = 0; i < tot.length; i++) tot[i]! += one[i]!;
+      for (let i = 0; i < tot.length; i++) tot[i] += one[i];
     }
     for (const m of metricsOf(set)) {
       if (!m.pool) continue;

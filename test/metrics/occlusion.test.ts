@@ -28,7 +28,7 @@ describe('deriveOcclusion', () => {
     expect(deriveOcclusion(truth, 4, 1, 0.25, 0.25)[0]).toBe(0);
   });
 
-  it('slanted plane is not marked occluded (DESIGN.md: unlike rounding a forward warp)', () => {
+  it('slanted plane is not marked occluded (README, "Regions and metrics": unlike rounding a forward warp)', () => {
     // Hand reasoning: on d = a*x + c, q = p + k has d_q - d_p = a*k and u_q - u_p = (1-a)*k.
     // With tol = tau = 0.5 the first k with a*k > 0.5 must have (1-a)*k > 0.5:
     // a=0.3 -> k=2, 1.4 > 0.5; a=0.5 -> k=2, 1.0 > 0.5; a=0.05 -> k=11, 10.45 > 0.5;

@@ -93,7 +93,7 @@ describe('the example module plugin', () => {
   });
 
   it('hashes the module bytes: a copy hashes the same, an edit changes the hash', async () => {
-    // Definition of the module code hash (brief): sha256 over the module file's bytes.
+    // Definition of the module code hash (README, "Result cache"): sha256 over the module file's bytes.
     const a = join(tmp, 'copy-a.mjs');
     const b = join(tmp, 'copy-b.mjs');
     copyFileSync(join(REPO, EXAMPLE), a);
@@ -196,7 +196,7 @@ describe('experiment-file entries and built-in hashes', () => {
   });
 
   it('gives each built-in a stable 64-hex code hash that differs between matchers', () => {
-    // Definition (brief): id + version + hash of the matchers folder.
+    // Definition (README, "Result cache": the built-in matchers' sources): id + version + hash of the matchers folder.
     const list = builtinMatchers();
     const hashes = list.map((m) => builtinCodeHash(m));
     for (const h of hashes) expect(h).toMatch(/^[0-9a-f]{64}$/);

@@ -171,7 +171,7 @@ describe('sweeps and labels', () => {
   });
 
   it('labels list only non-default keys in schema order; bare id for defaults', () => {
-    // Label rule from the brief: `sgm:p1=8,p2=96` style, defaults omitted.
+    // Label rule (README vocabulary, "configuration"): `sgm:p1=8,p2=96` style, defaults omitted.
     const label = (params: Record<string, number | boolean | string>) =>
       configLabel('fake', SCHEMA, expandSweep('fake', SCHEMA, params)[0]);
     expect(label({})).toBe('fake');

@@ -10,8 +10,7 @@ import { join, resolve } from 'node:path';
 import { AbortedError, MatcherFailure, UsageError } from '../../src/core/errors.js';
 import { encodePng } from '../../src/io/png.js';
 import type { MatchInput, MatchOutput, ParamValues } from '../../src/core/matcher.js';
-import { parseProgramMatcherDef, programMatcher, type ProgramMatcherPlugin } from '../../src/plugins/program/index.js';
-import { programCodeHash } from '../../src/plugins/program/index.js';
+import { parseProgramMatcherDef, programCodeHash, programMatcher, type ProgramMatcherDefInput, type ProgramMatcherPlugin } from '../../src/plugins/program/index.js';
 import { lcg32 } from '../support/rng.js';
 
 const REPO = resolve(__dirname, '..', '..');
@@ -142,7 +141,8 @@ function input(pairId: string, withSource = true): MatchInput {
   };
 }
 
-const perPairDef = (extra: Record<string, unknown> = {}) => ({
+// Definitions as an experiment file holds them (plain JSON); programMatcher validates them at run time.
+const perPairDef = (extra: Record<string, unknown> = {}): ProgramMatcherDefInput => ({
   id: 'fake',
   command: [process.execPath, 'fake.mjs', '{param:mode}', '{left}', '{right}', '{out}', '{minDisparity}', '{maxDisparity}', '{pairId}', 'pids.txt'],
   output: { format: 'pfm' },
@@ -157,7 +157,7 @@ const perPairDef = (extra: Record<string, unknown> = {}) => ({
     },
   ],
   ...extra,
-});
+}) as ProgramMatcherDefInput;
 
 async function run(p: ProgramMatcherPlugin, inp: MatchInput, params: ParamValues, signal = new AbortController().signal): Promise<MatchOutput> {
   const r = await p.match(inp, params, signal);
@@ -227,7 +227,7 @@ describe('program definitions', () => {
   });
 
   it('hash the program file: the same script hashes the same, an edited one differently', () => {
-    // Definition (brief): program file bytes plus the command line.
+    // Definition (README, "Result cache"): program file bytes plus the command line.
     const def = perPairDef();
     const h1 = programCodeHash(def, tmp);
     expect(h1).toBe(programCodeHash(def, tmp));
@@ -341,7 +341,7 @@ describe('per-pair programs', () => {
 });
 
 describe('long-lived programs', () => {
-  const serverDef = (extra: Record<string, unknown> = {}) => ({
+  const serverDef = (extra: Record<string, unknown> = {}): ProgramMatcherDefInput => ({
     id: 'server',
     mode: 'long-lived',
     command: [process.execPath, 'server.mjs'],
@@ -350,7 +350,7 @@ describe('long-lived programs', () => {
     env: { PIDS_FILE: join(tmp, 'server-pids.txt') },
     params: [{ name: 'level', type: 'int', default: 1, min: 0, max: 9, description: 'added to minDisparity' }],
     ...extra,
-  });
+  }) as ProgramMatcherDefInput;
   const starts = () => readFileSync(join(tmp, 'server-pids.txt'), 'utf8').trim().split('\n').map(Number);
 
   it('answer requests, restart after a crash, a timeout or a protocol error, and stop on dispose', async () => {

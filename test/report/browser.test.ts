@@ -1,3 +1,4 @@
+/// <reference lib="dom" /> -- the page.evaluate callbacks below run in the browser
 /**
  * The report in a real browser: Debian's chromium driven by playwright-core, the page
  * opened from disk (file://). Checks: no console errors, no page errors, no dialogs, no
@@ -99,7 +100,7 @@ describe('HTML report in chromium', () => {
 
     // Tag selector: only the pairs tagged wet-floor (2 of 4) count.
     await page.selectOption('#sel-tag', 'wet-floor');
-    const pairsCol = await page.$$eval('#rank-table tbody tr', (trs) => trs.map((tr) => Number(tr.children[1]!.firstChild!.textContent)));
+    const pairsCol = await page.$$eval('#rank-table tbody tr', (trs) => trs.map((tr) => Number(tr.children[1].firstChild!.textContent)));
     expect(pairsCol).toEqual(CONFIGS.map(() => 2));
     await page.selectOption('#sel-tag', '');
 

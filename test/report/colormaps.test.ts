@@ -34,15 +34,15 @@ describe('colour maps', () => {
     it(`${name}: all 256 entries equal matplotlib's table rounded to the nearest 1/255`, () => {
       const t = colorTable(name);
       expect(t.length).toBe(768);
-      const want = ref[name]!;
+      const want = ref[name];
       expect(want.length).toBe(256);
       let worst = 0;
       for (let i = 0; i < 256; i++) {
         for (let c = 0; c < 3; c++) {
-          const f = want[i]![c]! * 255;
+          const f = want[i][c] * 255;
           // Exact rounding of matplotlib's float (source: matplotlib, read above).
           expect(t[i * 3 + c], `${name}[${i}][${c}]`).toBe(Math.round(f));
-          worst = Math.max(worst, Math.abs(t[i * 3 + c]! - f));
+          worst = Math.max(worst, Math.abs(t[i * 3 + c] - f));
         }
       }
       expect(worst).toBeLessThanOrEqual(0.5);
@@ -65,7 +65,7 @@ describe('colour maps', () => {
       const t = colorTable(name);
       let prev = -1;
       for (let i = 0; i < 256; i += 4) {
-        const y = luminance(t[i * 3]!, t[i * 3 + 1]!, t[i * 3 + 2]!);
+        const y = luminance(t[i * 3], t[i * 3 + 1], t[i * 3 + 2]);
         expect(y, `${name}[${i}]`).toBeGreaterThan(prev);
         prev = y;
       }

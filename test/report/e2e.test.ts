@@ -31,7 +31,7 @@ describe('run -> compare -> report through the CLI', () => {
         const t = decodePfm(await readFile(join(datasetDir, `${id}-d.pfm`)), id);
         const d = new Float32Array(t.data.length);
         // good: |e| < 0.3 px; bad: 30 % of pixels off by 5 px (so above every threshold).
-        for (let i = 0; i < d.length; i++) d[i] = (Number.isFinite(t.data[i]!) ? t.data[i]! : 10) + (rng.next() - 0.5) * 0.6 + (rng.next() < bad ? 5 : 0);
+        for (let i = 0; i < d.length; i++) d[i] = (Number.isFinite(t.data[i]) ? t.data[i] : 10) + (rng.next() - 0.5) * 0.6 + (rng.next() < bad ? 5 : 0);
         await writeFile(join(root, name, `${id}.pfm`), encodePfm({ width: t.width, height: t.height, data: d }));
       }
     }
@@ -51,7 +51,7 @@ describe('run -> compare -> report through the CLI', () => {
     expect(await runCli(['compare', base, cand, '--gate', 'visible/sharpness:1'], io)).toBe(2);
 
     expect(await runCli(['report', base, '--resamples', '200'], io)).toBe(0);
-    // Only the two perceptual disparity maps are offered (DESIGN: no rainbow map); a usage error exits 2.
+    // Only the two perceptual disparity maps are offered (README, "Reading the report": perceptual maps, no rainbow); a usage error exits 2.
     expect(await runCli(['report', base, '--disparity-colors', 'jet'], io)).toBe(2);
     expect(errs.join('')).toContain('--disparity-colors: must be viridis or cividis');
     const html = await readFile(join(base, 'index.html'), 'utf8');

@@ -51,7 +51,7 @@ describe('streamed HTML report', () => {
     // The embedded data still parses as JSON (RFC 8259) and carries every pair.
     const m = /<script type="application\/json" id="plx-data">([^<]*)<\/script>/.exec(written);
     expect(m).not.toBeNull();
-    const data = JSON.parse(m![1]!) as { pairs: { pair: string; jobs: unknown[] }[] };
+    const data = JSON.parse(m![1]) as { pairs: { pair: string; jobs: unknown[] }[] };
     expect(data.pairs.map((p) => p.pair)).toEqual(Array.from({ length: PAIRS }, (_, k) => `p${String(k).padStart(3, '0')}`));
     expect(data.pairs.every((p) => p.jobs.length === 3)).toBe(true);
   });
@@ -65,8 +65,8 @@ describe('streamed HTML report', () => {
     expect(perPiece.reduce((a, b) => a + b, 0)).toBe(PAIRS);
     // head + one piece per pair + tail
     expect(pieces.length).toBe(PAIRS + 2);
-    expect(pieces[0]!.startsWith('<!doctype html>')).toBe(true);
-    expect(pieces[pieces.length - 1]!.endsWith('</html>\n')).toBe(true);
+    expect(pieces[0].startsWith('<!doctype html>')).toBe(true);
+    expect(pieces[pieces.length - 1].endsWith('</html>\n')).toBe(true);
   });
 
   it('gives the same page from the results in hand as from results.jsonl (writeRunOutputs passes them)', async () => {

@@ -13,15 +13,23 @@ function parseCsv(text: string): string[][] {
   let cell = '';
   let q = false;
   for (let i = 0; i < text.length; i++) {
-    const c = text[i]!;
+    const c = text[i];
     if (q) {
-      if (c === '"' && text[i + 1] === '"') (cell += '"'), i++;
-      else if (c === '"') q = false;
+      if (c === '"' && text[i + 1] === '"') {
+        cell += '"';
+        i++;
+      } else if (c === '"') q = false;
       else cell += c;
     } else if (c === '"') q = true;
-    else if (c === ',') row.push(cell), (cell = '');
-    else if (c === '\n') row.push(cell), rows.push(row), (row = []), (cell = '');
-    else cell += c;
+    else if (c === ',') {
+      row.push(cell);
+      cell = '';
+    } else if (c === '\n') {
+      row.push(cell);
+      rows.push(row);
+      row = [];
+      cell = '';
+    } else cell += c;
   }
   return rows;
 }
@@ -34,11 +42,11 @@ describe('summaryCsvText', () => {
     ];
     const rows = aggregate(jobs, { thresholds: T, quantiles: DEFAULT_QUANTILES, ci: false });
     const csv = parseCsv(summaryCsvText(rows, { thresholds: T, quantiles: DEFAULT_QUANTILES }));
-    const h = csv[0]!;
+    const h = csv[0];
     expect(h.slice(0, 4)).toEqual(['matcher', 'dataset', 'region', 'tag']);
     expect(h).toContain('mean_over2px');
     expect(h).toContain('pooled_over2px');
-    expect(h).not.toContain('pooled_q50'); // no pooled quantiles (DESIGN.md)
+    expect(h).not.toContain('pooled_q50'); // no pooled quantiles (README metric table)
     const vis = csv.find((r) => r[2] === 'visible')!;
     const col = (name: string) => vis[h.indexOf(name)];
     // Hand computation: only pair a has visible pixels; over2px = 2 of 4 -> 50 %.

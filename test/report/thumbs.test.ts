@@ -122,9 +122,9 @@ describe('blockMeanThumb', () => {
     const got = blockMeanThumb({ width: w, height: h, data }, pf, f);
     expect(got.data.length).toBe(want.length);
     for (let i = 0; i < want.length; i++) {
-      if (Number.isNaN(want[i]!)) expect(got.data[i]).toBeNaN();
+      if (Number.isNaN(want[i])) expect(got.data[i]).toBeNaN();
       // float64 sums in a different order: equal to float32 rounding.
-      else expect(Math.abs(got.data[i]! - want[i]!)).toBeLessThanOrEqual(Math.abs(want[i]!) * 2e-7);
+      else expect(Math.abs(got.data[i] - want[i])).toBeLessThanOrEqual(Math.abs(want[i]) * 2e-7);
     }
   });
 });
@@ -143,7 +143,7 @@ describe('colour levels', () => {
     for (const i of t.index) expect([p[i * 3], p[i * 3 + 1], p[i * 3 + 2]]).toEqual([...NO_TRUTH]);
     // Hatch: (x + y) & 3 < 2 is dark (x = 0, 1), else light (x = 2, 3) (thumbs.ts definition).
     const h = colorizeDisparity({ width: 4, height: 1, data: Float32Array.from([NaN, NaN, NaN, NaN]) }, 10, 20);
-    const rgb = (i: number) => [h.palette[h.index[i]! * 3], h.palette[h.index[i]! * 3 + 1], h.palette[h.index[i]! * 3 + 2]];
+    const rgb = (i: number) => [h.palette[h.index[i] * 3], h.palette[h.index[i] * 3 + 1], h.palette[h.index[i] * 3 + 2]];
     expect([rgb(0), rgb(1), rgb(2), rgb(3)]).toEqual([[...HATCH_DARK], [...HATCH_DARK], [...HATCH_LIGHT], [...HATCH_LIGHT]]);
   });
 

@@ -45,7 +45,7 @@ describe('match time', () => {
 
   it('time_ms is the self-reported time when there is one, wall_ms the wall time around match()', async () => {
     const ds = writeDataset(join(root, 'ds-time'), { ids: ['bay-1'] });
-    // The issue's requirement: a program's `time_ms` reply (MatchOutput.selfTimeMs) is the match time.
+    // README, "Outputs": a program's `time_ms` reply (MatchOutput.selfTimeMs) is the match time.
     const reporting: MatcherPlugin = {
       id: 'reporting',
       summary: 'sleeps 60 ms, reports 5 ms (test only)',
@@ -121,7 +121,7 @@ describe('broken pairs', () => {
     // Hand-made 4x1 truth: two finite values, one NaN (unknown), one finite.
     const truth = { width: 4, height: 1, data: new Float32Array([1, 1, NaN, 1]) };
     const s = truthOnlyScores(truth, undefined, undefined, DEFAULT_REGION_PARAMS, { thresholds: [1, 2], quantiles: DEFAULT_QUANTILES });
-    // known = finite truth = 3 pixels (DESIGN.md regions); failed job = every known pixel bad.
+    // known = finite truth = 3 pixels (README, "Regions and metrics"); failed job = every known pixel bad.
     expect(s.known.figures.pixels).toBe(3);
     expect(s.known.figures.coverage).toBe(0);
     expect(s.known.figures.rates).toEqual([100, 100]);
@@ -157,7 +157,7 @@ describe('broken pairs', () => {
       { thresholds: th, quantiles: DEFAULT_QUANTILES, ci: false },
     );
     const known = rows.find((r) => r.region === 'known' && r.tag === null)!;
-    // DESIGN.md: an empty region is left out of means over pairs; n_pairs says how many.
+    // README, "Regions and metrics": an empty region is left out of means over pairs; n_pairs says how many.
     expect(known.n_pairs).toBe(1);
     expect(known.n_jobs).toBe(2);
   });

@@ -141,7 +141,7 @@ describe('executeRun', () => {
     const results = lines.map((l) => JSON.parse(l) as JobResult);
     const ok = results.find((r) => r.matcher === 'oracle')!;
     expect(ok.status).toBe('ok');
-    // Prediction == truth: epe 0 and every bad-pixel rate 0 (DESIGN.md definitions: |e| > t).
+    // Prediction == truth: epe 0 and every bad-pixel rate 0 (README metric table: |e| > t).
     expect(ok.scores.known.figures.epe).toBe(0);
     expect(ok.scores.known.figures.rates).toEqual([0, 0, 0, 0, 0]);
     expect(ok.scores.known.figures.coverage).toBe(100);
@@ -150,7 +150,7 @@ describe('executeRun', () => {
     const bad = results.find((r) => r.matcher === 'thrower')!;
     expect(bad.status).toBe('failed');
     expect(bad.error).toBe('kaboom | second line');
-    // A failed job scores as all-invalid (DESIGN.md): coverage 0, every rate 100 %, errors empty.
+    // A failed job scores as all-invalid (README, "Regions and metrics"): coverage 0, every rate 100 %, errors empty.
     expect(bad.scores.known.figures.coverage).toBe(0);
     expect(bad.scores.known.figures.rates).toEqual([100, 100, 100, 100, 100]);
     expect(bad.scores.known.figures.epe).toBeNull();
@@ -251,6 +251,6 @@ describe('console table', () => {
     const lines = text.trimEnd().split('\n');
     expect(lines).toHaveLength(3); // header, rule, one row
     // Values as given above, formatted to the documented digits.
-    expect(lines[2]!.split(/\s+/)).toEqual(['block', 'dock', '2', '1', '50.0', '1.500', '75.00', '50.0', '-', '75.00', '12.3']);
+    expect(lines[2].split(/\s+/)).toEqual(['block', 'dock', '2', '1', '50.0', '1.500', '75.00', '50.0', '-', '75.00', '12.3']);
   });
 });

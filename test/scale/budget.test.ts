@@ -1,6 +1,6 @@
 /**
  * The pool and the matchers share one thread budget (MatchInput.threads =
- * max(1, floor(budget / jobs)), the issue's rule), module plugins run in the worker
+ * max(1, floor(budget / jobs)), the README's `--threads` rule), module plugins run in the worker
  * threads, and program plugins (run from the main thread) work next to the pool.
  */
 import { mkdtempSync, readFileSync, rmSync, writeFileSync } from 'node:fs';

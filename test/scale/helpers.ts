@@ -64,7 +64,7 @@ export async function waitFor(pred: () => boolean, ms: number, what: string): Pr
  */
 export function tableWithoutTimings(file: string): string[] {
   const lines = readFileSync(file, 'utf8').trimEnd().split('\n');
-  const header = splitCsvLine(lines[0]!);
+  const header = splitCsvLine(lines[0]);
   const keep = header.map((h, i) => (/time_ms|peak_mb/.test(h) ? -1 : i)).filter((i) => i >= 0);
   return lines.map((l) => {
     const cells = splitCsvLine(l);

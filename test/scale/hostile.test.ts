@@ -1,6 +1,6 @@
 /**
  * Hostile input for the two files a user hands the runner: the dataset manifest
- * (dataset.json) and the experiment file. Property (DESIGN.md: errors a user can cause
+ * (dataset.json) and the experiment file. Property (README, "Exit codes": errors a user can cause
  * are typed, name the file and read as one line): for any input — random JSON values,
  * mutated valid files, random strings — the parser either returns a usable result or
  * throws an InputError / UsageError whose message names the file in one line; never
@@ -64,7 +64,7 @@ function mutate(base: unknown, muts: Mutation[]): unknown {
   let doc: unknown = JSON.parse(JSON.stringify(base));
   for (const m of muts) {
     const all = paths(doc);
-    const p = all[m.at % all.length]!;
+    const p = all[m.at % all.length];
     const value = structuredClone(m.value); // values never shared between documents
     if (p.length === 0) {
       if (m.op === 'set') doc = value;
@@ -72,7 +72,7 @@ function mutate(base: unknown, muts: Mutation[]): unknown {
     }
     let parent = doc as Record<string | number, unknown>;
     for (const k of p.slice(0, -1)) parent = parent[k] as Record<string | number, unknown>;
-    const last = p[p.length - 1]!;
+    const last = p[p.length - 1];
     if (m.op === 'set') parent[last] = value;
     else if (m.op === 'delete') {
       if (Array.isArray(parent)) parent.splice(Number(last), 1);
@@ -96,7 +96,7 @@ function contract<T>(file: string, parse: () => T): T | undefined {
     // As the CLI prints it (app.ts oneLine folds the lines of a message that quotes a
     // key holding a newline, which zod's "Unrecognized key" text does).
     const printed = oneLine(e.message);
-    if (!printed.startsWith(file) || printed.includes('\n')) throw new Error(`not a one-line message naming the file: ${JSON.stringify(printed.slice(0, 300))}`);
+    if (!printed.startsWith(file) || printed.includes('\n')) throw new Error(`not a one-line message naming the file: ${JSON.stringify(printed.slice(0, 300))}`, { cause: e });
   }
   const cpu = process.cpuUsage(cpu0);
   const ms = (cpu.user + cpu.system) / 1000;
@@ -182,7 +182,7 @@ function checkExperimentText(text: string | Uint8Array): void {
   const s = contract(expFile, () => loadExperimentFile(expFile));
   if (!s) return;
   for (let i = 1; i < s.thresholds.length; i++) {
-    if (!(s.thresholds[i]! > s.thresholds[i - 1]!)) throw new Error(`thresholds not ascending and distinct: ${s.thresholds.join(',')}`);
+    if (!(s.thresholds[i] > s.thresholds[i - 1])) throw new Error(`thresholds not ascending and distinct: ${s.thresholds.join(',')}`);
   }
   if (s.thresholds.some((t) => !(Number.isFinite(t) && t > 0))) throw new Error('accepted a threshold <= 0');
   if (s.datasets.length < 1 || s.datasets.some((d) => !d.startsWith(sep))) throw new Error('datasets not absolute');

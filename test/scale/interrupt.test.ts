@@ -2,7 +2,7 @@
  * Interrupted runs, for real: a child `parallax run` is killed (SIGKILL), or stopped
  * with SIGINT / SIGTERM, part way; the journal must hold only whole lines and
  * `--resume` must finish the run with the tables of an uninterrupted one (timing
- * columns aside). Source of every check: the issue "Runs that scale and survive"
+ * columns aside). Source of every check: the README's "Scaling out: jobs, resume, cache, shards"
  * (exit code 130 for Ctrl-C and 143 for SIGTERM: the shell convention 128 + the
  * signal's number, SIGINT 2 and SIGTERM 15).
  * The jobs are made slow on purpose by a module plugin that waits per pair.
@@ -84,7 +84,7 @@ describe('stopped with a signal', () => {
       const last = ex.stderr.trim().split('\n').pop()!;
       expect(last).toMatch(new RegExp(`resume with: parallax run --resume ${dir.replace(/[.*+?^${}()|[\]\\]/g, '\\$&')}$`));
       expect(ex.stderr).not.toMatch(/^\s+at /m); // no stack trace
-      // With the pool, jobs in flight are cancelled, not finished (the issue's requirement).
+      // With the pool, jobs in flight are cancelled, not finished (README, "Scaling out").
       if (sig === 'SIGINT') expect(ex.stderr).toContain('jobs in flight are cancelled');
       expect(ex.stderr).not.toContain('after the current job');
       const text = readFileSync(journal, 'utf8');

@@ -2,7 +2,7 @@
  * Scaled runs end to end through the built CLI (bin/parallax.js -> dist/): the worker
  * pool, the result cache, shards and merge, resume after a torn journal line, and the
  * refusal of dataset paths that leave the folder through a symbolic link.
- * Behavioural checks; their source is the issue "Runs that scale and survive" unless
+ * Behavioural checks; their source is the README's "Scaling out: jobs, resume, cache, shards" unless
  * a comment names another.
  */
 import { cpSync, mkdirSync, mkdtempSync, readFileSync, rmSync, symlinkSync, truncateSync, appendFileSync, writeFileSync, statSync } from 'node:fs';
@@ -52,7 +52,7 @@ describe('worker pool', () => {
     expectSameTables(ref, out);
     // The pair rows really came out of the table writer sorted (pairs.csv sorts by matcher, dataset, pair).
     const rows = tableWithoutTimings(join(out, 'pairs.csv')).slice(1);
-    expect(rows.length).toBe(PAIRS * 2 * 5); // 5 regions (DESIGN.md)
+    expect(rows.length).toBe(PAIRS * 2 * 5); // 5 regions (README, "Regions and metrics")
   }, 120_000);
 });
 
@@ -129,7 +129,7 @@ describe('shards and merge', () => {
     for (const k of keys) expect(k).toHaveLength(4);
     expect(keys.flat().sort()).toEqual(jobKeys(ref));
     const pairsOf = (k: string[]): Set<string> => new Set(k.map((s) => s.split('/')[1]));
-    expect([...pairsOf(keys[0]!)].filter((p) => pairsOf(keys[1]!).has(p) || pairsOf(keys[2]!).has(p))).toEqual([]);
+    expect([...pairsOf(keys[0])].filter((p) => pairsOf(keys[1]).has(p) || pairsOf(keys[2]).has(p))).toEqual([]);
     const out = join(root, 'merged');
     const m = parallax(['merge', ...dirs, '--out', out], root);
     expect(m.stderr).toBe('');
@@ -139,7 +139,7 @@ describe('shards and merge', () => {
     expect(JSON.parse(readFileSync(join(out, 'run.json'), 'utf8')).status).toBe('complete');
     // The same shard twice: identical duplicates are kept once.
     const out2 = join(root, 'merged-dup');
-    const m2 = parallax(['merge', dirs[0]!, ...dirs, '--out', out2], root);
+    const m2 = parallax(['merge', dirs[0], ...dirs, '--out', out2], root);
     expect(m2.code).toBe(0);
     expect(m2.stdout).toContain('4 duplicate job(s) kept once');
     expectSameTables(ref, out2);
@@ -157,7 +157,7 @@ describe('shards and merge', () => {
     const forged = join(root, 'forged');
     cpSync(join(root, 'shard-1'), forged, { recursive: true });
     const lines = readFileSync(join(forged, 'results.jsonl'), 'utf8').trimEnd().split('\n');
-    const first = JSON.parse(lines[0]!);
+    const first = JSON.parse(lines[0]);
     first.scores.known.sums.sumAbs += 1;
     lines[0] = JSON.stringify(first);
     writeFileSync(join(forged, 'results.jsonl'), lines.join('\n') + '\n');
@@ -176,7 +176,7 @@ describe('resume', () => {
     expect(lines).toHaveLength(PAIRS * 2);
     // Keep 7 whole lines, then half of the 8th without its newline (a write cut short).
     writeFileSync(journal, lines.slice(0, 7).join('\n') + '\n');
-    appendFileSync(journal, lines[7]!.slice(0, Math.floor(lines[7]!.length / 2)));
+    appendFileSync(journal, lines[7].slice(0, Math.floor(lines[7].length / 2)));
     const before = statSync(journal).size;
     truncateSync(join(dir, 'pairs.csv'), 0);
     const r = parallax(['run', '--resume', dir, '--jobs', '2', '--no-cache', '-q'], root);

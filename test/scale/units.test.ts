@@ -49,7 +49,7 @@ describe('shards', () => {
           expect(shards.flat().map(key).sort()).toEqual(all.map(key).sort());
           // Order inside a shard is the sorted order of the full list.
           const pos = new Map(all.map((k, i) => [key(k), i]));
-          for (const s of shards) for (let i = 1; i < s.length; i++) expect(pos.get(key(s[i]!))!).toBeGreaterThan(pos.get(key(s[i - 1]!))!);
+          for (const s of shards) for (let i = 1; i < s.length; i++) expect(pos.get(key(s[i]))!).toBeGreaterThan(pos.get(key(s[i - 1]))!);
           // A pair's configurations stay together, and shares differ by at most one pair.
           const pairCounts = shards.map((s) => groupByPair(s).length);
           for (const s of shards) for (const g of groupByPair(s)) expect(g).toHaveLength(nLabels);
@@ -142,7 +142,7 @@ describe('cache entries', () => {
     expect(c.get(key, 5, 2)).toBeUndefined(); // another size: not this entry
     expect(listEntries(dir)).toHaveLength(0); // ...and such an entry is dropped
     await c.put(key, { width: 4, height: 2, data, timeMs: 3, peakMb: 1, matcherId: 'block' });
-    const file = listEntries(dir)[0]!.path;
+    const file = listEntries(dir)[0].path;
     appendFileSync(file, 'xx');
     expect(c.get(key, 4, 2)).toBeUndefined();
     expect(existsSync(file)).toBe(false);
@@ -155,16 +155,16 @@ describe('cache entries', () => {
     const keys = ['01', '02', '03', '04'].map((p) => p.repeat(32));
     for (const k of keys) await c.put(k, { width: 4, height: 2, data, timeMs: 1, peakMb: 1, matcherId: 'm' });
     const entries = listEntries(dir);
-    const size = entries[0]!.bytes;
+    const size = entries[0].bytes;
     // Last use: key 3 oldest, then 1, then 4, then 2 (hand-set modification times).
     const t = Date.now() / 1000;
     const ages: Record<string, number> = { '01': 300, '02': 100, '03': 400, '04': 200 };
     for (const e of entries) {
-      const age = ages[e.path.split('/').pop()!.slice(0, 2)]!;
+      const age = ages[e.path.split('/').pop()!.slice(0, 2)];
       utimesSync(e.path, t - age, t - age);
     }
     // A hit refreshes: key 3 becomes the newest.
-    expect(c.get(keys[2]!, 4, 2)).toBeDefined();
+    expect(c.get(keys[2], 4, 2)).toBeDefined();
     const r = pruneCache(dir, 2 * size);
     expect(r).toEqual({ removed: 2, freedBytes: 2 * size, entries: 2, bytes: 2 * size });
     const left = listEntries(dir).map((e) => e.path.split('/').pop()!.slice(0, 2)).sort();
@@ -233,8 +233,8 @@ describe('configuration comparison (--resume, merge)', () => {
   it('agrees when only paths or the order of configurations differ', () => {
     const b = clone();
     b.matchers.reverse();
-    b.datasets[0]!.path = '/elsewhere/dock';
-    b.datasets[0]!.manifest = '/elsewhere/dock/dataset.json';
+    b.datasets[0].path = '/elsewhere/dock';
+    b.datasets[0].manifest = '/elsewhere/dock/dataset.json';
     expect(configDifference(cfg, b)).toBeUndefined();
   });
 
@@ -246,13 +246,13 @@ describe('configuration comparison (--resume, merge)', () => {
     r.regions.flatThreshold = 5;
     expect(configDifference(cfg, r)).toMatch(/region parameters differ/);
     const d = clone();
-    d.datasets[0]!.hash = 'd2';
+    d.datasets[0].hash = 'd2';
     expect(configDifference(cfg, d)).toMatch(/dataset "dock" differs/);
     const p = clone();
-    p.matchers[1]!.params = { window: 7 };
+    p.matchers[1].params = { window: 7 };
     expect(configDifference(cfg, p)).toMatch(/configuration "census" differs/);
     const c = clone();
-    c.matchers[0]!.codeHash = 'h9';
+    c.matchers[0].codeHash = 'h9';
     expect(configDifference(cfg, c)).toMatch(/configuration "block" differs/);
     const m = clone();
     m.matchers.pop();

@@ -9,7 +9,7 @@ const N = NaN;
 // Three pairs, region `visible`:
 //  A: errors [0.5, -1.5, 3, invalid]           (4 pixels, 3 valid)
 //  B: visible region empty                      (0 pixels)
-//  C: failed job -> all-invalid over 2 pixels   (DESIGN.md: coverage 0, rates 100, errors empty)
+//  C: failed job -> all-invalid over 2 pixels   (README, "Regions and metrics": coverage 0, rates 100, errors empty)
 function threePairs() {
   return [
     makeJob({ pair: 'a', time_ms: 10, errors: { all: [0.5, -1.5, 3, N] } }, T),
@@ -41,11 +41,11 @@ describe('aggregate', () => {
     expect(m.bias!.mean).toBeCloseTo(2 / 3, 12);
     // over1px: A has 1.5, 3 and the invalid pixel -> 3/4 = 75 %; C 100 %.
     //   mean (75+100)/2 = 87.5; pooled (3+2)/(4+2) = 83.33 %.
-    expect(m['over1px']!.mean).toBeCloseTo(87.5, 12);
-    expect(m['over1px']!.pooled).toBeCloseTo((100 * 5) / 6, 12);
+    expect(m['over1px'].mean).toBeCloseTo(87.5, 12);
+    expect(m['over1px'].pooled).toBeCloseTo((100 * 5) / 6, 12);
     // over2px: A has 3 and the invalid -> 50 %; C 100 % -> mean 75; pooled 4/6.
-    expect(m['over2px']!.mean).toBeCloseTo(75, 12);
-    expect(m['over2px']!.pooled).toBeCloseTo((100 * 4) / 6, 12);
+    expect(m['over2px'].mean).toBeCloseTo(75, 12);
+    expect(m['over2px'].pooled).toBeCloseTo((100 * 4) / 6, 12);
     // q50 of A's |e| = [0.5, 1.5, 3] is 1.5 (numpy linear); no pooled quantiles.
     expect(m.q50!.mean).toBeCloseTo(1.5, 12);
     expect(m.q50!.pooled).toBeNull();
@@ -78,7 +78,7 @@ describe('aggregate', () => {
     for (let i = shuffled.length - 1; i > 0; i--) {
       s = (s * 1103515245 + 12345) % 2147483648;
       const j = s % (i + 1);
-      [shuffled[i], shuffled[j]] = [shuffled[j]!, shuffled[i]!];
+      [shuffled[i], shuffled[j]] = [shuffled[j], shuffled[i]];
     }
     const a = aggregate(jobs, { thresholds: T, quantiles: DEFAULT_QUANTILES, ci: { resamples: 200, seed: 7 } });
     const b = aggregate(shuffled, { thresholds: T, quantiles: DEFAULT_QUANTILES, ci: { resamples: 200, seed: 7 } });

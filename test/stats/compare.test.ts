@@ -86,7 +86,7 @@ describe('parallax compare', () => {
       { dir: f.worse, info: { config: { thresholds: T, quantiles: [...DEFAULT_QUANTILES], regions: {}, datasets: [] } }, results: worse },
       { bootstrap: { resamples: 200 } },
     );
-    const d = c.configs[0]!.deltas.find((x) => x.region === 'visible' && x.metric === 'over2px')!;
+    const d = c.configs[0].deltas.find((x) => x.region === 'visible' && x.metric === 'over2px')!;
     // By hand: per pair, rate = 100 * #(|e| > 2) / 30; mean over pairs of (worse - base).
     const rate = (j: (typeof base)[number]) => j.scores.visible.figures.rates[1]!;
     const hand = worse.reduce((s, j, i) => s + rate(j) - rate(base[i]!), 0) / 12;
@@ -97,7 +97,7 @@ describe('parallax compare', () => {
     expect(d.p).toBeCloseTo(2 / 4096, 15);
     expect(d.changeCi!.lo).toBeGreaterThan(0);
     // coverage is higher-better: the sign of the worsening is flipped.
-    const cov = c.configs[0]!.deltas.find((x) => x.region === 'known' && x.metric === 'coverage')!;
+    const cov = c.configs[0].deltas.find((x) => x.region === 'known' && x.metric === 'coverage')!;
     expect(cov.worsening).toBe(0);
   });
 
@@ -152,8 +152,8 @@ describe('parallax compare', () => {
     const info = { config: { thresholds: T, quantiles: [...DEFAULT_QUANTILES], regions: {}, datasets: [] } };
     const c = compareRuns({ dir: 'a', info, results: base }, { dir: 'b', info, results: cand }, { bootstrap: { resamples: 1000 } });
     const gate = parseGate('known/epe:0.15', { thresholds: T, quantiles: DEFAULT_QUANTILES });
-    const loose = evaluateGates(c, [gate], false)[0]!;
-    const strict = evaluateGates(c, [gate], true)[0]!;
+    const loose = evaluateGates(c, [gate], false)[0];
+    const strict = evaluateGates(c, [gate], true)[0];
     expect(loose.worsening).toBeCloseTo(0.7 / 6, 12);
     // Mean 0.117 <= 0.15 passes; the upper interval bound lies above 0.15 (the largest
     // difference is 0.3), so non-inferiority at 0.15 is not shown.

@@ -9,7 +9,7 @@ function q(sorted: number[], p: number): number | null {
   const pos = p * (sorted.length - 1);
   const lo = Math.floor(pos);
   const f = pos - lo;
-  return f === 0 ? sorted[lo]! : sorted[lo]! + f * (sorted[lo + 1]! - sorted[lo]!);
+  return f === 0 ? sorted[lo] : sorted[lo] + f * (sorted[lo + 1] - sorted[lo]);
 }
 
 /**
@@ -58,7 +58,7 @@ export function makeJob(spec: JobSpec, thresholds: number[]): JobResult {
   for (const r of REGION_IDS) scores[r] = regionFromErrors(spec.errors[r] ?? spec.errors.all, thresholds);
   const job: JobResult = {
     matcher: spec.matcher ?? 'block',
-    matcherId: (spec.matcher ?? 'block').split(':')[0]!,
+    matcherId: (spec.matcher ?? 'block').split(':')[0],
     params: {},
     dataset: spec.dataset ?? 'dock',
     pair: spec.pair,

@@ -15,7 +15,7 @@ describe('sign-flip permutation test', () => {
     ];
     expect(new Set(patterns).size).toBe(32);
     const sums = patterns.map((p) => d.reduce((s, v, i) => s + (p[i] === '+' ? v : -v), 0));
-    const extreme = patterns.filter((_, k) => Math.abs(sums[k]!) >= 4.25 - 1e-12);
+    const extreme = patterns.filter((_, k) => Math.abs(sums[k]) >= 4.25 - 1e-12);
     // By hand: a pattern's sum is 4.25 - 2F, F = sum of the flipped d_i; |.| >= 4.25 iff
     // F <= 0 (flip nothing, {-0.5}, {-0.5, 0.25}) or F >= 4.25 ({1,2,1.5}, all but -0.5, all):
     // 6 patterns: +++++, +-+++, +-+-+ and their mirrors -----, -+---, -+-+-.
@@ -48,11 +48,11 @@ print(json.dumps(out))
 `;
     const ref: number[] = runPython(py, cases);
     cases.forEach((c, k) => {
-      const diffs = c.cand.map((v, i) => v - c.base[i]!);
+      const diffs = c.cand.map((v, i) => v - c.base[i]);
       const ours = signFlipTest(diffs);
       // scipy's two-sided p = 2 * min(one-sided); for a symmetric sign-flip null this equals
       // our #{|T*| >= |T|} / 2^n.
-      expect(ours.p).toBeCloseTo(ref[k]!, 12);
+      expect(ours.p).toBeCloseTo(ref[k], 12);
     });
   });
 

@@ -29,7 +29,7 @@ export async function writeRunFolder(dir: string, f: RunFixture): Promise<string
       thresholds: f.thresholds,
       quantiles: f.quantiles ?? [...DEFAULT_QUANTILES],
       regions: f.regions ?? { ...DEFAULT_REGION_PARAMS },
-      matchers: labels.map((l) => ({ label: l, matcherId: l.split(':')[0]!, kind: 'matcher' as const, version: '1', params: {} })),
+      matchers: labels.map((l) => ({ label: l, matcherId: l.split(':')[0], kind: 'matcher' as const, version: '1', params: {} })),
       datasets: (f.datasets ?? [{ name: 'dock', hash: 'a'.repeat(64) }]).map((d) => ({ path: '/nowhere', manifest: '/nowhere/dataset.json', pairs: 12, ...d })),
     },
     jobs: { total: f.results.length, ok: f.results.filter((r) => r.status === 'ok').length, failed: f.results.filter((r) => r.status === 'failed').length },

@@ -24,7 +24,7 @@ interface RawManifest {
   pairs: { id: string; left: string; right: string; truth: string; occlusion: string; tags: string[]; group: string }[];
 }
 
-describe('demo dataset (checks: DESIGN.md manifest form, read back with src/io and src/dataset)', () => {
+describe('demo dataset (checks: the manifest form of the README, read back with src/io and src/dataset)', () => {
   test('writeDemoDataset writes >= 6 dock pairs + 1 random-dot pair, all files consistent', async () => {
     const dir = tempDir();
     const progress: [number, number][] = [];
@@ -61,9 +61,9 @@ describe('demo dataset (checks: DESIGN.md manifest form, read back with src/io a
       let occluded = 0;
       let outside = 0; // NaN fails both comparisons: closed rooms give every pixel a truth
       for (let i = 0; i < truth.data.length; i++) {
-        const d = truth.data[i]!;
+        const d = truth.data[i];
         if (!(d >= lo && d <= hi)) outside++;
-        occluded += occ.data[i]!;
+        occluded += occ.data[i];
       }
       expect(outside).toBe(0);
       expect(occluded).toBeGreaterThan(0); // every pair has some occlusion or left-edge exits
@@ -73,7 +73,11 @@ describe('demo dataset (checks: DESIGN.md manifest form, read back with src/io a
     const mm = raw.pairs.find((p) => p.tags.includes('brightness-mismatch'))!;
     const l = await readImageFile(join(dir, mm.left));
     const r = await readImageFile(join(dir, mm.right));
-    const mean = (a: Uint8Array | Uint16Array): number => a.reduce((s, v) => s + v, 0) / a.length;
+    const mean = (a: Uint8Array | Uint16Array): number => {
+      let s = 0;
+      for (const v of a) s += v;
+      return s / a.length;
+    };
     expect(mean(r.data) - mean(l.data)).toBeGreaterThan(10);
   });
 
@@ -95,7 +99,7 @@ describe('demo dataset (checks: DESIGN.md manifest form, read back with src/io a
     await writeDemoDataset(d, { width: 48, height: 32, seed: 5, pairs: 10, samples: 1 });
     const m = loadManifest(d);
     expect(m.pairs.map((p) => p.id).slice(7)).toEqual(['dots-01', 'extra-09', 'extra-10']);
-    expect(m.pairs[8]!.tags!.length).toBeGreaterThan(0);
+    expect(m.pairs[8].tags!.length).toBeGreaterThan(0);
   });
 
   test('bad sizes and counts are usage errors naming the option', async () => {

@@ -92,7 +92,7 @@ describe('truth disparity geometry', () => {
     // Documented convention (src/synth/render.ts): no hit -> NaN truth, occlusion 0.
     const rig = makeRig({ width: 64, height: 48, focalPx: 60, baselineM: 0.1 });
     // A 0.4 m cube centred 3 m ahead: d = 60 * 0.1 / 2.8 = 2.143 on its front face (Z = 2.8).
-    const scene = testScene([boxOnFloor(0, -0.2, 3, 0.4, 0.4, 0.4, 0)]);
+    const scene = testScene([boxOnFloor([0, -0.2, 3], [0.4, 0.4, 0.4], 0)]);
     const r = renderPair(scene, rig, { samples: 1 });
     expect(Number.isNaN(r.truth[0])).toBe(true);
     expect(r.occlusion[0]).toBe(0);
@@ -108,7 +108,7 @@ describe('truth disparity geometry', () => {
   test('ray-primitive intersections, worked by hand', () => {
     const g = compileGeometry(
       testScene([
-        boxOnFloor(0, -1, 5, 2, 2, 2, 0), // x in [-1, 1], y in [-1, 1], z in [4, 6]
+        boxOnFloor([0, -1, 5], [2, 2, 2], 0), // x in [-1, 1], y in [-1, 1], z in [4, 6]
         { kind: 'cylinder', cx: 0, cz: 10, radius: 1, y0: -2, y1: 2, material: 0 },
         { kind: 'rect', origin: [-1, -1, 20], u: [2, 0, 0], v: [0, 2, 0], material: 0 },
       ]),

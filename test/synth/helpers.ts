@@ -29,14 +29,14 @@ export function fitAffine(d: Float32Array, width: number, height: number): { a: 
   let sxx = 0, sxy = 0, sx = 0, syy = 0, sy = 0, n = 0, sxd = 0, syd = 0, sd = 0;
   for (let y = 0; y < height; y++) {
     for (let x = 0; x < width; x++) {
-      const v = d[y * width + x]!;
+      const v = d[y * width + x];
       if (!Number.isFinite(v)) continue;
       sxx += x * x; sxy += x * y; sx += x; syy += y * y; sy += y; n++;
       sxd += x * v; syd += y * v; sd += v;
     }
   }
   const det3 = (m: number[]): number =>
-    m[0]! * (m[4]! * m[8]! - m[5]! * m[7]!) - m[1]! * (m[3]! * m[8]! - m[5]! * m[6]!) + m[2]! * (m[3]! * m[7]! - m[4]! * m[6]!);
+    m[0] * (m[4] * m[8] - m[5] * m[7]) - m[1] * (m[3] * m[8] - m[5] * m[6]) + m[2] * (m[3] * m[7] - m[4] * m[6]);
   const M = [sxx, sxy, sx, sxy, syy, sy, sx, sy, n];
   const D = det3(M);
   const a = det3([sxd, sxy, sx, syd, syy, sy, sd, sy, n]) / D;
@@ -46,7 +46,7 @@ export function fitAffine(d: Float32Array, width: number, height: number): { a: 
   let ss = 0;
   for (let y = 0; y < height; y++) {
     for (let x = 0; x < width; x++) {
-      const v = d[y * width + x]!;
+      const v = d[y * width + x];
       if (!Number.isFinite(v)) continue;
       const r = Math.abs(v - (a * x + b * y + c));
       ss += r * r;
@@ -77,8 +77,8 @@ export function luma(img: { width: number; height: number; channels: number; dat
   const n = img.width * img.height;
   const out = new Float64Array(n);
   for (let i = 0; i < n; i++) {
-    if (img.channels === 1) out[i] = img.data[i]!;
-    else out[i] = 0.299 * img.data[i * img.channels]! + 0.587 * img.data[i * img.channels + 1]! + 0.114 * img.data[i * img.channels + 2]!;
+    if (img.channels === 1) out[i] = img.data[i];
+    else out[i] = 0.299 * img.data[i * img.channels] + 0.587 * img.data[i * img.channels + 1] + 0.114 * img.data[i * img.channels + 2];
   }
   return out;
 }

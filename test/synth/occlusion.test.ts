@@ -5,7 +5,7 @@ import { testScene } from './helpers.js';
 
 function agreement(a: Uint8Array, b: Uint8Array): number {
   let same = 0;
-  for (let i = 0; i < a.length; i++) if ((a[i]! !== 0) === (b[i]! !== 0)) same++;
+  for (let i = 0; i < a.length; i++) if ((a[i] !== 0) === (b[i] !== 0)) same++;
   return same / a.length;
 }
 
@@ -19,7 +19,7 @@ describe('occlusion mask', () => {
   test.each(['crates', 'posts', 'shelving'] as const)(
     'ray-cast mask of the %s dock scene agrees with the derivation from truth on at least 99 percent of pixels',
     (variant) => {
-      // Source: DESIGN.md's derivation from the left truth (one right-to-left sweep per
+      // Source: the README's derivation ("Regions and metrics") from the left truth (one right-to-left sweep per
       // row, tol 0.5 px, tau 0.5 px), implemented independently in src/dataset/occlusion.ts;
       // both describe "the left pixel's point is not seen by the right camera".
       const scene = dockScene(variant, 5);
@@ -42,7 +42,7 @@ describe('occlusion mask', () => {
     // pixel lands inside the right frame [-0.5, W - 0.5]; with |slope| < 0.5 px/px along x,
     // x - d strictly increases along each row by more than tol = 0.5 wherever d rises by
     // more than tau = 0.5, so the derivation's condition (x_q - d_q <= x_p - d_p + tol with
-    // d_q > d_p + tau, DESIGN.md) never holds.
+    // d_q > d_p + tau, README) never holds.
     const W = 128;
     const H = 96;
     const rig = makeRig({ width: W, height: H, focalPx: 110, baselineM: 0.1, cxShiftPx: 10 });
@@ -54,12 +54,12 @@ describe('occlusion mask', () => {
     const r = renderPair(scene, rig, { samples: 1 });
     let maxErr = 0;
     for (let y = 0; y < H; y++) {
-      for (let x = 0; x < W; x++) maxErr = Math.max(maxErr, Math.abs(r.truth[y * W + x]! - Math.max(d1(x, y), d2(x, y))));
+      for (let x = 0; x < W; x++) maxErr = Math.max(maxErr, Math.abs(r.truth[y * W + x] - Math.max(d1(x, y), d2(x, y))));
     }
     expect(maxErr).toBeLessThan(1e-5); // the fold is where we meant it (hand formula above)
     for (let y = 0; y < H; y++) {
-      expect(0 - r.truth[y * W]!).toBeGreaterThanOrEqual(-0.5); // left column inside the right frame
-      expect(W - 1 - r.truth[y * W + W - 1]!).toBeLessThanOrEqual(W - 0.5); // right column too
+      expect(0 - r.truth[y * W]).toBeGreaterThanOrEqual(-0.5); // left column inside the right frame
+      expect(W - 1 - r.truth[y * W + W - 1]).toBeLessThanOrEqual(W - 0.5); // right column too
     }
     const derived = deriveOcclusion(r.truth, W, H, 0.5, 0.5);
     expect(count(derived)).toBe(0);
@@ -93,7 +93,7 @@ describe('occlusion mask', () => {
 
   test('random-dot pair: occlusion equals the derivation from truth exactly (integer disparities)', () => {
     // Source: Julesz (1960) construction; with integer disparities the right-view landing
-    // points are exact, so the derived rule (DESIGN.md, tol 0.5, tau 0.5) and the layer
+    // points are exact, so the derived rule (README, tol 0.5, tau 0.5) and the layer
     // visibility of src/synth/dots.ts must coincide pixel for pixel.
     const r = randomDotPair({ width: 160, height: 120, seed: 3 });
     const derived = deriveOcclusion(r.truth, 160, 120, 0.5, 0.5);

@@ -41,10 +41,10 @@ describe('procedural textures (checks against their definitions, worked by hand)
     const t = noiseTable(77);
     // At lattice points the noise equals the table entry (smoothstep weights are 0 or 1).
     for (const [i, j] of [[0, 0], [3, 5], [255, 17], [100, 255]] as const) {
-      expect(valueNoise(t, i, j)).toBeCloseTo(t[j * NOISE_SIZE + i]!, 7);
+      expect(valueNoise(t, i, j)).toBeCloseTo(t[j * NOISE_SIZE + i], 7);
     }
     // Halfway between two lattice points along x the smoothstep weight is 1/2: the mean.
-    expect(valueNoise(t, 3.5, 5)).toBeCloseTo((t[5 * NOISE_SIZE + 3]! + t[5 * NOISE_SIZE + 4]!) / 2, 7);
+    expect(valueNoise(t, 3.5, 5)).toBeCloseTo((t[5 * NOISE_SIZE + 3] + t[5 * NOISE_SIZE + 4]) / 2, 7);
     // Periodic with NOISE_SIZE cells, and continuous (no jump across a cell edge).
     expect(valueNoise(t, 12.3 + NOISE_SIZE, 40.7 - NOISE_SIZE)).toBeCloseTo(valueNoise(t, 12.3, 40.7), 6);
     expect(Math.abs(valueNoise(t, 6 - 1e-9, 2.5) - valueNoise(t, 6 + 1e-9, 2.5))).toBeLessThan(1e-6);
@@ -57,9 +57,9 @@ describe('procedural textures (checks against their definitions, worked by hand)
     // with the material's lattice offset (ox, oy); the renderer's written-out loop must
     // equal the reference function fractalNoise.
     const cm = mats({ ...grey, pattern: { kind: 'noise', scale: 0.3, octaves: 5, gain: 0.55 }, seed: 11 });
-    const table = cm.tables[0]!;
-    const ox = cm.m[12]!;
-    const oy = cm.m[13]!;
+    const table = cm.tables[0];
+    const ox = cm.m[12];
+    const oy = cm.m[13];
     for (let k = 0; k < 500; k++) {
       const u = -20 + k * 0.0917;
       const v = 3 - k * 0.0533;

@@ -21,16 +21,16 @@ function warpError(
     for (let x = 2; x < W - 2; x++) {
       const i = y * W + x;
       if (r.occlusion[i]) continue;
-      const d = r.truth[i]!;
+      const d = r.truth[i];
       let edge = false;
-      for (let dy = -2; dy <= 2 && !edge; dy++) for (let dx = -2; dx <= 2; dx++) if (Math.abs(r.truth[i + dy * W + dx]! - d) > 0.5) edge = true;
+      for (let dy = -2; dy <= 2 && !edge; dy++) for (let dx = -2; dx <= 2; dx++) if (Math.abs(r.truth[i + dy * W + dx] - d) > 0.5) edge = true;
       if (edge) continue;
       const xr = x - d - shift;
       const x0 = Math.floor(xr);
       if (x0 < 0 || x0 + 1 >= W) continue;
       const w = xr - x0;
-      const v = R[y * W + x0]! * (1 - w) + R[y * W + x0 + 1]! * w;
-      sum += Math.abs(v - L[i]!);
+      const v = R[y * W + x0] * (1 - w) + R[y * W + x0 + 1] * w;
+      sum += Math.abs(v - L[i]);
       n++;
     }
   }
@@ -49,7 +49,7 @@ test('warping the noise-free right image by the truth reproduces the left image 
   const scene = testScene([
     planeWithDisparity(rig, 0.02, 0.01, 4, 0),
     // A box in front, so the check also runs next to real occlusions.
-    boxOnFloor(-0.2, -0.3, 1.6, 0.4, 0.5, 0.3, 0),
+    boxOnFloor([-0.2, -0.3, 1.6], [0.4, 0.5, 0.3], 0),
   ]);
   const r = renderPair(scene, rig, { samples: 3, left: { noiseSigma: 0 }, right: { noiseSigma: 0 } });
   let occluded = 0;

@@ -87,7 +87,7 @@ export const runCommand: CommandModule<object, RunArgs & ScaleArgs> = {
   describe: 'Run matchers (or score imported predictions) on datasets; write run.json, results.jsonl, pairs.csv, summary.csv, index.html',
   builder: (y) => scaleArgOptions(runOptions(y)),
   handler: async (a) => {
-    // Added: worker pool, result cache, shards and --resume (see ../scale-options.ts).
+    // Worker pool, result cache, shards and --resume (see ../scale-options.ts).
     const scale = scaleFromArgs(a);
     let plan;
     if (a.resume !== undefined) {

@@ -73,6 +73,38 @@ function sanitizeForPath(s: string): string {
   return s.replace(/[^A-Za-z0-9_.-]/g, '_').slice(0, 60) || 'pair';
 }
 
+/** The paths the program reads: the dataset's own files when it can take them as they are, else images written for it. */
+async function prepareInputs(def: ProgramMatcherDef, input: MatchInput, f: ProgramFrame, dir: string): Promise<{ left: string; right: string }> {
+  if (!needsWrittenInputs(input, def.input, f)) return { left: input.source!.left, right: input.source!.right };
+  const left = join(dir, 'left.png');
+  const right = join(dir, 'right.png');
+  const useColor = def.input === 'color' && input.leftColor && input.rightColor;
+  await writeFile(left, useColor ? colorPngForProgram(input.leftColor!, f) : grayPngForProgram(input.left, f));
+  await writeFile(right, useColor ? colorPngForProgram(input.rightColor!, f) : grayPngForProgram(input.right, f));
+  return { left, right };
+}
+
+/** Read and check the program's output, back in the pair's frame. */
+async function readOutput(def: ProgramMatcherDef, out: string, f: ProgramFrame): Promise<Float32Array> {
+  if (!existsSync(out)) throw new MatcherFailure(`${def.id}: the program wrote no output file (${out})`);
+  let img;
+  try {
+    img = await readDisparityFile(out, {
+      pngScale: def.output.scale,
+      pngInvalid: def.output.format === 'png' ? def.output.invalid : undefined,
+      maxPixels: Math.max(f.progW * f.progH * 4, 1),
+    });
+  } catch (e) {
+    const why = e instanceof Error ? e.message : String(e);
+    throw new MatcherFailure(`${def.id}: unreadable output: ${why.replace(/\s+/g, ' ')}`);
+  }
+  if (img.width !== f.progW || img.height !== f.progH) {
+    throw new MatcherFailure(`${def.id}: output is ${img.width}x${img.height}, expected ${f.progW}x${f.progH}`);
+  }
+  const sentinel = def.output.format === 'png' ? undefined : def.output.invalid;
+  return outputToPairFrame(img.data, f, def.disparitySign, def.disparityScale, sentinel);
+}
+
 /**
  * A MatcherPlugin that runs an outside program. `baseDir` is the experiment file's
  * folder: the default working directory and the base of a relative `cwd`.
@@ -101,38 +133,6 @@ export function programMatcher(
     }
     return tmpDir;
   };
-
-  /** The paths the program reads: the dataset's own files when it can take them as they are, else images written for it. */
-  async function prepareInputs(input: MatchInput, f: ProgramFrame, dir: string): Promise<{ left: string; right: string }> {
-    if (!needsWrittenInputs(input, def.input, f)) return { left: input.source!.left, right: input.source!.right };
-    const left = join(dir, 'left.png');
-    const right = join(dir, 'right.png');
-    const useColor = def.input === 'color' && input.leftColor && input.rightColor;
-    await writeFile(left, useColor ? colorPngForProgram(input.leftColor!, f) : grayPngForProgram(input.left, f));
-    await writeFile(right, useColor ? colorPngForProgram(input.rightColor!, f) : grayPngForProgram(input.right, f));
-    return { left, right };
-  }
-
-  /** Read and check the program's output, back in the pair's frame. */
-  async function readOutput(out: string, f: ProgramFrame): Promise<Float32Array> {
-    if (!existsSync(out)) throw new MatcherFailure(`${def.id}: the program wrote no output file (${out})`);
-    let img;
-    try {
-      img = await readDisparityFile(out, {
-        pngScale: def.output.scale,
-        pngInvalid: def.output.format === 'png' ? def.output.invalid : undefined,
-        maxPixels: Math.max(f.progW * f.progH * 4, 1),
-      });
-    } catch (e) {
-      const why = e instanceof Error ? e.message : String(e);
-      throw new MatcherFailure(`${def.id}: unreadable output: ${why.replace(/\s+/g, ' ')}`);
-    }
-    if (img.width !== f.progW || img.height !== f.progH) {
-      throw new MatcherFailure(`${def.id}: output is ${img.width}x${img.height}, expected ${f.progW}x${f.progH}`);
-    }
-    const sentinel = def.output.format === 'png' ? undefined : def.output.invalid;
-    return outputToPairFrame(img.data, f, def.disparitySign, def.disparityScale, sentinel);
-  }
 
   /** Run the program on prepared inputs (one request to the long-lived process, or one process); its self-reported time when it gave one. */
   async function runProgram(r: { pairId: string; left: string; right: string; out: string; f: ProgramFrame; params: ParamValues; signal: AbortSignal }): Promise<number | undefined> {
@@ -165,10 +165,10 @@ export function programMatcher(
       await mkdir(dir, { recursive: true });
       try {
         const f = programFrame(input.width, input.height, input.minDisparity, input.maxDisparity, def.resize, def.pad);
-        const paths = await prepareInputs(input, f, dir);
+        const paths = await prepareInputs(def, input, f, dir);
         const out = join(dir, `out.${outExt}`);
         const selfTimeMs = await runProgram({ pairId, ...paths, out, f, params: full, signal });
-        const disparity = await readOutput(out, f);
+        const disparity = await readOutput(def, out, f);
         return selfTimeMs === undefined ? { disparity } : { disparity, selfTimeMs };
       } catch (e) {
         if (isParallaxError(e)) throw e;

@@ -275,10 +275,10 @@
     });
     th.forEach((t) => svg.appendChild(sv('text', { x: X(t), y: H - pad.b + 14, 'text-anchor': 'middle' }, String(t))));
     rowsNow().forEach((r, i) => {
-      const col = COLORS[i % COLORS.length]!;
+      const col = COLORS[i % COLORS.length];
       const pts: [number, number][] = [];
       th.forEach((t, k) => {
-        const v = cell(r, data.rateNames[k]!).v;
+        const v = cell(r, data.rateNames[k]).v;
         if (v !== null) pts.push([X(t), Y(v)]);
       });
       if (!pts.length) return;
@@ -428,7 +428,7 @@
     d.addEventListener('toggle', () => {
       if (!(d as HTMLDetailsElement).open || d.getAttribute('data-built')) return;
       d.setAttribute('data-built', '1');
-      buildPair(data.pairs[Number(d.getAttribute('data-index'))]!, d.querySelector('.pairbody')!);
+      buildPair(data.pairs[Number(d.getAttribute('data-index'))], d.querySelector('.pairbody')!);
     });
   });
 })();

@@ -102,7 +102,13 @@ export async function loadPairInputs(runDir: string, manifest: Manifest | null, 
  * the regions), for runs without stored pair thumbnails; with `store`, they are written to
  * the run folder (previews/@pairs) so that the next report reads them instead.
  */
-export async function pairThumbsFromDataset(runDir: string, info: RunRecord, d: NonNullable<PairInputs['dataset']>, dataset: string, pair: string, f: number, store: boolean): Promise<{ leftPng: Buffer; regionBits: Uint8Array }> {
+export async function pairThumbsFromDataset(
+  runDir: string,
+  info: RunRecord,
+  d: NonNullable<PairInputs['dataset']>,
+  at: { dataset: string; pair: string; factor: number; store: boolean },
+): Promise<{ leftPng: Buffer; regionBits: Uint8Array }> {
+  const { dataset, pair, factor: f, store } = at;
   const { truth } = d;
   const left = decodePng(d.left, d.leftPath);
   assertSameSize(d.truthPath, truth, d.leftPath, left);

@@ -32,8 +32,8 @@ function piece(v: unknown): string {
 }
 
 export function html(strings: TemplateStringsArray, ...values: unknown[]): Markup {
-  let out = strings[0]!;
-  for (let i = 0; i < values.length; i++) out += piece(values[i]) + strings[i + 1]!;
+  let out = strings[0];
+  for (let i = 0; i < values.length; i++) out += piece(values[i]) + strings[i + 1];
   return new Markup(out);
 }
 

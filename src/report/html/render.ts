@@ -91,7 +91,7 @@ function jobsByPair(jobs: readonly JobResult[]): { dataset: string; pair: string
   }
   return [...byPair.keys()].sort(cmp).map((k) => {
     const list = byPair.get(k)!;
-    return { dataset: list[0]!.dataset, pair: list[0]!.pair, jobs: list };
+    return { dataset: list[0].dataset, pair: list[0].pair, jobs: list };
   });
 }
 
@@ -120,17 +120,17 @@ async function renderRun(runDir: string, info: RunRecord, results: readonly JobR
   // Files of the next few pairs are read while this one is drawn (I/O overlaps the
   // CPU work; one thread, a bounded number of pairs in memory).
   const load = (i: number): Promise<PairInputs> => {
-    const { dataset, pair, jobs: list } = pairs[i]!;
+    const { dataset, pair, jobs: list } = pairs[i];
     const man = manifests.get(dataset) ?? { m: null, problem: `dataset ${dataset} is not in run.json` };
     return loadPairInputs(runDir, man.m, man.problem, dataset, pair, list);
   };
   const ahead: Promise<PairInputs>[] = [];
   for (let i = 0; i < Math.min(READ_AHEAD, pairs.length); i++) ahead[i] = load(i);
   for (let i = 0; i < pairs.length; i++) {
-    const inputs = await ahead[i]!;
+    const inputs = await ahead[i];
     delete ahead[i];
     if (i + READ_AHEAD < pairs.length) ahead[i + READ_AHEAD] = load(i + READ_AHEAD);
-    const { dataset, pair, jobs: list } = pairs[i]!;
+    const { dataset, pair, jobs: list } = pairs[i];
     const view = await pairView({
       runDir,
       info,

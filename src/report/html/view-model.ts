@@ -58,7 +58,7 @@ export async function pairView(p: PairViewInput): Promise<PairView> {
     view.size = [t.thumb.width, t.thumb.height];
     view.truth = indexedUri(colorizeDisparity(t.thumb, lo, hi, map, 'no-truth'));
     try {
-      const thumbs = inputs.stored ?? (inputs.dataset ? await pairThumbsFromDataset(p.runDir, p.info, inputs.dataset, dataset, pair, t.f, p.storePairThumbs) : null);
+      const thumbs = inputs.stored ?? (inputs.dataset ? await pairThumbsFromDataset(p.runDir, p.info, inputs.dataset, { dataset, pair, factor: t.f, store: p.storePairThumbs }) : null);
       if (!thumbs) throw new Error('no left image');
       view.left = pngBytesUri(thumbs.leftPng);
       view.regions = indexedUri(colorizeRegions(thumbs.regionBits, t.thumb.width, t.thumb.height));
@@ -100,7 +100,7 @@ function summaryView(rows: SummaryRow[], set: MetricSet): PlxReportHead['summary
     const list = (tg[r.region] ??= []);
     const m: Record<string, (number | null)[]> = {};
     for (const { id } of metrics) {
-      const s = r.metrics[id]!;
+      const s = r.metrics[id];
       m[id] = [s.mean, s.meanCi?.lo ?? null, s.meanCi?.hi ?? null, s.n, s.pooled, s.pooledCi?.lo ?? null, s.pooledCi?.hi ?? null];
     }
     list.push({ label: r.matcher, n_pairs: r.n_pairs, n_units: r.n_units, unit: r.unit, n_failed: r.n_failed, m });
