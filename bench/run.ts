@@ -13,6 +13,7 @@ const SECTIONS: Section[] = [
   { name: 'runner', load: () => import('./runner.js') },
   { name: 'synth', load: () => import('./synth.js') },
   { name: 'regions', load: () => import('./regions.js') },
+  { name: 'png', load: () => import('./png.js') },
 ];
 
 const wanted = process.argv.slice(2);
