@@ -52,17 +52,10 @@ export function decodePngDisparity(
   return { width: img.width, height: img.height, data };
 }
 
-function unstorable(
-  name: string | undefined,
-  d: number,
-  code: number,
-  i: number,
-  width: number,
-  s: number,
-  bitDepth: number,
-  inv: number,
-): InputError {
-  const where = `(x ${i % width}, y ${Math.floor(i / width)})`;
+/** Why the value d at pixel i (stored as `code`) cannot be written with this encoding. */
+function unstorable(name: string | undefined, d: number, code: number, at: { i: number; width: number }, enc: { s: number; bitDepth: number; inv: number }): InputError {
+  const { s, bitDepth, inv } = enc;
+  const where = `(x ${at.i % at.width}, y ${Math.floor(at.i / at.width)})`;
   if (d < 0) return new InputError(name, `negative disparity ${d} at ${where} cannot be stored in a PNG`);
   if (code === inv) return new InputError(name, `valid disparity ${d} at ${where} rounds onto the invalid code ${inv}`);
   const max = bitDepth === 16 ? 65535 : 255;
@@ -96,7 +89,7 @@ export function encodePngDisparity(
       continue;
     }
     const code = Math.round(d * s);
-    if (d < 0 || code > maxCode || code === inv) throw unstorable(name, d, code, i, width, s, bitDepth, inv);
+    if (d < 0 || code > maxCode || code === inv) throw unstorable(name, d, code, { i, width }, { s, bitDepth, inv });
     out[i] = code;
   }
   return encodePng({ width, height, channels: 1, bitDepth, data: out });
