@@ -24,7 +24,7 @@
 import { AbortedError } from '../../src/core/errors.js';
 import { applyPostprocess, type PostprocessOptions } from './postprocess.js';
 import { levelHasCandidates } from './range.js';
-import { createSliceWta, sliceWtaAdd, sliceWtaFinish } from './wta.js';
+import { createSliceWta, sliceWtaAdd, sliceWtaFinish } from './slice-wta.js';
 
 /**
  * Target pixels per strip core. Measured on 1280x720 (2-core machine under load): 64-,

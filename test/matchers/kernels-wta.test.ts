@@ -1,12 +1,6 @@
 import { describe, expect, it } from 'vitest';
-import {
-  EXCLUDED_U16,
-  createSliceWta,
-  sliceWtaAdd,
-  sliceWtaFinish,
-  wta,
-  wtaRight,
-} from '../../matchers/kernels/wta.js';
+import { EXCLUDED_U16, wta, wtaRight } from '../../matchers/kernels/wta.js';
+import { createSliceWta, sliceWtaAdd, sliceWtaFinish } from '../../matchers/kernels/slice-wta.js';
 import { mulberry32 } from './block-rds.js';
 
 describe('wta subpixel parabola', () => {
