@@ -99,6 +99,28 @@ export function setRay(ray: Float64Array, o: readonly number[], d: readonly numb
   return ray;
 }
 
+/** The ray interval [t0, t1] while a box is clipped (module scratch: no allocation per ray). */
+const SLAB = new Float64Array(2);
+
+/**
+ * Clips SLAB to the t where o + t d lies in [lo, hi] on one axis; false when the interval
+ * becomes empty (or the ray runs parallel outside the slab).
+ */
+function clipSlab(lo: number, hi: number, o: number, d: number): boolean {
+  if (d === 0) return !(o < lo || o > hi);
+  const inv = 1 / d;
+  let ta = (lo - o) * inv;
+  let tb = (hi - o) * inv;
+  if (ta > tb) {
+    const s = ta;
+    ta = tb;
+    tb = s;
+  }
+  if (ta > SLAB[0]!) SLAB[0] = ta;
+  if (tb < SLAB[1]!) SLAB[1] = tb;
+  return !(SLAB[0]! > SLAB[1]!);
+}
+
 /**
  * Nearest hit of primitive k with the ray in (tmin, tmax): writes t to ray[RAY_T]
  * (Infinity when there is none) and returns whether there is a hit.
@@ -138,55 +160,11 @@ export function intersectPrimitive(g: CompiledGeometry, k: number, ray: Float64A
     return true;
   }
   if (kind === KIND_BOX) {
-    // Slab method (Kay & Kajiya 1986).
-    let t0 = tmin;
-    let t1 = tmax;
-    // x
-    if (dx === 0) {
-      if (ox < p[o] || ox > p[o + 3]) return false;
-    } else {
-      const inv = 1 / dx;
-      let ta = (p[o] - ox) * inv;
-      let tb = (p[o + 3] - ox) * inv;
-      if (ta > tb) {
-        const s = ta;
-        ta = tb;
-        tb = s;
-      }
-      if (ta > t0) t0 = ta;
-      if (tb < t1) t1 = tb;
-      if (t0 > t1) return false;
-    }
-    if (dy === 0) {
-      if (oy < p[o + 1] || oy > p[o + 4]) return false;
-    } else {
-      const inv = 1 / dy;
-      let ta = (p[o + 1] - oy) * inv;
-      let tb = (p[o + 4] - oy) * inv;
-      if (ta > tb) {
-        const s = ta;
-        ta = tb;
-        tb = s;
-      }
-      if (ta > t0) t0 = ta;
-      if (tb < t1) t1 = tb;
-      if (t0 > t1) return false;
-    }
-    if (dz === 0) {
-      if (oz < p[o + 2] || oz > p[o + 5]) return false;
-    } else {
-      const inv = 1 / dz;
-      let ta = (p[o + 2] - oz) * inv;
-      let tb = (p[o + 5] - oz) * inv;
-      if (ta > tb) {
-        const s = ta;
-        ta = tb;
-        tb = s;
-      }
-      if (ta > t0) t0 = ta;
-      if (tb < t1) t1 = tb;
-      if (t0 > t1) return false;
-    }
+    // Slab method (Kay & Kajiya 1986): the ray's interval clipped by each axis's slab.
+    SLAB[0] = tmin;
+    SLAB[1] = tmax;
+    if (!clipSlab(p[o]!, p[o + 3]!, ox, dx) || !clipSlab(p[o + 1]!, p[o + 4]!, oy, dy) || !clipSlab(p[o + 2]!, p[o + 5]!, oz, dz)) return false;
+    const t0 = SLAB[0]!;
     // Entry point; a ray starting inside the box sees no surface from inside (walls are rects).
     if (!(t0 > tmin)) return false;
     ray[RAY_T] = t0;

@@ -53,6 +53,23 @@ export interface StereoRender {
 const RAY = newRay();
 const SURF = new Float64Array(6);
 
+/** A view's ray frame as one array: centre, right, down, forward (3 values each). */
+function frameOf(view: View): Float64Array {
+  return Float64Array.of(...view.centre, ...view.right, ...view.down, ...view.forward);
+}
+
+/** Points RAY from the frame's centre through image-plane offsets (a, b) (pixel offset / focal length), over (NEAR, Infinity). */
+function aimRay(fr: Float64Array, a: number, b: number): void {
+  RAY[0] = fr[0]!;
+  RAY[1] = fr[1]!;
+  RAY[2] = fr[2]!;
+  RAY[3] = a * fr[3]! + b * fr[6]! + fr[9]!;
+  RAY[4] = a * fr[4]! + b * fr[7]! + fr[10]!;
+  RAY[5] = a * fr[5]! + b * fr[8]! + fr[11]!;
+  RAY[6] = NEAR;
+  RAY[7] = Infinity;
+}
+
 function nearest(g: CompiledGeometry, list: Int32Array, s0: number, s1: number, ray: Float64Array): number {
   const ox = ray[0];
   const oy = ray[1];
@@ -114,10 +131,7 @@ function shadeView(
   const W = view.width;
   const H = view.height;
   const out = new Float32Array(W * H * 3);
-  const [ox, oy, oz] = view.centre;
-  const [rx, ry, rz] = view.right;
-  const [ex, ey, ez] = view.down;
-  const [fx, fy, fz] = view.forward;
+  const fr = frameOf(view);
   const inF = 1 / view.focalPx;
   const cx = view.cx;
   const cy = view.cy;
@@ -151,14 +165,7 @@ function shadeView(
             const jy = (h >>> 16) / 65536;
             const a = (x - 0.5 + (si + jx) * inN - cx) * inF;
             const b = (y - 0.5 + (sj + jy) * inN - cy) * inF;
-            RAY[0] = ox;
-            RAY[1] = oy;
-            RAY[2] = oz;
-            RAY[3] = a * rx + b * ex + fx;
-            RAY[4] = a * ry + b * ey + fy;
-            RAY[5] = a * rz + b * ez + fz;
-            RAY[6] = NEAR;
-            RAY[7] = Infinity;
+            aimRay(fr, a, b);
             const pk = nearest(g, list, s0, s1, RAY);
             if (pk < 0) continue;
             surfaceAt(g, pk, RAY, SURF);
@@ -188,10 +195,7 @@ function centreDepths(g: CompiledGeometry, view: View, tiles: Tiles): Float64Arr
   const W = view.width;
   const H = view.height;
   const depth = new Float64Array(W * H);
-  const [ox, oy, oz] = view.centre;
-  const [rx, ry, rz] = view.right;
-  const [ex, ey, ez] = view.down;
-  const [fx, fy, fz] = view.forward;
+  const fr = frameOf(view);
   const inF = 1 / view.focalPx;
   for (let y = 0; y < H; y++) {
     const b = (y - view.cy) * inF;
@@ -199,14 +203,7 @@ function centreDepths(g: CompiledGeometry, view: View, tiles: Tiles): Float64Arr
     for (let x = 0; x < W; x++) {
       const a = (x - view.cx) * inF;
       const ti = trow + Math.floor(x / TILE);
-      RAY[0] = ox;
-      RAY[1] = oy;
-      RAY[2] = oz;
-      RAY[3] = a * rx + b * ex + fx;
-      RAY[4] = a * ry + b * ey + fy;
-      RAY[5] = a * rz + b * ez + fz;
-      RAY[6] = NEAR;
-      RAY[7] = Infinity;
+      aimRay(fr, a, b);
       depth[y * W + x] = nearest(g, tiles.list, tiles.start[ti], tiles.start[ti + 1], RAY) < 0 ? Infinity : RAY[RAY_T];
     }
   }
