@@ -4,11 +4,11 @@
  * (ISO/IEC 15948 / W3C PNG, Annex D), PNG chunk assembly, Adam7 interlacing, and
  * spawning Debian's Python with numpy/OpenCV on files in a temp folder.
  */
-import { spawnSync } from 'node:child_process';
 import { mkdtempSync, rmSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import { deflateSync } from 'node:zlib';
+import { DEBIAN_PYTHON, runPython as runPy } from '../support/python.js';
 
 /** CRC table per the PNG specification, Annex D (polynomial 0xEDB88320, reflected). */
 const CRC_TABLE = (() => {
@@ -121,14 +121,11 @@ export function tempDir(prefix: string): { dir: string; cleanup: () => void } {
   return { dir, cleanup: () => rmSync(dir, { recursive: true, force: true }) };
 }
 
-/** Debian's Python, which has numpy and OpenCV (cv2). */
-export const DEBIAN_PYTHON = '/usr/bin/python3';
+export { DEBIAN_PYTHON } from '../support/python.js';
 
-/** Runs a Python script with Debian's interpreter in `cwd`; returns stdout; throws with stderr on failure. */
+/** Runs a Python script with Debian's interpreter in `cwd`; returns stdout. */
 export function runPython(script: string, cwd: string): string {
-  const r = spawnSync(DEBIAN_PYTHON, ['-c', script], { cwd, encoding: 'utf8', timeout: 60_000 });
-  if (r.status !== 0) throw new Error(`python failed (${String(r.status)}): ${r.stderr}`);
-  return r.stdout;
+  return runPy({ code: script, python: DEBIAN_PYTHON, cwd });
 }
 
 /**

@@ -1,15 +1,11 @@
 /** Test helpers: a seeded PRNG and a runner for numpy scripts on raw files in a temp dir. */
-import { execFileSync } from 'node:child_process';
-import { mkdtempSync, rmSync, writeFileSync } from 'node:fs';
-import { tmpdir } from 'node:os';
-import { join } from 'node:path';
 
 /** mulberry32, the shared seeded test generator (test/support/rng.ts). */
 import { mulberry32 as rng } from '../support/rng.js';
+import { runPython as runPy } from '../support/python.js';
 export { rng };
 
-/** The default python3 (pyenv, numpy 2.x, scipy). */
-export const PYTHON = 'python3';
+export { PYTHON } from '../support/python.js';
 
 /**
  * Writes each typed array as a raw little-endian file `<name>.bin` into a fresh temp dir,
@@ -17,18 +13,10 @@ export const PYTHON = 'python3';
  * The script reads files with np.fromfile(os.path.join(d, name + '.bin'), dtype).
  */
 export function runNumpy(files: Record<string, ArrayBufferView>, script: string): any {
-  const dir = mkdtempSync(join(tmpdir(), 'parallax-metrics-'));
-  try {
-    for (const [name, arr] of Object.entries(files)) {
-      writeFileSync(join(dir, `${name}.bin`), new Uint8Array(arr.buffer, arr.byteOffset, arr.byteLength));
-    }
-    const prelude = 'import sys, os, json\nimport numpy as np\nD = sys.argv[1]\n' +
-      'def load(name, dt):\n    return np.fromfile(os.path.join(D, name + ".bin"), dtype=dt)\n';
-    const out = execFileSync(PYTHON, ['-c', prelude + script, dir], { encoding: 'utf8', maxBuffer: 64 << 20 });
-    return JSON.parse(out);
-  } finally {
-    rmSync(dir, { recursive: true, force: true });
-  }
+  const prelude = 'import sys, os, json\nimport numpy as np\nD = sys.argv[1]\n' +
+    'def load(name, dt):\n    return np.fromfile(os.path.join(D, name + ".bin"), dtype=dt)\n';
+  const bins = Object.fromEntries(Object.entries(files).map(([name, arr]) => [`${name}.bin`, arr]));
+  return JSON.parse(runPy({ code: prelude + script, files: bins }));
 }
 
 /** |a - b| <= rel * max(|a|, |b|), with exact equality for zeros. */

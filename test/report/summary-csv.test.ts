@@ -3,36 +3,9 @@ import { aggregate } from '../../src/stats/aggregate.js';
 import { summaryCsvText } from '../../src/report/summary-csv.js';
 import { makeJob } from '../stats/fixtures.js';
 import { DEFAULT_QUANTILES } from '../../src/metrics/catalogue.js';
+import { parseCsv } from '../support/cli.js';
 
 const T = [1, 2];
-
-/** Minimal CSV parser for the test: RFC 4180 quoting (common practice). */
-function parseCsv(text: string): string[][] {
-  const rows: string[][] = [];
-  let row: string[] = [];
-  let cell = '';
-  let q = false;
-  for (let i = 0; i < text.length; i++) {
-    const c = text[i];
-    if (q) {
-      if (c === '"' && text[i + 1] === '"') {
-        cell += '"';
-        i++;
-      } else if (c === '"') q = false;
-      else cell += c;
-    } else if (c === '"') q = true;
-    else if (c === ',') {
-      row.push(cell);
-      cell = '';
-    } else if (c === '\n') {
-      row.push(cell);
-      rows.push(row);
-      row = [];
-      cell = '';
-    } else cell += c;
-  }
-  return rows;
-}
 
 describe('summaryCsvText', () => {
   it('writes means, pooled figures and empty cells for empty figures', () => {

@@ -36,7 +36,7 @@ export default {
 function probe(args: string[], name: string): { threads: number; main: boolean }[] {
   const log = join(root, `${name}.log`);
   writeFileSync(log, '');
-  const r = parallax(['run', '-d', ds, '-m', './probe.mjs', '--no-cache', '-o', join(root, name), '-q', ...args], root, { PROBE_FILE: log });
+  const r = parallax(['run', '-d', ds, '-m', './probe.mjs', '--no-cache', '-o', join(root, name), '-q', ...args], root, { env: { PROBE_FILE: log } });
   expect(r.stderr).toBe('');
   expect(r.code).toBe(0);
   return readFileSync(log, 'utf8').trim().split('\n').map((l) => JSON.parse(l));

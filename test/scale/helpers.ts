@@ -1,12 +1,11 @@
 /** Shared helpers of the scale tests: small datasets, the built CLI, table comparison. */
-import { splitCsvLine } from '../e2e/helpers.js';
-import { spawn, spawnSync, type ChildProcess } from 'node:child_process';
+import { BIN, REPO, splitCsvLine } from '../support/cli.js';
+export { BIN, REPO, parallax, type CliResult } from '../support/cli.js';
+import { spawn, type ChildProcess } from 'node:child_process';
 import { existsSync, readFileSync, writeFileSync } from 'node:fs';
-import { join, resolve } from 'node:path';
+import { join } from 'node:path';
 import { writeSyntheticDataset } from '../../src/synth/dataset.js';
 
-export const REPO = resolve(import.meta.dirname, '..', '..');
-export const BIN = join(REPO, 'bin', 'parallax.js');
 
 export function requireBuild(): void {
   if (!existsSync(join(REPO, 'dist', 'src', 'runner', 'worker.js'))) throw new Error('dist/ is missing: run `npm run build` (npm test does it)');
@@ -16,17 +15,6 @@ export function requireBuild(): void {
 export async function smallDataset(dir: string, count: number, seed = 7): Promise<string> {
   await writeSyntheticDataset(dir, { count, seed, width: 96, height: 72, name: 'dock-small', samples: 1 });
   return dir;
-}
-
-export interface CliResult {
-  code: number | null;
-  stdout: string;
-  stderr: string;
-}
-
-export function parallax(args: string[], cwd: string, env: NodeJS.ProcessEnv = {}, timeoutMs = 120_000): CliResult {
-  const r = spawnSync(process.execPath, [BIN, ...args], { cwd, encoding: 'utf8', timeout: timeoutMs, env: { ...process.env, FORCE_COLOR: '0', ...env } });
-  return { code: r.status, stdout: r.stdout, stderr: r.stderr };
 }
 
 export function parallaxAsync(args: string[], cwd: string): ChildProcess {

@@ -110,9 +110,9 @@ describe('result cache', () => {
 
   it('$PARALLAX_CACHE names the cache folder when --cache-dir is not given', () => {
     const cache = join(root, 'env-cache');
-    const r = parallax(['run', '-d', ds, '-m', 'block', '-o', join(root, 'env-run'), '-q'], root, { PARALLAX_CACHE: cache });
+    const r = parallax(['run', '-d', ds, '-m', 'block', '-o', join(root, 'env-run'), '-q'], root, { env: { PARALLAX_CACHE: cache } });
     expect(r.code).toBe(0);
-    expect(JSON.parse(parallax(['cache', 'info', '--json'], root, { PARALLAX_CACHE: cache }).stdout).entries).toBe(PAIRS);
+    expect(JSON.parse(parallax(['cache', 'info', '--json'], root, { env: { PARALLAX_CACHE: cache } }).stdout).entries).toBe(PAIRS);
   }, 60_000);
 });
 

@@ -1,8 +1,6 @@
 /** Run a Python snippet with JSON on stdin and JSON on stdout (outside reference). */
-import { spawnSync } from 'node:child_process';
+import { PYTHON, runPython as run } from '../support/python.js';
 
-export function runPython(code: string, input: unknown, python = 'python3'): any {
-  const r = spawnSync(python, ['-c', code], { input: JSON.stringify(input), encoding: 'utf8', timeout: 60_000 });
-  if (r.status !== 0) throw new Error(`python failed: ${r.stderr}`);
-  return JSON.parse(r.stdout);
+export function runPython(code: string, input: unknown, python = PYTHON): any {
+  return JSON.parse(run({ code, python, input: JSON.stringify(input) }));
 }

@@ -1,10 +1,7 @@
 /** Shared helpers of the synth tests (no test cases here). */
-import { execFileSync } from 'node:child_process';
-import { mkdtempSync, writeFileSync, rmSync } from 'node:fs';
-import { tmpdir } from 'node:os';
-import { join } from 'node:path';
 import type { Material, Primitive, Scene } from '../../src/synth/index.js';
 import { lightFrom } from '../../src/synth/index.js';
+import { runPython as runPy } from '../support/python.js';
 
 /** A scene of the given primitives with one matte noise material (index 0) and a paint one (1). */
 export function testScene(primitives: Primitive[], extra: Material[] = []): Scene {
@@ -58,14 +55,7 @@ export function fitAffine(d: Float32Array, width: number, height: number): { a: 
 
 /** Run a Python snippet with files in a temp dir; returns stdout. */
 export function runPython(python: string, code: string, files: Record<string, Uint8Array>): string {
-  const dir = mkdtempSync(join(tmpdir(), 'parallax-synth-py-'));
-  try {
-    for (const [name, data] of Object.entries(files)) writeFileSync(join(dir, name), data);
-    writeFileSync(join(dir, 'main.py'), code);
-    return execFileSync(python, [join(dir, 'main.py')], { cwd: dir, encoding: 'utf8', timeout: 60_000 });
-  } finally {
-    rmSync(dir, { recursive: true, force: true });
-  }
+  return runPy({ code, python, files });
 }
 
 export function bytesOf(a: Float32Array | Uint8Array | Uint16Array): Uint8Array {
