@@ -40,13 +40,7 @@ export const OUTSIDE = 2;
  * Occlusion mask (width * height bytes, row-major): 0 visible or unknown truth,
  * 1 occluded, 2 outside the right frame. See the file comment for the exact rule.
  */
-export function deriveOcclusion(
-  truth: Float32Array,
-  width: number,
-  height: number,
-  tol: number,
-  tau: number,
-): Uint8Array {
+export function deriveOcclusion(truth: Float32Array, width: number, height: number, tol: number, tau: number): Uint8Array {
   checkArgs(truth, width, height, tol, tau);
   const out = new Uint8Array(width * height);
   // Front entries [head, size), stored with d DEcreasing along the array (so the low-d
@@ -146,13 +140,7 @@ function firstAtOrBelow(fd: Float64Array, head: number, size: number, key: numbe
  * The definition applied literally, O(W^2) per row: the reference the tests compare
  * deriveOcclusion with. Same values (0, OCCLUDED, OUTSIDE).
  */
-export function occlusionReference(
-  truth: Float32Array,
-  width: number,
-  height: number,
-  tol: number,
-  tau: number,
-): Uint8Array {
+export function occlusionReference(truth: Float32Array, width: number, height: number, tol: number, tau: number): Uint8Array {
   checkArgs(truth, width, height, tol, tau);
   const out = new Uint8Array(width * height);
   for (let y = 0; y < height; y++) {

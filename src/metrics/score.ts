@@ -56,12 +56,7 @@ export const DEFAULT_DEPTH_EPS = 1e-6;
 
 let valsBuf = new Float64Array(0);
 
-export function scorePair(
-  pred: Float32Array | null,
-  truth: Float32Array,
-  regions: RegionMap,
-  opts: ScoreOptions,
-): PairScore {
+export function scorePair(pred: Float32Array | null, truth: Float32Array, regions: RegionMap, opts: ScoreOptions): PairScore {
   const bits = regions.bits;
   const n = bits.length;
   if (truth.length !== n || (pred !== null && pred.length !== n)) {

@@ -138,6 +138,17 @@ describe('a broken pair: recorded as failed, the other pair scored, tables and r
 
 describe('manifest-level errors: one line naming the file or option, exit 2, before any job', () => {
   const run = (ds: string, name: string) => parallax(['run', '-d', ds, '-m', 'block', '--out', join(root, `${name}-out`), '--no-cache', '--quiet'], root);
+  /** A dataset whose manifest `edit` spoils, run: exit 2 with one line naming the manifest; returns the line. */
+  const spoiled = (name: string, edit: (m: Record<string, unknown> & { pairs: Record<string, unknown>[] }) => void): { line: string; manifest: string } => {
+    const ds = writeDataset(join(root, name), { ids: ['dock-1'] });
+    const f = join(ds.dir, 'dataset.json');
+    const m = JSON.parse(readFileSync(f, 'utf8'));
+    edit(m);
+    writeFileSync(f, JSON.stringify(m));
+    const r = run(ds.dir, name);
+    expect(r.code).toBe(2);
+    return { line: expectOneLineError(r), manifest: f };
+  };
 
   it('an unknown matcher', () => {
     const ds = writeDataset(join(root, 'um'), { ids: ['dock-1'] });
@@ -148,41 +159,26 @@ describe('manifest-level errors: one line naming the file or option, exit 2, bef
   });
 
   it('a malformed manifest', () => {
-    const ds = writeDataset(join(root, 'malformed'), { ids: ['dock-1'] });
-    const f = join(ds.dir, 'dataset.json');
-    const m = JSON.parse(readFileSync(f, 'utf8'));
-    m.disparityRange = 'wide';
-    writeFileSync(f, JSON.stringify(m));
-    const r = run(ds.dir, 'malformed');
-    expect(r.code).toBe(2);
-    const line = expectOneLineError(r);
+    const { line, manifest: f } = spoiled('malformed', (m) => {
+      m.disparityRange = 'wide';
+    });
     expect(line).toContain(f);
     expect(line).toContain('disparityRange');
     expect(existsSync(join(root, 'malformed-out', 'results.jsonl'))).toBe(false);
   });
 
   it('an unknown manifest key holding a newline is quoted on the one line', () => {
-    const ds = writeDataset(join(root, 'hostile'), { ids: ['dock-1'] });
-    const f = join(ds.dir, 'dataset.json');
-    const m = JSON.parse(readFileSync(f, 'utf8'));
-    m['evil\nparallax: fake second line'] = 1;
-    writeFileSync(f, JSON.stringify(m));
-    const r = run(ds.dir, 'hostile');
-    expect(r.code).toBe(2);
-    const line = expectOneLineError(r);
-    // io/text.ts quote(): a newline byte is written as \x0a inside double quotes.
+    const { line } = spoiled('hostile', (m) => {
+      m['evil\nparallax: fake second line'] = 1;
+    });
+    // core/text.ts quote(): a newline byte is written as \x0a inside double quotes.
     expect(line).toContain('"evil\\x0aparallax: fake second line"');
   });
 
   it('a path escaping the dataset folder', () => {
-    const ds = writeDataset(join(root, 'escape'), { ids: ['dock-1'] });
-    const f = join(ds.dir, 'dataset.json');
-    const m = JSON.parse(readFileSync(f, 'utf8'));
-    m.pairs[0].left = '../../etc/passwd';
-    writeFileSync(f, JSON.stringify(m));
-    const r = run(ds.dir, 'escape');
-    expect(r.code).toBe(2);
-    const line = expectOneLineError(r);
+    const { line, manifest: f } = spoiled('escape', (m) => {
+      m.pairs[0]!.left = '../../etc/passwd';
+    });
     expect(line).toContain(f);
     expect(line).toContain('../../etc/passwd');
   });

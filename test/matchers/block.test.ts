@@ -2,7 +2,6 @@ import { describe, expect, it } from 'vitest';
 import { AbortedError, MatcherFailure } from '../../src/core/errors.js';
 import { blockCostSlice, createBlockScratch, type BlockCostKind } from '../../matchers/block/cost.js';
 import { blockMatch, blockMatcher } from '../../matchers/block/index.js';
-import { BUILTIN_MATCHERS } from '../../matchers/index.js';
 import { mulberry32, randomDotStereogram, scoringMask, shareCorrect } from './block-rds.js';
 
 function randomInts(n: number, seed: number): Float32Array {
@@ -309,21 +308,6 @@ describe('block matcher: range, excluded candidates, abort, schema', () => {
     expect(() =>
       blockMatcher.match({ width: w, height: h, left: L, right: R, minDisparity: 0, maxDisparity: 8 }, {}, ac.signal),
     ).toThrow(AbortedError);
-  });
-
-  it('declares sensible parameters and is listed among the built-in matchers', () => {
-    expect(BUILTIN_MATCHERS).toContain(blockMatcher);
-    expect(blockMatcher.id).toBe('block');
-    const names = blockMatcher.params.map((p) => p.name);
-    expect(new Set(names).size).toBe(names.length);
-    for (const p of blockMatcher.params) {
-      if (p.type === 'int' || p.type === 'number') {
-        expect(p.default).toBeGreaterThanOrEqual(p.min!);
-        expect(p.default).toBeLessThanOrEqual(p.max!);
-        if (p.odd) expect(p.default % 2).toBe(1);
-      }
-      if (p.type === 'enum') expect(p.values).toContain(p.default);
-    }
   });
 });
 

@@ -41,12 +41,7 @@ describe('parallax matchers', () => {
         id: 'dockfix',
         version: '2',
         summary: 'fixture matcher',
-        params: [
-          { name: 'window', type: 'int', default: 5, min: 1, max: 31, odd: true, description: 'Window side' },
-          { name: 'cost', type: 'enum', default: 'sad', values: ['sad', 'zncc'], description: 'Cost kind' },
-          { name: 'lr', type: 'boolean', default: false, description: 'Left-right check' },
-          { name: 'gain', type: 'number', default: 0.5, description: 'Unbounded gain' },
-        ],
+        params: FIXTURE.params, // every parameter as declared, each field kept
       },
     ]);
   });

@@ -46,26 +46,20 @@ describe('match time', () => {
   it('time_ms is the self-reported time when there is one, wall_ms the wall time around match()', async () => {
     const ds = writeDataset(join(root, 'ds-time'), { ids: ['bay-1'] });
     // README, "Outputs": a program's `time_ms` reply (MatchOutput.selfTimeMs) is the match time.
-    const reporting: MatcherPlugin = {
-      id: 'reporting',
-      summary: 'sleeps 60 ms, reports 5 ms (test only)',
+    /** Sleeps 60 ms and returns the truth; with `reports`, also says its match took that many ms. */
+    const sleeper = (id: string, reports?: number): MatcherPlugin => ({
+      id,
+      summary: 'sleeps 60 ms (test only)',
       version: '1',
       params: [],
       match: async (input) => {
         await sleep(60);
-        return { disparity: truthOf(ds, input.source!.pairId), selfTimeMs: 5 };
+        const disparity = truthOf(ds, input.source!.pairId);
+        return reports === undefined ? disparity : { disparity, selfTimeMs: reports };
       },
-    };
-    const silent: MatcherPlugin = {
-      id: 'silent',
-      summary: 'sleeps 60 ms, reports nothing (test only)',
-      version: '1',
-      params: [],
-      match: async (input) => {
-        await sleep(60);
-        return truthOf(ds, input.source!.pairId);
-      },
-    };
+    });
+    const reporting = sleeper('reporting', 5);
+    const silent = sleeper('silent');
     const runDir = join(root, 'run-time');
     await executeRun(await planWith(ds, [reporting, silent], runDir, root));
     const results = readFileSync(join(runDir, 'results.jsonl'), 'utf8').trim().split('\n').map((l) => JSON.parse(l) as JobResult);
