@@ -5,3 +5,15 @@
 export function byCodeUnits(a: string, b: string): number {
   return a < b ? -1 : a > b ? 1 : 0;
 }
+
+/** Items grouped by a key, groups and items in the order first seen. */
+export function groupBy<T>(items: Iterable<T>, key: (item: T) => string): Map<string, T[]> {
+  const out = new Map<string, T[]>();
+  for (const it of items) {
+    const k = key(it);
+    const list = out.get(k);
+    if (list) list.push(it);
+    else out.set(k, [it]);
+  }
+  return out;
+}

@@ -22,7 +22,7 @@ import { REGION_IDS, type RegionId } from '../core/regions.js';
 import { InputError } from '../core/errors.js';
 import { bcaIntervals, type BootstrapOptions, type Interval, type UnitMatrix, type TotalsStat } from './bootstrap.js';
 import { levelMapOf, metricsOf, metricValue, pooledFrom, readSums, sumColumnCount, type LevelMap, type MetricSet } from '../metrics/catalogue.js';
-import { byCodeUnits } from '../core/order.js';
+import { byCodeUnits, groupBy } from '../core/order.js';
 
 export interface MetricSummary {
   /** Mean over pairs with a non-empty figure; null when no pair has one. */
@@ -208,13 +208,7 @@ export function latestJobs(results: readonly JobResult[]): JobResult[] {
  */
 export function aggregate(results: JobResult[], opts: AggregateOptions): SummaryRow[] {
   const jobs = sortJobs(latestJobs(results));
-  const cells = new Map<string, JobResult[]>();
-  for (const j of jobs) {
-    const key = `${j.matcher}\u0000${j.dataset}`;
-    let list = cells.get(key);
-    if (!list) cells.set(key, (list = []));
-    list.push(j);
-  }
+  const cells = groupBy(jobs, (j) => `${j.matcher}\u0000${j.dataset}`);
   const rows: SummaryRow[] = [];
   for (const list of cells.values()) {
     for (const region of REGION_IDS) rows.push(summarizeCell(list, region, null, opts));

@@ -136,22 +136,23 @@ function checkManifestText(text: string | Uint8Array): void {
   }
 }
 
+/** Two properties of a JSON parser: random JSON values, and the valid base with 1-4 mutations. */
+function jsonProperties(check: (text: string) => void, valid: unknown, mutatedTitle: string, numRuns: number): void {
+  it('random JSON values: parsed or a typed one-line error', () => {
+    fc.assert(fc.property(fc.jsonValue(), (v) => check(JSON.stringify(v) ?? 'null')), { numRuns });
+  });
+  it(mutatedTitle, () => {
+    fc.assert(fc.property(fc.array(mutation, { minLength: 1, maxLength: 4 }), (muts) => check(JSON.stringify(mutate(valid, muts)) ?? 'null')), { numRuns });
+  });
+}
+
 describe('dataset manifest parser (loadManifest)', () => {
   it('the valid base manifest parses (sanity check of the mutation base)', () => {
     writeFileSync(manifestFile, JSON.stringify(VALID_MANIFEST));
     if (loadManifest(dsDir).pairs.length !== 2) throw new Error('base manifest not accepted');
   });
 
-  it('random JSON values: parsed or a typed one-line error', () => {
-    fc.assert(fc.property(fc.jsonValue(), (v) => checkManifestText(JSON.stringify(v) ?? 'null')), { numRuns: 1200 });
-  });
-
-  it('mutated valid manifests: parsed (paths inside the folder) or a typed one-line error', () => {
-    fc.assert(
-      fc.property(fc.array(mutation, { minLength: 1, maxLength: 4 }), (muts) => checkManifestText(JSON.stringify(mutate(VALID_MANIFEST, muts)) ?? 'null')),
-      { numRuns: 1200 },
-    );
-  });
+  jsonProperties(checkManifestText, VALID_MANIFEST, 'mutated valid manifests: parsed (paths inside the folder) or a typed one-line error', 1200);
 
   it('random strings and bytes: a typed one-line error (or, rarely, a manifest)', () => {
     const text = fc.oneof(
@@ -194,16 +195,7 @@ describe('experiment-file parser (loadExperimentFile)', () => {
     if (loadExperimentFile(expFile).thresholds.length !== 3) throw new Error('base experiment not accepted');
   });
 
-  it('random JSON values: parsed or a typed one-line error', () => {
-    fc.assert(fc.property(fc.jsonValue(), (v) => checkExperimentText(JSON.stringify(v) ?? 'null')), { numRuns: 1000 });
-  });
-
-  it('mutated valid experiment files: parsed (thresholds sorted, distinct, > 0) or a typed one-line error', () => {
-    fc.assert(
-      fc.property(fc.array(mutation, { minLength: 1, maxLength: 4 }), (muts) => checkExperimentText(JSON.stringify(mutate(VALID_EXPERIMENT, muts)) ?? 'null')),
-      { numRuns: 1000 },
-    );
-  });
+  jsonProperties(checkExperimentText, VALID_EXPERIMENT, 'mutated valid experiment files: parsed (thresholds sorted, distinct, > 0) or a typed one-line error', 1000);
 
   it('random strings and bytes: a typed one-line error', () => {
     const text = fc.oneof(fc.string({ maxLength: 200 }), fc.string({ unit: 'binary', maxLength: 200 }), fc.uint8Array({ maxLength: 200 }));

@@ -17,6 +17,7 @@ import { readRunFolder, readRunRecordAsync } from '../run-folder.js';
 import { metricSetOf, type RunRecord } from '../../io/run-record.js';
 import { loadManifest, type Manifest } from '../../dataset/manifest.js';
 import { aggregate, cmp, latestJobs, sortJobs } from '../../stats/aggregate.js';
+import { groupBy } from '../../core/order.js';
 import type { DisparityMapName } from '../colormaps.js';
 import { loadPairInputs, type PairInputs } from './inputs.js';
 import { pageHead, pageTail } from './page.js';
@@ -82,13 +83,7 @@ function runManifests(info: RunRecord): Map<string, ManifestSlot> {
 
 /** Jobs grouped by pair, in sorted pair order. */
 function jobsByPair(jobs: readonly JobResult[]): { dataset: string; pair: string; jobs: JobResult[] }[] {
-  const byPair = new Map<string, JobResult[]>();
-  for (const j of jobs) {
-    const k = `${j.dataset}\u0000${j.pair}`;
-    let l = byPair.get(k);
-    if (!l) byPair.set(k, (l = []));
-    l.push(j);
-  }
+  const byPair = groupBy(jobs, (j) => `${j.dataset}\u0000${j.pair}`);
   return [...byPair.keys()].sort(cmp).map((k) => {
     const list = byPair.get(k)!;
     return { dataset: list[0].dataset, pair: list[0].pair, jobs: list };
