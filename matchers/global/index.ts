@@ -13,10 +13,10 @@ import { AbortedError, UsageError } from '../../src/core/errors.js';
 import { withDefaults, type MatcherPlugin, type MatchInput, type ParamSpec, type ParamValues } from '../../src/core/matcher.js';
 import { btExtremes, btPair } from '../kernels/bt.js';
 import { censusTransform, popcount32 } from '../kernels/census.js';
-import { applyPostprocess, postprocessParamsWith, readPostprocess } from '../kernels/postprocess.js';
+import { postprocessParamsWith, readPostprocess } from '../kernels/postprocess.js';
 import { checkInputSizes, disparityLevels } from '../kernels/range.js';
-import { wta, wtaRight } from '../kernels/wta.js';
 import { solveBp, type BpSolveOptions } from './bp.js';
+import { finishVolume } from '../kernels/finish.js';
 
 export interface BpOptions extends BpSolveOptions {
   cost: 'census' | 'bt';
@@ -144,10 +144,7 @@ export function bpMatch(input: MatchInput, params: ParamValues, signal?: AbortSi
       for (let y = 0; y < height; y++) belief[(y * width + x) * levels + k] = Infinity;
     }
   }
-  const dispL = wta(belief, width, height, levels, minDisparity, { subpix: post.subpix, uniqueness: post.uniq });
-  const dispR = post.lr > 0 ? wtaRight(belief, width, height, levels, minDisparity, { subpix: post.subpix }) : null;
-  applyPostprocess(dispL, dispR, width, height, post);
-  return dispL;
+  return finishVolume(belief, { width, height, levels, minDisparity }, post);
 }
 
 export const bpMatcher: MatcherPlugin = {
@@ -155,7 +152,5 @@ export const bpMatcher: MatcherPlugin = {
   summary: 'loopy min-sum belief propagation, truncated linear or Potts smoothness, coarse to fine',
   version: '1.0.0',
   params: BP_PARAMS,
-  match(input, params, signal) {
-    return bpMatch(input, params, signal);
-  },
+  match: bpMatch,
 };

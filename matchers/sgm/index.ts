@@ -18,9 +18,10 @@ import { censusTransform, censusWords } from '../kernels/census.js';
 import { applyPostprocess, postprocessParamsWith, readPostprocess, type PostprocessOptions } from '../kernels/postprocess.js';
 import { checkInputSizes, disparityLevels } from '../kernels/range.js';
 import { SGM_MAX_COST, SGM_MAX_P2 } from '../kernels/sgm.js';
-import { EXCLUDED_U16, wta, wtaRight } from '../kernels/wta.js';
+import { EXCLUDED_U16 } from '../kernels/wta.js';
 import { aggregatePaths, createArena, type KernelChoice, type SgmArena } from './aggregate.js';
 import { dropKernelPool } from './wasm.js';
+import { finishVolume } from '../kernels/finish.js';
 
 export interface SgmOptions {
   p1: number;
@@ -325,13 +326,7 @@ function runPipeline(job: {
   aggregatePaths(arena, { p1: o.p1, p2: o.p2, edgeK: o.p2edge, paths: o.paths }, signal);
   lap('aggregate');
   const vol = compactSum(arena, minDisparity);
-  const dispL = wta(vol, width, height, levels, minDisparity, { subpix: post.subpix, uniqueness: post.uniq });
-  lap('wta');
-  const dispR = post.lr > 0 ? wtaRight(vol, width, height, levels, minDisparity, { subpix: post.subpix }) : null;
-  lap('wtaRight');
-  applyPostprocess(dispL, dispR, width, height, post);
-  lap('post');
-  return dispL;
+  return finishVolume(vol, { width, height, levels, minDisparity }, post, lap);
 }
 
 export const sgmMatcher: MatcherPlugin = {
@@ -339,9 +334,7 @@ export const sgmMatcher: MatcherPlugin = {
   summary: 'semi-global matching: census or BT cost, 4/8 paths (WebAssembly SIMD), WTA, LR check',
   version: '1.0.0',
   params: SGM_PARAMS,
-  match(input, params, signal) {
-    return sgmMatch(input, params, signal);
-  },
+  match: sgmMatch,
   dispose() {
     dropKernelPool();
   },

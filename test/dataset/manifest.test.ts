@@ -33,6 +33,9 @@ function errorOf(f: () => unknown): InputError {
   throw new Error('expected an InputError');
 }
 
+/** The error of loading a manifest made from `obj`. */
+const loadError = (obj: unknown): Error => errorOf(() => loadManifest(dsDir(JSON.stringify(obj))));
+
 describe('loadManifest', () => {
   it('loads the example manifest of the README, from the folder and from the file', () => {
     const d = dsDir(README_FORM);
@@ -102,7 +105,7 @@ describe('loadManifest', () => {
   it('an unknown field (a typo) is refused, naming it', () => {
     const obj = JSON.parse(README_FORM);
     obj.pairs[0].occlusoin = 'x.png';
-    const e = errorOf(() => loadManifest(dsDir(JSON.stringify(obj))));
+    const e = loadError(obj);
     expect(e.message).toContain('pairs[0]');
     expect(e.message).toContain('occlusoin');
   });
@@ -111,7 +114,7 @@ describe('loadManifest', () => {
     const obj = JSON.parse(README_FORM);
     delete obj.truthEncoding;
     obj.pairs[0].truth = 'crates-01/truth.png';
-    const e = errorOf(() => loadManifest(dsDir(JSON.stringify(obj))));
+    const e = loadError(obj);
     expect(e.message).toContain('truthEncoding');
     expect(e.message).toContain('crates-01/truth.png');
   });
@@ -119,7 +122,7 @@ describe('loadManifest', () => {
   it('duplicate and unsafe pair ids are refused', () => {
     const obj = JSON.parse(README_FORM);
     obj.pairs.push({ ...obj.pairs[0] });
-    const e = errorOf(() => loadManifest(dsDir(JSON.stringify(obj))));
+    const e = loadError(obj);
     expect(e.message).toMatch(/duplicate pair id "crates-01"/);
     for (const bad of ['../up', 'a/b', '.hidden', '', 'sp ace']) {
       const o = JSON.parse(README_FORM);

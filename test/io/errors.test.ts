@@ -6,16 +6,7 @@
  */
 import { describe, expect, it } from 'vitest';
 import { InputError, UsageError } from '../../src/core/errors.js';
-import {
-  decodeNpy,
-  decodePfm,
-  decodePng,
-  decodePngDisparity,
-  encodeNpy,
-  encodePfm,
-  encodePng,
-  encodePngDisparity,
-} from '../../src/io/index.js';
+import { decodeNpy, decodePfm, decodePng, decodePngDisparity, encodeNpy, encodePfm, encodePng, encodePngDisparity } from '../../src/io/index.js';
 import { buildPng, concat, ihdr, pngChunk, PNG_SIGNATURE, unfilteredScanlines } from './helpers.js';
 
 const ascii = (s: string) => Uint8Array.from(s, (c) => c.charCodeAt(0));

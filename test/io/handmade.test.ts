@@ -21,12 +21,14 @@ import {
 
 const ascii = (s: string) => Uint8Array.from(s, (c) => c.charCodeAt(0));
 
-function floats(values: number[], little: boolean): Uint8Array {
-  const out = new Uint8Array(values.length * 4);
+/** IEEE-754 bytes of the values, float32 (`bytes` 4) or float64 (8), in the given byte order. */
+function packed(values: number[], little: boolean, bytes: 4 | 8): Uint8Array {
+  const out = new Uint8Array(values.length * bytes);
   const dv = new DataView(out.buffer);
-  values.forEach((v, i) => dv.setFloat32(4 * i, v, little));
+  values.forEach((v, i) => (bytes === 4 ? dv.setFloat32(4 * i, v, little) : dv.setFloat64(8 * i, v, little)));
   return out;
 }
+const floats = (values: number[], little: boolean): Uint8Array => packed(values, little, 4);
 
 describe('PFM built by hand', () => {
   it('big-endian, scale 2.5, rows bottom to top; scale magnitude ignored; inf/NaN -> NaN', () => {
@@ -232,12 +234,7 @@ describe('.npy built by hand (NEP 1)', () => {
     else dv.setUint32(0, h.length, true);
     return concat([Uint8Array.of(0x93), ascii('NUMPY'), Uint8Array.of(major, 0), lenBytes, h, data]);
   }
-  function f64(values: number[], little: boolean): Uint8Array {
-    const out = new Uint8Array(values.length * 8);
-    const dv = new DataView(out.buffer);
-    values.forEach((v, i) => dv.setFloat64(8 * i, v, little));
-    return out;
-  }
+  const f64 = (values: number[], little: boolean): Uint8Array => packed(values, little, 8);
 
   it('version 1.0, <f4, shape (2, 3)', () => {
     const img = decodeNpy(npy(1, "{'descr': '<f4', 'fortran_order': False, 'shape': (2, 3), }      \n", floats([1, 2, 3, 4, 5, -6], true)), 'a.npy');

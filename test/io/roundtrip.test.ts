@@ -5,16 +5,7 @@
  * crosscheck.test.ts.
  */
 import { describe, expect, it } from 'vitest';
-import {
-  decodeNpy,
-  decodePfm,
-  decodePng,
-  decodePngDisparity,
-  encodeNpy,
-  encodePfm,
-  encodePng,
-  encodePngDisparity,
-} from '../../src/io/index.js';
+import { decodeNpy, decodePfm, decodePng, decodePngDisparity, encodeNpy, encodePfm, encodePng, encodePngDisparity } from '../../src/io/index.js';
 import type { FloatImage, RasterImage } from '../../src/core/image.js';
 import { mulberry32 as rng } from '../support/rng.js';
 

@@ -4,6 +4,11 @@ import { blockCostSlice, createBlockScratch, type BlockCostKind } from '../../ma
 import { blockMatch, blockMatcher } from '../../matchers/block/index.js';
 import { mulberry32, randomDotStereogram, scoringMask, shareCorrect } from './block-rds.js';
 
+/** Two independent random images of whole grey levels (seeds a and b). */
+function randomPair(w: number, h: number, a: number, b: number): { w: number; h: number; L: Float32Array; R: Float32Array } {
+  return { w, h, L: randomInts(w * h, a), R: randomInts(w * h, b) };
+}
+
 function randomInts(n: number, seed: number): Float32Array {
   const rnd = mulberry32(seed);
   const a = new Float32Array(n);
@@ -49,10 +54,7 @@ describe('SAD / SSD cost slices', () => {
 });
 
 describe('ZNCC', () => {
-  const w = 24;
-  const h = 16;
-  const L = randomInts(w * h, 3);
-  const R = randomInts(w * h, 4);
+  const { w, h, L, R } = randomPair(24, 16, 3, 4);
 
   it('equals 1 - ZNCC computed from the definition with window means, away from borders', () => {
     const r = 2;
@@ -233,10 +235,7 @@ describe('block matcher on a random-dot stereogram (Julesz 1960)', () => {
 });
 
 describe('block matcher: range, excluded candidates, abort, schema', () => {
-  const w = 40;
-  const h = 12;
-  const L = randomInts(w * h, 8);
-  const R = randomInts(w * h, 9);
+  const { w, h, L, R } = randomPair(40, 12, 8, 9);
 
   it('never answers a disparity whose match falls outside the right image (d = x_left - x_right)', () => {
     const d = blockMatch(

@@ -63,15 +63,7 @@ describe('wtaRight', () => {
 });
 
 /** Naive WTA written for the test: argmin over candidates with 0 <= x - d < width. */
-function naiveLeft(
-  cost: (x: number, y: number, l: number) => number,
-  w: number,
-  h: number,
-  levels: number,
-  minD: number,
-  subpix: boolean,
-  uniq: number,
-): Float32Array {
+function naiveLeft(cost: (x: number, y: number, l: number) => number, w: number, h: number, levels: number, minD: number, subpix: boolean, uniq: number): Float32Array {
   const out = new Float32Array(w * h);
   for (let y = 0; y < h; y++) {
     for (let x = 0; x < w; x++) {
@@ -106,13 +98,7 @@ function naiveLeft(
   return out;
 }
 
-function naiveRight(
-  cost: (x: number, y: number, l: number) => number,
-  w: number,
-  h: number,
-  levels: number,
-  minD: number,
-): Float32Array {
+function naiveRight(cost: (x: number, y: number, l: number) => number, w: number, h: number, levels: number, minD: number): Float32Array {
   const out = new Float32Array(w * h);
   for (let y = 0; y < h; y++) {
     for (let xr = 0; xr < w; xr++) {

@@ -137,7 +137,10 @@ function checkManifestText(text: string | Uint8Array): void {
 }
 
 /** Two properties of a JSON parser: random JSON values, and the valid base with 1-4 mutations. */
-function jsonProperties(check: (text: string) => void, valid: unknown, mutatedTitle: string, numRuns: number): void {
+function jsonProperties(check: (text: string) => void, valid: unknown, mutatedTitle: string, numRuns: number, sanity: () => boolean): void {
+  it('the valid base parses (sanity check of the mutation base)', () => {
+    if (!sanity()) throw new Error('the valid base is not accepted');
+  });
   it('random JSON values: parsed or a typed one-line error', () => {
     fc.assert(fc.property(fc.jsonValue(), (v) => check(JSON.stringify(v) ?? 'null')), { numRuns });
   });
@@ -147,12 +150,10 @@ function jsonProperties(check: (text: string) => void, valid: unknown, mutatedTi
 }
 
 describe('dataset manifest parser (loadManifest)', () => {
-  it('the valid base manifest parses (sanity check of the mutation base)', () => {
+  jsonProperties(checkManifestText, VALID_MANIFEST, 'mutated valid manifests: parsed (paths inside the folder) or a typed one-line error', 1200, () => {
     writeFileSync(manifestFile, JSON.stringify(VALID_MANIFEST));
-    if (loadManifest(dsDir).pairs.length !== 2) throw new Error('base manifest not accepted');
+    return loadManifest(dsDir).pairs.length === 2;
   });
-
-  jsonProperties(checkManifestText, VALID_MANIFEST, 'mutated valid manifests: parsed (paths inside the folder) or a typed one-line error', 1200);
 
   it('random strings and bytes: a typed one-line error (or, rarely, a manifest)', () => {
     const text = fc.oneof(
@@ -190,12 +191,10 @@ function checkExperimentText(text: string | Uint8Array): void {
 }
 
 describe('experiment-file parser (loadExperimentFile)', () => {
-  it('the valid base experiment parses (sanity check of the mutation base)', () => {
+  jsonProperties(checkExperimentText, VALID_EXPERIMENT, 'mutated valid experiment files: parsed (thresholds sorted, distinct, > 0) or a typed one-line error', 1000, () => {
     writeFileSync(expFile, JSON.stringify(VALID_EXPERIMENT));
-    if (loadExperimentFile(expFile).thresholds.length !== 3) throw new Error('base experiment not accepted');
+    return loadExperimentFile(expFile).thresholds.length === 3;
   });
-
-  jsonProperties(checkExperimentText, VALID_EXPERIMENT, 'mutated valid experiment files: parsed (thresholds sorted, distinct, > 0) or a typed one-line error', 1000);
 
   it('random strings and bytes: a typed one-line error', () => {
     const text = fc.oneof(fc.string({ maxLength: 200 }), fc.string({ unit: 'binary', maxLength: 200 }), fc.uint8Array({ maxLength: 200 }));
