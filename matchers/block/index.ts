@@ -14,7 +14,7 @@
 import { MatcherFailure } from '../../src/core/errors.js';
 import type { MatcherPlugin, MatchInput, ParamValues } from '../../src/core/matcher.js';
 import { applyPostprocess, POSTPROCESS_PARAMS, readPostprocess } from '../kernels/postprocess.js';
-import { checkInputSizes, disparityLevels } from '../kernels/range.js';
+import { matchLevels } from '../kernels/range.js';
 import { copyRows, matchBySlices, type SliceFn, type StripSource } from '../kernels/slices.js';
 import { wasmPath } from '../sgm/wasm.js';
 import { BLOCK_COSTS, blockCostSlice, createBlockScratch, roundLuminance, type BlockCostKind } from './cost.js';
@@ -60,8 +60,7 @@ export function blockMatch(
   stripRows?: number,
 ): Float32Array {
   const { width, height } = input;
-  checkInputSizes(width, height, input.left, input.right);
-  const { minDisparity, levels } = disparityLevels(input.minDisparity, input.maxDisparity);
+  const { minDisparity, levels } = matchLevels(input);
   const opts = readBlockOptions(params);
   const post = readPostprocess(params);
   const radius = (opts.window - 1) >> 1;

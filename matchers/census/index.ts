@@ -8,7 +8,7 @@ import type { MatcherPlugin, MatchInput, ParamValues } from '../../src/core/matc
 import { boxSum } from '../kernels/box.js';
 import { censusTransform, hammingSlice } from '../kernels/census.js';
 import { POSTPROCESS_PARAMS, readPostprocess } from '../kernels/postprocess.js';
-import { checkInputSizes, disparityLevels } from '../kernels/range.js';
+import { matchLevels } from '../kernels/range.js';
 import { copyRowsU32, matchBySlices, type SliceFn, type StripSource } from '../kernels/slices.js';
 
 export interface CensusOptions {
@@ -35,8 +35,7 @@ export function censusMatch(
   stripRows?: number,
 ): Float32Array {
   const { width, height, left, right } = input;
-  checkInputSizes(width, height, left, right);
-  const { minDisparity, levels } = disparityLevels(input.minDisparity, input.maxDisparity);
+  const { minDisparity, levels } = matchLevels(input);
   const opts = readCensusOptions(params);
   const post = readPostprocess(params);
   const cl = censusTransform(left, width, height, opts.censusW, opts.censusH);

@@ -14,7 +14,7 @@ import { withDefaults, type MatcherPlugin, type MatchInput, type ParamSpec, type
 import { btExtremes, btPair } from '../kernels/bt.js';
 import { censusTransform, popcount32 } from '../kernels/census.js';
 import { postprocessParamsWith, readPostprocess } from '../kernels/postprocess.js';
-import { checkInputSizes, disparityLevels } from '../kernels/range.js';
+import { matchLevels } from '../kernels/range.js';
 import { solveBp, type BpSolveOptions } from './bp.js';
 import { finishVolume } from '../kernels/finish.js';
 
@@ -74,52 +74,65 @@ export function bpDataCost(
   signal?: AbortSignal,
 ): Float32Array {
   const { width, height, left, right } = input;
-  const vol = new Float32Array(width * height * levels);
-  const cap = o.weight * o.dataTrunc;
   if (o.cost === 'census') {
     const cl = censusTransform(left, width, height, o.censusW, o.censusH);
     const cr = censusTransform(right, width, height, o.censusW, o.censusH);
     const words = cl.words;
-    for (let y = 0; y < height; y++) {
-      if (signal?.aborted) throw new AbortedError();
-      const row = y * width;
-      for (let x = 0; x < width; x++) {
-        const base = (row + x) * levels;
+    return fillDataVolume(input, minD, levels, o, signal, {
+      row: () => undefined,
+      cost(row, x, xr) {
         const pl = (row + x) * words;
-        for (let k = 0; k < levels; k++) {
-          const xr = x - minD - k;
-          if (xr < 0 || xr >= width) {
-            vol[base + k] = cap;
-            continue;
-          }
-          const pr = (row + xr) * words;
-          let hd = 0;
-          for (let j = 0; j < words; j++) hd += popcount32(cl.bits[pl + j] ^ cr.bits[pr + j]);
-          vol[base + k] = o.weight * (hd < o.dataTrunc ? hd : o.dataTrunc);
-        }
-      }
-    }
-  } else {
-    const loL = new Float32Array(width);
-    const hiL = new Float32Array(width);
-    const loR = new Float32Array(width);
-    const hiR = new Float32Array(width);
-    for (let y = 0; y < height; y++) {
-      if (signal?.aborted) throw new AbortedError();
-      const row = y * width;
+        const pr = (row + xr) * words;
+        let hd = 0;
+        for (let j = 0; j < words; j++) hd += popcount32(cl.bits[pl + j] ^ cr.bits[pr + j]);
+        return hd;
+      },
+    });
+  }
+  const loL = new Float32Array(width);
+  const hiL = new Float32Array(width);
+  const loR = new Float32Array(width);
+  const hiR = new Float32Array(width);
+  return fillDataVolume(input, minD, levels, o, signal, {
+    row(row) {
       btExtremes(left, row, width, loL, hiL);
       btExtremes(right, row, width, loR, hiR);
-      for (let x = 0; x < width; x++) {
-        const base = (row + x) * levels;
-        for (let k = 0; k < levels; k++) {
-          const xr = x - minD - k;
-          if (xr < 0 || xr >= width) {
-            vol[base + k] = cap;
-            continue;
-          }
-          const c = btPair(left[row + x], loL[x], hiL[x], right[row + xr], loR[xr], hiR[xr]);
-          vol[base + k] = o.weight * (c < o.dataTrunc ? c : o.dataTrunc);
+    },
+    cost: (row, x, xr) => btPair(left[row + x], loL[x], hiL[x], right[row + xr], loR[xr], hiR[xr]),
+  });
+}
+
+/** A pixel cost of the data term: `row` prepares a row (offset y * width), `cost` prices left x against right xr. */
+interface PixelCost {
+  row(row: number): void;
+  cost(row: number, x: number, xr: number): number;
+}
+
+function fillDataVolume(
+  input: MatchInput,
+  minD: number,
+  levels: number,
+  o: BpOptions,
+  signal: AbortSignal | undefined,
+  pixel: PixelCost,
+): Float32Array {
+  const { width, height } = input;
+  const vol = new Float32Array(width * height * levels);
+  const cap = o.weight * o.dataTrunc;
+  for (let y = 0; y < height; y++) {
+    if (signal?.aborted) throw new AbortedError();
+    const row = y * width;
+    pixel.row(row);
+    for (let x = 0; x < width; x++) {
+      const base = (row + x) * levels;
+      for (let k = 0; k < levels; k++) {
+        const xr = x - minD - k;
+        if (xr < 0 || xr >= width) {
+          vol[base + k] = cap;
+          continue;
         }
+        const c = pixel.cost(row, x, xr);
+        vol[base + k] = o.weight * (c < o.dataTrunc ? c : o.dataTrunc);
       }
     }
   }
@@ -129,8 +142,7 @@ export function bpDataCost(
 /** The bp matcher as a plain function (the plugin's match). */
 export function bpMatch(input: MatchInput, params: ParamValues, signal?: AbortSignal): Float32Array {
   const { width, height } = input;
-  checkInputSizes(width, height, input.left, input.right);
-  const { minDisparity, levels } = disparityLevels(input.minDisparity, input.maxDisparity);
+  const { minDisparity, levels } = matchLevels(input);
   const full = withDefaults(BP_PARAMS, params);
   const o = readBpOptions(full);
   const post = readPostprocess(full);

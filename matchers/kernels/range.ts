@@ -3,6 +3,7 @@
  * floor(maxDisparity), inclusive. An empty range is a MatcherFailure.
  */
 import { MatcherFailure } from '../../src/core/errors.js';
+import type { MatchInput } from '../../src/core/matcher.js';
 
 export interface Levels {
   readonly minDisparity: number;
@@ -31,4 +32,10 @@ export function checkInputSizes(width: number, height: number, left: Float32Arra
       `image arrays do not match ${width}x${height}: left ${left.length}, right ${right.length} values`,
     );
   }
+}
+
+/** The checks and levels every built-in match starts with: image sizes, then the searched levels. */
+export function matchLevels(input: MatchInput): Levels {
+  checkInputSizes(input.width, input.height, input.left, input.right);
+  return disparityLevels(input.minDisparity, input.maxDisparity);
 }

@@ -16,7 +16,7 @@ import { withDefaults, type MatcherPlugin, type MatchInput, type ParamSpec, type
 import { btExtremes, btPair } from '../kernels/bt.js';
 import { censusTransform, censusWords } from '../kernels/census.js';
 import { applyPostprocess, postprocessParamsWith, readPostprocess, type PostprocessOptions } from '../kernels/postprocess.js';
-import { checkInputSizes, disparityLevels } from '../kernels/range.js';
+import { matchLevels } from '../kernels/range.js';
 import { SGM_MAX_COST, SGM_MAX_P2 } from '../kernels/sgm.js';
 import { EXCLUDED_U16 } from '../kernels/wta.js';
 import { aggregatePaths, createArena, type KernelChoice, type SgmArena } from './aggregate.js';
@@ -241,8 +241,7 @@ export const sgmStageTimes: Record<string, number> = {};
 /** The sgm matcher as a plain function (the plugin's match). */
 export async function sgmMatch(input: MatchInput, params: ParamValues, signal?: AbortSignal): Promise<Float32Array> {
   const { width, height } = input;
-  checkInputSizes(width, height, input.left, input.right);
-  const { minDisparity, levels } = disparityLevels(input.minDisparity, input.maxDisparity);
+  const { minDisparity, levels } = matchLevels(input);
   const full = withDefaults(SGM_PARAMS, params);
   const o = readSgmOptions(full);
   const post = readPostprocess(full);

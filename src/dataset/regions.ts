@@ -108,32 +108,35 @@ export function checkRegionParams(p: RegionParams): void {
  * horizontal gradient (edge-replicated), float64, row-major. See the file comment.
  */
 export function textureEnergy(gray: Float32Array, width: number, height: number, window: number): Float64Array {
-  const h = rowBoxSums(gray, width, height, window);
   const out = new Float64Array(width * height);
-  const r = (window - 1) >> 1;
-  const inv = 1 / (window * window);
-  const s = firstColumnSums(h, width, height, r);
-  for (let y = 0; y < height; y++) {
-    const row = y * width;
-    for (let x = 0; x < width; x++) out[row + x] = s[x] * inv;
-    nextColumnSums(h, width, height, r, y, s);
-  }
+  forEachWindowMean(gray, width, height, window, (i, mean) => (out[i] = mean));
   return out;
 }
 
 /** 1 where textureEnergy < threshold (strict), else 0; computed without storing the energy. */
 export function flatMask(gray: Float32Array, width: number, height: number, window: number, threshold: number): Uint8Array {
-  const h = rowBoxSums(gray, width, height, window);
   const out = new Uint8Array(width * height);
+  forEachWindowMean(gray, width, height, window, (i, mean) => (out[i] = mean < threshold ? 1 : 0));
+  return out;
+}
+
+/** Calls visit(pixel index, window mean of the squared gradient) for every pixel, row by row. */
+function forEachWindowMean(
+  gray: Float32Array,
+  width: number,
+  height: number,
+  window: number,
+  visit: (index: number, mean: number) => void,
+): void {
+  const h = rowBoxSums(gray, width, height, window);
   const r = (window - 1) >> 1;
   const inv = 1 / (window * window);
   const s = firstColumnSums(h, width, height, r);
   for (let y = 0; y < height; y++) {
     const row = y * width;
-    for (let x = 0; x < width; x++) out[row + x] = s[x] * inv < threshold ? 1 : 0;
+    for (let x = 0; x < width; x++) visit(row + x, s[x] * inv);
     nextColumnSums(h, width, height, r, y, s);
   }
-  return out;
 }
 
 /**

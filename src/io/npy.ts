@@ -219,43 +219,48 @@ export function decodeNpy(buf: Uint8Array, name: string, opts?: DecodeOptions): 
   if (code === 'f4' && le === HOST_LITTLE_ENDIAN) {
     new Uint8Array(data.buffer).set(buf.subarray(start, start + expected));
   } else {
-    readConverted(dv, start, n, code, le, data);
+    readConverted(buf, start, n, code, le, data);
   }
   nonFiniteToNaN(data);
   return { width, height, data };
 }
 
-function readConverted(dv: DataView, off: number, n: number, code: string, le: boolean, out: Float32Array): void {
-  switch (code) {
-    case 'f4':
-      for (let i = 0; i < n; i++) out[i] = dv.getFloat32(off + 4 * i, le);
-      break;
-    case 'f8':
-      for (let i = 0; i < n; i++) out[i] = dv.getFloat64(off + 8 * i, le);
-      break;
-    case 'f2':
-      for (let i = 0; i < n; i++) out[i] = halfToFloat(dv.getUint16(off + 2 * i, le));
-      break;
-    case 'u1':
-      for (let i = 0; i < n; i++) out[i] = dv.getUint8(off + i);
-      break;
-    case 'i1':
-      for (let i = 0; i < n; i++) out[i] = dv.getInt8(off + i);
-      break;
-    case 'u2':
-      for (let i = 0; i < n; i++) out[i] = dv.getUint16(off + 2 * i, le);
-      break;
-    case 'i2':
-      for (let i = 0; i < n; i++) out[i] = dv.getInt16(off + 2 * i, le);
-      break;
-    case 'u4':
-      for (let i = 0; i < n; i++) out[i] = dv.getUint32(off + 4 * i, le);
-      break;
-    case 'i4':
-      for (let i = 0; i < n; i++) out[i] = dv.getInt32(off + 4 * i, le);
-      break;
-    default:
-      throw new RangeError(`unhandled dtype ${code}`);
+/** The typed array that reads each dtype code's elements in host byte order. */
+const ELEMENT_ARRAYS = {
+  f4: Float32Array,
+  f8: Float64Array,
+  f2: Uint16Array, // IEEE half: read as bits, widened by halfToFloat
+  u1: Uint8Array,
+  i1: Int8Array,
+  u2: Uint16Array,
+  i2: Int16Array,
+  u4: Uint32Array,
+  i4: Int32Array,
+} as const;
+
+/** Copies n elements of `code` from buf at off into out, converting to float32. */
+function readConverted(buf: Uint8Array, off: number, n: number, code: string, le: boolean, out: Float32Array): void {
+  const Elements = ELEMENT_ARRAYS[code as keyof typeof ELEMENT_ARRAYS];
+  if (Elements === undefined) throw new RangeError(`unhandled dtype ${code}`);
+  const size = Elements.BYTES_PER_ELEMENT;
+  // A fresh copy is aligned for the typed array; swap it in place when the file's order is not the host's.
+  const raw = new Uint8Array(buf.subarray(off, off + n * size)); // a copy: Buffer#slice would share memory
+  if (size > 1 && le !== HOST_LITTLE_ENDIAN) swapBytes(raw, size);
+  const elements = new Elements(raw.buffer, 0, n);
+  if (code === 'f2') {
+    for (let i = 0; i < n; i++) out[i] = halfToFloat(elements[i]);
+  } else {
+    out.set(elements);
+  }
+}
+
+function swapBytes(raw: Uint8Array, size: number): void {
+  for (let i = 0; i < raw.length; i += size) {
+    for (let a = i, b = i + size - 1; a < b; a++, b--) {
+      const t = raw[a];
+      raw[a] = raw[b];
+      raw[b] = t;
+    }
   }
 }
 

@@ -102,21 +102,23 @@ describe('loadManifest', () => {
     expect(errorOf(() => loadManifest(dsDir(JSON.stringify(obj2)))).message).toContain('disparityRange');
   });
 
-  it('an unknown field (a typo) is refused, naming it', () => {
+  // Each case spoils the README's example in one way; the error must name every needle.
+  const refusals: [string, (obj: any) => void, string[]][] = [
+    ['an unknown field (a typo) is refused, naming it', (o) => (o.pairs[0].occlusoin = 'x.png'), ['pairs[0]', 'occlusoin']],
+    [
+      'PNG truth without truthEncoding is an error naming the truth file',
+      (o) => {
+        delete o.truthEncoding;
+        o.pairs[0].truth = 'crates-01/truth.png';
+      },
+      ['truthEncoding', 'crates-01/truth.png'],
+    ],
+  ];
+  it.each(refusals)('%s', (_title, spoil, needles) => {
     const obj = JSON.parse(README_FORM);
-    obj.pairs[0].occlusoin = 'x.png';
-    const e = loadError(obj);
-    expect(e.message).toContain('pairs[0]');
-    expect(e.message).toContain('occlusoin');
-  });
-
-  it('PNG truth without truthEncoding is an error naming the truth file', () => {
-    const obj = JSON.parse(README_FORM);
-    delete obj.truthEncoding;
-    obj.pairs[0].truth = 'crates-01/truth.png';
-    const e = loadError(obj);
-    expect(e.message).toContain('truthEncoding');
-    expect(e.message).toContain('crates-01/truth.png');
+    spoil(obj);
+    const message = loadError(obj).message;
+    for (const needle of needles) expect(message).toContain(needle);
   });
 
   it('duplicate and unsafe pair ids are refused', () => {

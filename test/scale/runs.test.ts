@@ -41,6 +41,13 @@ beforeAll(async () => {
   expect(r.code).toBe(0);
 }, 120_000);
 
+/** A copy of a folder under the test root, to spoil without touching the original. */
+function copyUnderRoot(src: string, name: string): string {
+  const dest = join(root, name);
+  cpSync(src, dest, { recursive: true });
+  return dest;
+}
+
 describe('worker pool', () => {
   it('--jobs 2 writes the same tables as --jobs 1 (timing columns aside)', () => {
     const out = join(root, 'jobs2');
@@ -154,8 +161,7 @@ describe('shards and merge', () => {
     expect(r.stderr).toContain(join(other, 'run.json'));
     expect(r.stderr).toMatch(/thresholds differ/);
     // A copy of shard 1 whose journal has one job's scores altered.
-    const forged = join(root, 'forged');
-    cpSync(join(root, 'shard-1'), forged, { recursive: true });
+    const forged = copyUnderRoot(join(root, 'shard-1'), 'forged');
     const lines = readFileSync(join(forged, 'results.jsonl'), 'utf8').trimEnd().split('\n');
     const first = JSON.parse(lines[0]);
     first.scores.known.sums.sumAbs += 1;
@@ -169,8 +175,7 @@ describe('shards and merge', () => {
 
 describe('resume', () => {
   it('a journal with a half-written last line resumes: the torn line is cut, the rest is run, tables equal', () => {
-    const dir = join(root, 'torn');
-    cpSync(ref, dir, { recursive: true });
+    const dir = copyUnderRoot(ref, 'torn');
     const journal = join(dir, 'results.jsonl');
     const lines = readFileSync(journal, 'utf8').trimEnd().split('\n');
     expect(lines).toHaveLength(PAIRS * 2);
@@ -192,8 +197,7 @@ describe('resume', () => {
   }, 120_000);
 
   it('--resume refuses a run whose dataset changed since, and takes no other settings', () => {
-    const ds2 = join(root, 'ds-changing');
-    cpSync(ds, ds2, { recursive: true });
+    const ds2 = copyUnderRoot(ds, 'ds-changing');
     const dir = join(root, 'changing');
     expect(parallax(['run', '-d', ds2, '-m', 'block', '--no-cache', '-o', dir, '-q'], root).code).toBe(0);
     // The right image of one pair replaced by another pair's: the dataset hash changes.
@@ -210,8 +214,7 @@ describe('resume', () => {
 
 describe('hostile input and bad options', () => {
   it('a dataset whose image is a symbolic link leading out of its folder is refused', () => {
-    const d = join(root, 'ds-link');
-    cpSync(ds, d, { recursive: true });
+    const d = copyUnderRoot(ds, 'ds-link');
     const outside = join(root, 'outside.png');
     cpSync(join(d, 'syn-0001', 'left.png'), outside);
     rmSync(join(d, 'syn-0001', 'left.png'));

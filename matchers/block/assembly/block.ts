@@ -29,21 +29,14 @@
 //     SSD: (a - b)^2 <= 65025; window sum <= 51^2 * 65025 = 169,130,025 < 2^31 - 1 = MAX32.
 //     SAD: <= 51^2 * 255 = 663,255. Differences are taken in i16 lanes (|a - b| <= 255 fits).
 
+import { hmin16 } from '../../kernels/assembly/shared/lanes';
+
 const MAX16: i32 = 0xffff;
 const MAX32: i32 = 0x7fffffff;
 
 @inline
 function clampI(v: i32, lo: i32, hi: i32): i32 {
   return v < lo ? lo : v > hi ? hi : v;
-}
-
-// Smallest lane of 8 u16.
-@inline
-function hmin16(v: v128): i32 {
-  v = i16x8.min_u(v, i16x8.shuffle(v, v, 4, 5, 6, 7, 0, 1, 2, 3));
-  v = i16x8.min_u(v, i16x8.shuffle(v, v, 2, 3, 0, 1, 2, 3, 0, 1));
-  v = i16x8.min_u(v, i16x8.shuffle(v, v, 1, 0, 1, 0, 1, 0, 1, 0));
-  return <i32>i16x8.extract_lane_u(v, 0);
 }
 
 // Smallest lane of 4 i32.

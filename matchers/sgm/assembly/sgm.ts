@@ -3,19 +3,12 @@
 // results as pathRowTs in matchers/kernels/sgm.ts (the scalar reference; read the
 // overflow proof there). Compiled by scripts/build-wasm.sh with --enable simd -O3.
 
+import { hmin16 } from '../../kernels/assembly/shared/lanes';
+
 const PAD: i32 = 0xffff;
 // 256 int32 of scratch for the P2' table, inside the first 64 KiB that the host leaves
 // to this module (the module has no data segments).
 const P2_TABLE: usize = 1024;
-
-// Smallest lane of a vector of 8 uint16.
-@inline
-function hmin(v: v128): i32 {
-  v = i16x8.min_u(v, i16x8.shuffle(v, v, 4, 5, 6, 7, 0, 1, 2, 3));
-  v = i16x8.min_u(v, i16x8.shuffle(v, v, 2, 3, 0, 1, 2, 3, 0, 1));
-  v = i16x8.min_u(v, i16x8.shuffle(v, v, 1, 0, 1, 0, 1, 0, 1, 0));
-  return <i32>i16x8.extract_lane_u(v, 0);
-}
 
 // L of one pixel and one direction; returns min_k L.
 @inline
@@ -31,19 +24,14 @@ function pathPixel(cPtr: usize, prevPtr: usize, outPtr: usize, nblocks: i32, pad
   for (let b = 0; b < nblocks; b++) {
     const off = <usize>(b << 4);
     const next = b < last ? v128.load(prevPtr + off + 16) : ones;
-    // L(d - 1) and L(d + 1) of the previous pixel
-    const lm = i16x8.shuffle(before, cur, 7, 8, 9, 10, 11, 12, 13, 14);
-    const lp = i16x8.shuffle(cur, next, 1, 2, 3, 4, 5, 6, 7, 8);
-    let m = i16x8.min_u(cur, i16x8.add_sat_u(i16x8.min_u(lm, lp), vp1));
-    m = i16x8.min_u(m, vt2);
-    let l = i16x8.sub(i16x8.add(v128.load(cPtr + off), m), vmp);
+    let l = lBlock(before, cur, next, v128.load(cPtr + off), vp1, vt2, vmp);
     if (b == last) l = v128.or(l, padMask);
     v128.store(outPtr + off, l);
     vmin = i16x8.min_u(vmin, l);
     before = cur;
     cur = next;
   }
-  return hmin(vmin);
+  return hmin16(vmin);
 }
 
 // One block of L for one direction: C + min(L'(d), min(L'(d-1), L'(d+1)) + P1, m' + P2') - m'.
@@ -149,10 +137,10 @@ function fusedPixel(
     b3 = c3;
     c3 = n3;
   }
-  store<u16>(minsOut, <u16>hmin(m0));
-  store<u16>(minsOut + minStride, <u16>hmin(m1));
-  store<u16>(minsOut + 2 * minStride, <u16>hmin(m2));
-  store<u16>(minsOut + 3 * minStride, <u16>hmin(m3));
+  store<u16>(minsOut, <u16>hmin16(m0));
+  store<u16>(minsOut + minStride, <u16>hmin16(m1));
+  store<u16>(minsOut + 2 * minStride, <u16>hmin16(m2));
+  store<u16>(minsOut + 3 * minStride, <u16>hmin16(m3));
 }
 
 // First pixel of a path: L = C (padded lanes PAD); returns min_k L.
@@ -167,7 +155,7 @@ function startPixel(cPtr: usize, outPtr: usize, nblocks: i32, padMask: v128): i3
     v128.store(outPtr + off, l);
     vmin = i16x8.min_u(vmin, l);
   }
-  return hmin(vmin);
+  return hmin16(vmin);
 }
 
 export function pathRow(
@@ -503,7 +491,7 @@ export function wtaRow(sumRow: usize, out: usize, width: i32, levels: i32, strid
       if (b == last) v = v128.or(v, padMask);
       vmin = i16x8.min_u(vmin, v);
     }
-    const best = hmin(vmin);
+    const best = hmin16(vmin);
     const o = out + (<usize>x << 2);
     if (best == EXCLUDED) {
       store<f32>(o, NaN);
