@@ -131,6 +131,9 @@ function splitRow(width: number, d: number): { lo: number; hi: number } {
   return { lo, hi };
 }
 
+// absDiffSlice and sqDiffSlice share their loop on purpose: each is the scalar reference that
+// the wasm kernel is checked against bit for bit, and a cost callback per pixel would put a
+// call into the innermost loop of the slowest path (not measured separately).
 function absDiffSlice(
   left: Float32Array,
   right: Float32Array,

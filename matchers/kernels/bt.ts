@@ -73,6 +73,8 @@ export function btCostRow(
   outside: number,
   out: Float32Array,
 ): void {
+// The cost-row loop (levels, candidates outside the right image) has the shape of census.ts's
+// Hamming volume on purpose: each fills its own cost kind in its innermost loop.
   const D = maxD - minD + 1;
   const loL = new Float32Array(width);
   const hiL = new Float32Array(width);

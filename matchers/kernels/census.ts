@@ -153,6 +153,8 @@ function insideEnd(width: number, d: number, lo: number): number {
 }
 
 // One word per pixel (windows up to 33 pixels, e.g. 5x5): no inner loop.
+// hammingSlice1, hammingSlice2 and hammingSliceN repeat one loop on purpose: the 1- and
+// 2-word forms have no inner loop over words, which is the common census window (up to 9x7).
 function hammingSlice1(
   bitsL: Uint32Array,
   bitsR: Uint32Array,

@@ -49,6 +49,7 @@ export function subpixelParabola(cm: number, c0: number, cp: number): number {
 }
 
 /** Marks NaN where the left and right maps disagree; see the file header. */
+// The image loop opens like the WTA's in wta.ts; only the loop header is shared, the bodies differ.
 export function leftRightCheck(
   dispL: Float32Array,
   dispR: Float32Array,

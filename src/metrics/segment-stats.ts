@@ -359,6 +359,8 @@ function highWord(x: number): number {
 }
 
 /** Big-endian hosts: gather |e| of the group's segments and count directly. */
+// gatherStats repeats the group-membership loop of the histogram path on purpose: it is the
+// big-endian fallback, kept simple and separate from the little-endian bucket path.
 function gatherStats(
   values: Float64Array,
   starts: Int32Array,

@@ -15,6 +15,8 @@
  */
 import { createPrng } from './prng.js';
 
+// The option block has bootstrap.ts's shape (defaults, then an options interface); the two
+// procedures share only the seed, so each keeps its own documented defaults.
 export const DEFAULT_EXACT_MAX_UNITS = 20;
 export const DEFAULT_PERMUTATIONS = 20000;
 

@@ -4,6 +4,8 @@
  */
 import type { Primitive, Scene } from './scene.js';
 
+// Layout codes of the flat geometry arrays; texture.ts and dataset.ts have lists of the same
+// shape (pattern codes, demo constants), each a plain list of named numbers.
 export const KIND_RECT = 0;
 export const KIND_BOX = 1;
 export const KIND_CYL = 2;
@@ -125,6 +127,8 @@ function clipSlab(lo: number, hi: number, o: number, d: number): boolean {
  * Nearest hit of primitive k with the ray in (tmin, tmax): writes t to ray[RAY_T]
  * (Infinity when there is none) and returns whether there is a hit.
  */
+// The ray is unpacked into locals here and in render.ts's nearest() on purpose: each is a
+// hot loop over primitives, and reading through a shared accessor would cross a call per test.
 export function intersectPrimitive(g: CompiledGeometry, k: number, ray: Float64Array): boolean {
   const ox = ray[0];
   const oy = ray[1];

@@ -188,6 +188,8 @@ export function patternInto(cm: CompiledMaterials, mi: number, io: Float64Array)
   else planksInto(m, o, table, io);
 }
 
+// The pattern functions below open alike on purpose: each reads (u, v) and its own
+// parameters from the packed material row at its own offsets (see MSTRIDE), in locals.
 function noiseInto(m: Float64Array, o: number, table: Float32Array, io: Float64Array): void {
   const u = io[3];
   const v = io[4];

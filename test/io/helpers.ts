@@ -87,6 +87,8 @@ export function be16(values: number[]): Uint8Array {
 }
 
 /** Adam7 passes (PNG spec, "Interlace method 1"): x start, y start, x step, y step. */
+// Kept apart from src/io/png on purpose: these helpers are an independent writer from the
+// specification, so that the decoder is never tested against itself.
 export const ADAM7 = [
   [0, 0, 8, 8],
   [4, 0, 8, 8],

@@ -12,6 +12,7 @@ import { roundLevel, roundLuminance } from '../../matchers/block/cost.js';
 import { blockLastRun, blockMatch, blockMatcher } from '../../matchers/block/index.js';
 import { wasmPath } from '../../matchers/sgm/wasm.js';
 import { mulberry32, randomDotStereogram } from './block-rds.js';
+import { randomImage } from '../support/rng.js';
 
 type Img = { width: number; height: number; left: Float32Array; right: Float32Array };
 
@@ -156,12 +157,9 @@ describe('block wasm kernel', () => {
     const rnd = mulberry32(77);
     const w = 64;
     const h = 48;
-    const left = new Float32Array(w * h);
-    const right = new Float32Array(w * h);
-    for (let i = 0; i < w * h; i++) {
-      left[i] = rnd() < 0.5 ? 0 : 255;
-      right[i] = rnd() < 0.5 ? 0 : 255;
-    }
+    const extreme = (r: () => number): number => (r() < 0.5 ? 0 : 255);
+    const left = randomImage(rnd, w * h, extreme);
+    const right = randomImage(rnd, w * h, extreme);
     const img = { width: w, height: h, left, right };
     for (const [cost, window] of [
       ['sad', 15],

@@ -3,6 +3,7 @@ import fc from 'fast-check';
 import { censusCostVolume, censusTransform, censusWords, hammingSlice, popcount32 } from '../../matchers/kernels/census.js';
 import { EXCLUDED_U16 } from '../../matchers/kernels/wta.js';
 import { mulberry32 } from './block-rds.js';
+import { randomImage } from '../support/rng.js';
 
 /** Bit count by shifting one bit at a time (definition of population count). */
 function naivePopcount(x: number): number {
@@ -104,12 +105,8 @@ describe('Hamming costs', () => {
   const rnd = mulberry32(5);
   const w = 19;
   const h = 9;
-  const L = new Float32Array(w * h);
-  const R = new Float32Array(w * h);
-  for (let i = 0; i < L.length; i++) {
-    L[i] = Math.floor(rnd() * 256);
-    R[i] = Math.floor(rnd() * 256);
-  }
+  const L = randomImage(rnd, w * h);
+  const R = randomImage(rnd, w * h);
   const cl = censusTransform(L, w, h, 9, 7);
   const cr = censusTransform(R, w, h, 9, 7);
 

@@ -131,6 +131,7 @@ describe('SGM path recurrence', () => {
     // x4: L'=[4,11,8,3], m'=3, m'+P2=8
     //   d0: min(4, 11+2, 8)=4 -> 5+4-3=6;  d1: min(11, 4+2, 8+2, 8)=6 -> 5+6-3=8
     //   d2: min(8, 11+2, 3+2, 8)=5 -> 1+5-3=3;  d3: min(3, 8+2, 8)=3 -> 3+3-3=3
+// Same shape as C above: both are the worked example's tables, written out for the reader.
     const expected = [
       [4, 1, 6, 9],
       [5, 5, 2, 7],

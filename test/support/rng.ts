@@ -16,3 +16,14 @@ export function lcg32(seed: number): () => number {
     return s;
   };
 }
+
+/** An image of n samples drawn by `sample` (default: a uniform byte 0..255) from a seeded stream. */
+export function randomImage(
+  rnd: () => number,
+  n: number,
+  sample: (rnd: () => number) => number = (r) => Math.floor(r() * 256),
+): Float32Array {
+  const img = new Float32Array(n);
+  for (let i = 0; i < n; i++) img[i] = sample(rnd);
+  return img;
+}

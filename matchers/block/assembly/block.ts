@@ -163,6 +163,9 @@ export function addRow32(col: usize, lRow: usize, rpRow: usize, width: i32, stri
 //   outL   width f32: left disparity (NaN = no candidate or not unique)
 //   levels, minD  the (clipped) levels; r = window radius
 //   subpix, uniq (0/1), factor = 1 + uniqueness% / 100, right (0/1); ssd is read by wtaRow32
+// wtaRow16 and wtaRow32 repeat one loop on purpose: AssemblyScript's SIMD operations are
+// typed per lane width (i16x8.* against i32x4.*) and it has no generics over them, so one
+// function cannot serve both lane kinds without a branch per vector in the inner loop.
 export function wtaRow16(
   col: usize,
   acc: usize,

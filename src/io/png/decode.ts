@@ -137,6 +137,8 @@ function inflatedSize(h: PngHeader): number {
   const rowBytes = (w: number) => Math.ceil((w * bitsPerPixel) / 8) + 1;
   if (!h.interlaced) return rowBytes(h.width) * h.height;
   // Adam7 passes: x start, y start, x step, y step
+// The pass table is the PNG standard's (Interlace method 1), a table of numbers like the
+// worked examples in the tests; test/io/helpers.ts has its own copy on purpose.
   const passes = [
     [0, 0, 8, 8],
     [4, 0, 8, 8],
