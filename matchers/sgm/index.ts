@@ -333,6 +333,7 @@ export const sgmMatcher: MatcherPlugin = {
   summary: 'semi-global matching: census or BT cost, 4/8 paths (WebAssembly SIMD), WTA, LR check',
   version: '1.0.0',
   params: SGM_PARAMS,
+  relations: [{ lower: 'p1', upper: 'p2' }],
   match: sgmMatch,
   dispose() {
     dropKernelPool();

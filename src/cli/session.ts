@@ -24,6 +24,9 @@ export function shownPath(p: string): string {
   return r && !r.startsWith('..') ? r : p;
 }
 
+/** Exit code of a run that finished with at least one failed job (tables and report written). */
+export const EXIT_JOBS_FAILED = 3;
+
 export async function runSession(plan: RunPlan, opts: SessionOptions): Promise<RunOutcome> {
   const ac = new AbortController();
   const onSigint = (): void => {
@@ -32,6 +35,7 @@ export async function runSession(plan: RunPlan, opts: SessionOptions): Promise<R
     ac.abort();
   };
   process.on('SIGINT', onSigint);
+  for (const w of plan.warnings ?? []) process.stderr.write(`parallax: warning: ${w}\n`);
   const showBar = !opts.quiet && process.stderr.isTTY === true;
   const bar = showBar
     ? new cliProgress.SingleBar(
@@ -90,6 +94,10 @@ export async function runSession(plan: RunPlan, opts: SessionOptions): Promise<R
       process.stderr.write(`parallax: ${n} pair(s) could not be loaded (see above); their jobs are recorded as failed\n`);
     }
     process.exitCode = 2;
+  } else if (outcome.info.jobs.failed > 0) {
+    // The tables and the report are written; the code tells a pipeline that not every job gave an answer.
+    if (!opts.quiet) process.stderr.write(`parallax: ${outcome.info.jobs.failed} of ${outcome.info.jobs.ok + outcome.info.jobs.failed} job(s) failed (exit ${EXIT_JOBS_FAILED})\n`);
+    process.exitCode = EXIT_JOBS_FAILED;
   }
   return outcome;
 }

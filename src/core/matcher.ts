@@ -54,6 +54,22 @@ export interface MatchOutput {
   readonly selfTimeMs?: number;
 }
 
+/** params[lower] <= params[upper] (numbers), declared beside the parameter schema. */
+export interface ParamRelation {
+  readonly lower: string;
+  readonly upper: string;
+}
+
+/** The first relation a full parameter set breaks, as a message (`p1=200 must not exceed p2=100`), or undefined. */
+export function brokenRelation(relations: readonly ParamRelation[] | undefined, params: Readonly<Record<string, ParamValue>>): string | undefined {
+  for (const r of relations ?? []) {
+    const lo = params[r.lower];
+    const hi = params[r.upper];
+    if (typeof lo === 'number' && typeof hi === 'number' && lo > hi) return `${r.lower}=${lo} must not exceed ${r.upper}=${hi}`;
+  }
+  return undefined;
+}
+
 export interface MatcherPlugin {
   /** Short id used on the command line, e.g. `block`, `sgm`. */
   readonly id: string;
@@ -62,6 +78,11 @@ export interface MatcherPlugin {
   /** Bump when the output for the same input and parameters changes. */
   readonly version: string;
   readonly params: readonly ParamSpec[];
+  /**
+   * Constraints across parameters, checked by the registry before any job runs (like
+   * each parameter's own range): `{ lower: 'p1', upper: 'p2' }` means p1 <= p2.
+   */
+  readonly relations?: readonly ParamRelation[];
   /**
    * Compute a disparity map. May return a Float32Array directly or a MatchOutput.
    * Must check `signal` between rows or stages on long work and throw when aborted.

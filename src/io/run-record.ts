@@ -59,6 +59,8 @@ export const runSettingsSchema = z.object({
   name: z.string().optional(),
   /** Folder that matcher module paths and program definitions are relative to. */
   baseDir: z.string(),
+  /** Per-job time limit of command-line module plugins, ms (`--module-timeout`). */
+  moduleTimeoutMs: z.number().optional(),
 });
 
 const configRecord = z.object({
@@ -73,6 +75,10 @@ const configRecord = z.object({
       version: z.string().optional(),
       params: z.record(z.string(), z.unknown()),
       codeHash: z.string().optional(),
+      /** Programs: the command line the harness starts. */
+      command: z.array(z.string()).optional(),
+      /** Module plugins: the per-job time limit, ms. */
+      timeoutMs: z.number().optional(),
       predictions: z.object({ dir: z.string(), scale: z.number().optional(), invalid: z.number().optional() }).optional(),
     }),
   ),

@@ -125,7 +125,7 @@ export const METRIC_CATALOGUE = [
     unit: 'ms',
     better: 'lower',
     label: 'Match time',
-    description: 'time of the match: as the matcher reports it, else the wall time around the call; per job, the same in every region; not pooled',
+    description: 'time of the match: as the matcher reports it, else the wall time around the call; per job, the same in every region; means leave out cached and failed (or timed-out) jobs; not pooled',
     read: { job: 'time_ms' },
     pool: null,
   },
@@ -134,7 +134,7 @@ export const METRIC_CATALOGUE = [
     unit: 'MiB',
     better: 'lower',
     label: 'Peak memory',
-    description: 'peak resident memory of the process while the job ran; per job; not pooled',
+    description: 'peak resident memory of the process while the job ran; per job; means leave out cached and failed jobs; not pooled',
     read: { job: 'peak_mb' },
     pool: null,
   },
@@ -273,6 +273,16 @@ export function levelMapOf(job: { thresholds: readonly number[]; quantiles: read
 export interface JobCost {
   readonly time_ms: number | null;
   readonly peak_mb: number | null;
+}
+
+/**
+ * The cost a job contributes to means of time and memory: none when it came from the
+ * result cache (its time was measured by an earlier run) or did not finish (failed,
+ * timed out), so that means hold only measured, completed matches.
+ */
+export function measuredCost(job: JobCost & { readonly status: 'ok' | 'failed'; readonly cached?: boolean }): JobCost {
+  if (job.cached === true || job.status !== 'ok') return { time_ms: null, peak_mb: null };
+  return { time_ms: job.time_ms, peak_mb: job.peak_mb };
 }
 
 /** The value of a metric for one region of one job; null for an empty figure. */

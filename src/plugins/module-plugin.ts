@@ -10,7 +10,7 @@ import { createRequire } from 'node:module';
 import { dirname, join, resolve } from 'node:path';
 import { pathToFileURL } from 'node:url';
 import { UsageError } from '../core/errors.js';
-import type { MatcherPlugin, ParamSpec } from '../core/matcher.js';
+import type { MatcherPlugin, ParamRelation, ParamSpec } from '../core/matcher.js';
 import { checkParamSchema, looksLikeModulePath, quote } from './params.js';
 
 const PACKAGE_NAME = /^(@[a-z0-9~][a-z0-9._~-]*\/)?[a-z0-9~][a-z0-9._~-]*$/;
@@ -90,6 +90,7 @@ export function checkPluginExport(exp: unknown, where: string, option = '--match
   if (o.version !== undefined && typeof o.version !== 'string') return fail('version must be a string');
   if (o.dispose !== undefined && typeof o.dispose !== 'function') return fail('dispose must be a function');
   checkParamSchema(where, o.id, o.params as ParamSpec[], option);
+  const relations = checkRelations(o.relations, o.params as ParamSpec[], (m) => fail(m));
   const match = (o.match as MatcherPlugin['match']).bind(exp);
   const dispose = o.dispose ? (o.dispose as () => void | Promise<void>).bind(exp) : undefined;
   return {
@@ -97,9 +98,24 @@ export function checkPluginExport(exp: unknown, where: string, option = '--match
     summary: o.summary,
     version: (o.version as string | undefined) ?? '0',
     params: o.params as ParamSpec[],
+    ...(relations.length ? { relations } : {}),
     match,
     ...(dispose ? { dispose } : {}),
   };
+}
+
+/** A module's `relations`: absent, or an array of { lower, upper } naming declared numeric parameters. */
+function checkRelations(value: unknown, specs: readonly ParamSpec[], fail: (message: string) => never): ParamRelation[] {
+  if (value === undefined) return [];
+  if (!Array.isArray(value)) return fail('relations must be an array of { lower, upper }');
+  const numeric = new Set(specs.filter((p) => p.type === 'int' || p.type === 'number').map((p) => p.name));
+  return value.map((r: unknown, i) => {
+    const o = r as { lower?: unknown; upper?: unknown } | null;
+    if (!o || typeof o.lower !== 'string' || typeof o.upper !== 'string' || !numeric.has(o.lower) || !numeric.has(o.upper)) {
+      return fail(`relations[${i}] must be { lower, upper } naming two declared numeric parameters`);
+    }
+    return { lower: o.lower, upper: o.upper };
+  });
 }
 
 /** Load a module plugin from its absolute file path. */

@@ -248,6 +248,40 @@ export function formatParamValue(v: ParamValue): string {
  * Configuration label: the id, then `:key=value,...` for non-default keys in the
  * schema's order; the bare id when every value is the default.
  */
+/** What a configuration name may be: 1-80 characters, a letter or digit first, then letters, digits and . _ + - */
+export const CONFIG_NAME = /^[A-Za-z0-9][A-Za-z0-9._+-]{0,79}$/;
+
+/** Refuse a configuration name that cannot serve as a table key and a file-name part. */
+export function checkConfigName(name: string, option: string): string {
+  if (!CONFIG_NAME.test(name)) {
+    throw new UsageError(option, `configuration name ${quote(name)} must be 1-80 letters, digits, '.', '_', '+' or '-', starting with a letter or digit`);
+  }
+  return name;
+}
+
+/**
+ * A command-line spec with an optional name in front: `production=sgm:p2=400`. The name
+ * is what comes before the first '=' when that '=' precedes the first ':' (a spec's own
+ * `key=value` pairs follow its ':').
+ */
+export function splitConfigName(spec: string, option = '--matcher'): { name?: string; spec: string } {
+  const eq = spec.indexOf('=');
+  const colon = spec.indexOf(':');
+  if (eq < 0 || (colon >= 0 && colon < eq)) return { spec };
+  const name = spec.slice(0, eq).trim();
+  return { name: checkConfigName(name, option), spec: spec.slice(eq + 1).trim() };
+}
+
+/**
+ * Labels of the configurations of one named entry: the name itself for one
+ * configuration; for a sweep, the name and the swept parameters (`name:p2=64`).
+ */
+export function namedLabels(name: string, specs: readonly ParamSpec[], paramsList: readonly Readonly<Record<string, ParamValue>>[]): string[] {
+  if (paramsList.length === 1) return [name];
+  const varying = specs.filter((p) => paramsList.some((q) => q[p.name] !== paramsList[0][p.name]));
+  return paramsList.map((q) => `${name}:${varying.map((p) => `${p.name}=${formatParamValue(q[p.name])}`).join(',')}`);
+}
+
 export function configLabel(id: string, specs: readonly ParamSpec[], params: Readonly<Record<string, ParamValue>>): string {
   const parts: string[] = [];
   for (const p of specs) {

@@ -66,12 +66,20 @@ export const programMatcherDefSchema = z
     /** Working directory, relative to the experiment file's folder (default: that folder). */
     cwd: z.string().optional(),
     params: z.array(paramSpecSchema).default([]),
+    /** Constraints across numeric parameters: params[lower] <= params[upper]. */
+    relations: z.array(z.strictObject({ lower: z.string(), upper: z.string() })).optional(),
   })
   .superRefine((def, ctx) => {
     if (def.output.format === 'png' && def.output.scale === undefined) {
       ctx.addIssue({ code: 'custom', path: ['output', 'scale'], message: 'required for png output (stored = round(d * scale))' });
     }
     const paramNames = new Set(def.params.map((p) => p.name));
+    const numeric = new Set(def.params.filter((p) => p.type === 'int' || p.type === 'number').map((p) => p.name));
+    (def.relations ?? []).forEach((r, i) => {
+      for (const side of ['lower', 'upper'] as const) {
+        if (!numeric.has(r[side])) ctx.addIssue({ code: 'custom', path: ['relations', i, side], message: `${r[side]} is not a declared numeric parameter` });
+      }
+    });
     def.command.forEach((arg, i) => {
       for (const m of arg.matchAll(/\{([^{}]*)\}/g)) {
         const name = m[1];

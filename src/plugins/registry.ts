@@ -10,9 +10,9 @@ import { fileURLToPath } from 'node:url';
 import { z } from 'zod';
 import { UsageError } from '../core/errors.js';
 import { BUILTIN_MATCHERS } from '../../matchers/index.js';
-import type { MatcherPlugin, ParamValue } from '../core/matcher.js';
+import { brokenRelation, type MatcherPlugin, type ParamValue } from '../core/matcher.js';
 import { loadModulePlugin, locateModule, isPackageName } from './module-plugin.js';
-import { configLabel, expandRawSpec, expandSweep, looksLikeModulePath, parseMatcherSpec, quote, type RawSpec } from './params.js';
+import { checkConfigName, configLabel, expandRawSpec, expandSweep, looksLikeModulePath, namedLabels, parseMatcherSpec, quote, splitConfigName, type RawSpec } from './params.js';
 import { programCodeHash, programMatcher } from './program/index.js';
 import { parseProgramMatcherDef, programMatcherDefSchema, type ProgramMatcherDef } from './program-def.js';
 import { issuesLine } from '../core/text.js';
@@ -27,8 +27,14 @@ export type MatcherSource =
   | { readonly kind: 'program'; readonly def: ProgramMatcherDef; readonly baseDir: string };
 
 export interface MatcherConfig {
-  /** `id` for defaults, else `id:key=value,...` (non-default keys, schema order). */
+  /**
+   * The user's name when one is given (`name` for one configuration, `name:key=value` per
+   * point of a named sweep); else `id` for defaults, `id:key=value,...` (non-default
+   * keys, schema order).
+   */
   label: string;
+  /** Per-job time limit in ms (module plugins; programs carry theirs in the definition). */
+  timeoutMs?: number;
   plugin: MatcherPlugin;
   /** Every parameter after defaults. */
   params: Record<string, ParamValue>;
@@ -45,6 +51,17 @@ export interface ResolveOptions {
   option?: string;
   /** More matchers known by id, e.g. programs defined in an experiment file. */
   extra?: readonly MatcherConfigSourcePlugin[];
+  /** Per-job time limit of module plugins, ms (default DEFAULT_MODULE_TIMEOUT_MS). */
+  moduleTimeoutMs?: number;
+}
+
+/** Default per-job time limit of a module plugin (the same as a program's). */
+export const DEFAULT_MODULE_TIMEOUT_MS = 300_000;
+
+/** How one entry names and limits its configurations. */
+interface EntryOptions {
+  name?: string;
+  timeoutMs?: number;
 }
 
 /** A plugin together with its source and code hash (programs from experiment files). */
@@ -141,13 +158,21 @@ function builtinEntries(): MatcherConfigSourcePlugin[] {
   }));
 }
 
-function configsOf(entry: MatcherConfigSourcePlugin, label: string, paramsList: Record<string, ParamValue>[]): MatcherConfig[] {
-  return paramsList.map((params) => ({
-    label: configLabel(label, entry.plugin.params, params),
+function configsOf(entry: MatcherConfigSourcePlugin, paramsList: Record<string, ParamValue>[], option: string, o: EntryOptions = {}): MatcherConfig[] {
+  const specs = entry.plugin.params;
+  for (const params of paramsList) {
+    const broken = brokenRelation(entry.plugin.relations, params);
+    if (broken !== undefined) throw new UsageError(option, `${entry.plugin.id}: ${broken}`);
+  }
+  const labels = o.name !== undefined ? namedLabels(o.name, specs, paramsList) : paramsList.map((params) => configLabel(entry.plugin.id, specs, params));
+  const timeoutMs = entry.source.kind === 'module' ? (o.timeoutMs ?? DEFAULT_MODULE_TIMEOUT_MS) : undefined;
+  return paramsList.map((params, i) => ({
+    label: labels[i],
     plugin: entry.plugin,
     params,
     codeHash: entry.codeHash,
     source: entry.source,
+    ...(timeoutMs !== undefined ? { timeoutMs } : {}),
   }));
 }
 
@@ -188,33 +213,37 @@ async function resolveOne(
   entries: readonly MatcherConfigSourcePlugin[],
   cwd: string,
   option: string,
-  grid?: Readonly<Record<string, readonly ParamValue[] | ParamValue>>,
+  o: EntryOptions & { grid?: Readonly<Record<string, readonly ParamValue[] | ParamValue>> } = {},
 ): Promise<MatcherConfig[]> {
   const known = entries.map((e) => e.plugin);
   const plan = planSpec(spec, known, option);
   if (plan.kind === 'known') {
     const entry = entries.find((e) => e.plugin === plan.plugin)!;
-    const list = grid ? expandSweep(plan.plugin.id, plan.plugin.params, grid, option) : plan.paramsList;
-    return configsOf(entry, plan.plugin.id, list);
+    const list = o.grid ? expandSweep(plan.plugin.id, plan.plugin.params, o.grid, option) : plan.paramsList;
+    return configsOf(entry, list, option, o);
   }
   const entry = await moduleEntry(plan.id, cwd, known, option);
-  const list = grid
-    ? expandSweep(entry.plugin.id, entry.plugin.params, grid, option)
+  const list = o.grid
+    ? expandSweep(entry.plugin.id, entry.plugin.params, o.grid, option)
     : expandRawSpec(entry.plugin.id, entry.plugin.params, plan.raw, option);
-  return configsOf(entry, entry.plugin.id, list);
+  return configsOf(entry, list, option, o);
 }
 
 /**
  * Resolve `--matcher` specs into configurations, in spec order then sweep order.
  * Specs: a built-in id, `id:key=value,...`, `key=[a,b]` sweeps, a module path
- * (`./x.mjs`, `../x.js`, `/abs/x.cjs`) or an installed package name.
+ * (`./x.mjs`, `../x.js`, `/abs/x.cjs`) or an installed package name, each optionally
+ * named: `production=sgm:p2=400`.
  */
 export async function resolveMatchers(specs: string[], opts: ResolveOptions = {}): Promise<MatcherConfig[]> {
   const cwd = opts.cwd ?? process.cwd();
   const option = opts.option ?? '--matcher';
   const entries = [...builtinEntries(), ...(opts.extra ?? [])];
   const out: MatcherConfig[] = [];
-  for (const spec of specs) out.push(...(await resolveOne(spec, entries, cwd, option)));
+  for (const text of specs) {
+    const { name, spec } = splitConfigName(text, option);
+    out.push(...(await resolveOne(spec, entries, cwd, option, { ...(name !== undefined ? { name } : {}), ...(opts.moduleTimeoutMs !== undefined ? { timeoutMs: opts.moduleTimeoutMs } : {}) })));
+  }
   return dedupe(out, option);
 }
 
@@ -225,14 +254,16 @@ const gridSchema = z.record(z.string(), z.union([gridValue, z.array(gridValue).m
 
 /**
  * One entry of an experiment file's `matchers` list:
- *   "sgm:p1=[4,8]"                                  a spec as on the command line
- *   {"id": "sgm", "params": {"p1": [4, 8]}}          arrays are sweeps
- *   {"program": {...ProgramMatcherDef}, "params": {...}}
+ *   "sgm:p1=[4,8]"                                  a spec as on the command line (a name in front: "production=sgm:p2=400")
+ *   {"id": "sgm", "name": "production", "params": {"p1": [4, 8]}}   arrays are sweeps
+ *   {"id": "./m.mjs", "name": "mine", "timeoutMs": 60000}           a module with its time limit
+ *   {"program": {...ProgramMatcherDef}, "name": "net", "params": {...}}
  */
+const nameField = z.string().min(1).optional();
 export const matcherEntrySchema = z.union([
   z.string().min(1),
-  z.strictObject({ id: z.string().min(1), params: gridSchema.optional() }),
-  z.strictObject({ program: z.unknown(), params: gridSchema.optional() }),
+  z.strictObject({ id: z.string().min(1), name: nameField, params: gridSchema.optional(), timeoutMs: z.number().int().positive().optional() }),
+  z.strictObject({ program: z.unknown(), name: nameField, params: gridSchema.optional() }),
 ]);
 export type MatcherEntry = z.input<typeof matcherEntrySchema>;
 
@@ -259,13 +290,21 @@ export async function resolveMatcherEntries(
     const where = `${option}[${i}]`;
     const r = matcherEntrySchema.safeParse(entries[i]);
     if (!r.success) {
-      throw new UsageError(where, `expected a spec string, {"id", "params"} or {"program", "params"}; ${issuesLine(r.error.issues)}`);
+      throw new UsageError(where, `expected a spec string, {"id", "name", "params", "timeoutMs"} or {"program", "name", "params"}; ${issuesLine(r.error.issues)}`);
     }
     const e = r.data;
     if (typeof e === 'string') {
-      out.push(...(await resolveOne(e, known, opts.baseDir, where)));
-    } else if ('id' in e) {
-      out.push(...(await resolveOne(e.id, known, opts.baseDir, where, e.params ?? {})));
+      const { name, spec } = splitConfigName(e, where);
+      out.push(...(await resolveOne(spec, known, opts.baseDir, where, name !== undefined ? { name } : {})));
+      continue;
+    }
+    const name = e.name !== undefined ? checkConfigName(e.name, `${where}.name`) : undefined;
+    if ('id' in e) {
+      const configs = await resolveOne(e.id, known, opts.baseDir, where, { grid: e.params ?? {}, ...(name !== undefined ? { name } : {}), ...(e.timeoutMs !== undefined ? { timeoutMs: e.timeoutMs } : {}) });
+      if (e.timeoutMs !== undefined && configs[0]?.source.kind !== 'module') {
+        throw new UsageError(`${where}.timeoutMs`, `applies to module plugins; ${quote(e.id)} is not one (a program sets timeoutMs in its definition)`);
+      }
+      out.push(...configs);
     } else {
       const entry = programEntry(e.program, opts.baseDir, `${where}.program`);
       const prev = known.find((k) => k.plugin.id === entry.plugin.id);
@@ -274,7 +313,7 @@ export async function resolveMatcherEntries(
       }
       if (!prev) known.push(entry);
       const use = prev ?? entry;
-      out.push(...configsOf(use, use.plugin.id, expandSweep(use.plugin.id, use.plugin.params, e.params ?? {}, where)));
+      out.push(...configsOf(use, expandSweep(use.plugin.id, use.plugin.params, e.params ?? {}, where), where, name !== undefined ? { name } : {}));
     }
   }
   return dedupe(out, option);

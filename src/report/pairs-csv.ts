@@ -8,7 +8,7 @@
 import { REGION_IDS } from '../core/regions.js';
 import type { JobResult } from '../core/score.js';
 import { levelMapOf, metricsOf, metricValue, type MetricSet } from '../metrics/catalogue.js';
-import { byCodeUnits } from '../core/order.js';
+import { byCodeUnits, byNatural } from '../core/order.js';
 import { csvText, type CsvCell } from './csv.js';
 
 export function pairsCsvHeader(set: MetricSet): string[] {
@@ -23,7 +23,7 @@ export function tableNumber(v: number | null | undefined): number | null {
 
 /** Rows of pairs.csv; `set` chooses the rate and quantile columns (a job lacking one has an empty cell). */
 export function pairsCsvRows(results: readonly JobResult[], set: MetricSet): CsvCell[][] {
-  const sorted = [...results].sort((a, b) => byCodeUnits(a.matcher, b.matcher) || byCodeUnits(a.dataset, b.dataset) || byCodeUnits(a.pair, b.pair));
+  const sorted = [...results].sort((a, b) => byNatural(a.matcher, b.matcher) || byCodeUnits(a.dataset, b.dataset) || byCodeUnits(a.pair, b.pair));
   const metrics = metricsOf(set);
   const rows: CsvCell[][] = [];
   for (const r of sorted) {

@@ -9,11 +9,12 @@ import type { RegionParams } from '../core/regions.js';
 import { datasetHash } from '../dataset/hash.js';
 import { loadManifest, sortedPairs, type Manifest } from '../dataset/manifest.js';
 import type { MatcherPlugin } from '../core/matcher.js';
+import { checkConfigName } from '../plugins/params.js';
 import { resolveMatcherEntries, resolveMatchers, type MatcherConfig, type MatcherSource } from '../plugins/registry.js';
 import type { ScaleOptions } from './scale.js';
 import { safeRunName, type RunSettings } from './experiment.js';
 import { enumerateJobs, type JobKey } from './jobs.js';
-import { checkPredictionSource, type PredictionSource } from './predictions.js';
+import { checkPredictionSource, predictionCoverage, type PredictionSource } from './predictions.js';
 
 /** A matcher configuration of the run. */
 export interface MatcherRunConfig {
@@ -26,6 +27,8 @@ export interface MatcherRunConfig {
   readonly plugin: MatcherPlugin;
   /** How to rebuild the plugin in a worker thread (registry's pluginFromSource). */
   readonly source?: MatcherSource;
+  /** Per-job time limit (module plugins): past it the worker is ended and the job fails. */
+  readonly timeoutMs?: number;
 }
 
 /** Imported predictions, scored like a matcher (matcherId `predictions`). */
@@ -62,6 +65,8 @@ export interface RunPlan {
   readonly settings?: RunSettings;
   /** Worker pool, resume, cache and shard options (see scale.ts); absent = sequential, no cache. */
   readonly scale?: ScaleOptions;
+  /** Problems worth a line on stderr that do not stop the run (e.g. prediction files of no pair). */
+  readonly warnings?: readonly string[];
 }
 
 /** Resolve every matcher spec of the settings to configurations. */
@@ -77,6 +82,7 @@ export async function resolveConfigs(settings: RunSettings): Promise<RunConfig[]
       version: c.plugin.version,
       plugin: c.plugin,
       source: c.source,
+      ...(c.timeoutMs !== undefined ? { timeoutMs: c.timeoutMs } : {}),
     });
   };
   if (settings.matcherEntries.length) {
@@ -90,8 +96,12 @@ export async function resolveConfigs(settings: RunSettings): Promise<RunConfig[]
     }
     resolved.forEach(add);
   }
-  if (settings.matchers.length) (await resolveMatchers(settings.matchers, { cwd: process.cwd() })).forEach(add);
+  if (settings.matchers.length) {
+    const moduleTimeoutMs = settings.moduleTimeoutMs;
+    (await resolveMatchers(settings.matchers, { cwd: process.cwd(), ...(moduleTimeoutMs !== undefined ? { moduleTimeoutMs } : {}) })).forEach(add);
+  }
   for (const p of settings.predictions) {
+    checkConfigName(p.label, settings.experimentFile !== undefined ? 'predictions.label' : '--label');
     checkPredictionSource(p);
     configs.push({ kind: 'predictions', label: p.label, matcherId: 'predictions', params: {}, source: p });
   }
@@ -119,11 +129,17 @@ export async function planRun(settings: RunSettings, cwd = process.cwd()): Promi
     datasets.push({ path, manifest, hash: await datasetHash(manifest, { markUnreadable: true }) });
   }
   const configs = await resolveConfigs(settings);
+  const pairLists = datasets.map((d) => ({ name: d.manifest.name, pairIds: sortedPairs(d.manifest).map((p) => p.id) }));
+  const warnings: string[] = [];
+  for (const c of configs) {
+    if (c.kind !== 'predictions') continue;
+    const { unmatched } = predictionCoverage(c.source, pairLists);
+    if (unmatched.length) {
+      warnings.push(`--predictions: ${unmatched.length} file(s) in ${c.source.dir} match no pair of the run, e.g. ${unmatched.slice(0, 3).join(', ')}`);
+    }
+  }
   const name = safeRunName(settings.name ?? [datasets[0].manifest.name, ...configs.map((c) => c.label)].join('-'));
   const runDir = settings.out ?? resolve(cwd, 'reports', name);
-  const jobs = enumerateJobs(
-    datasets.map((d) => ({ name: d.manifest.name, pairIds: sortedPairs(d.manifest).map((p) => p.id) })),
-    configs.map((c) => c.label),
-  );
-  return { name, runDir, datasets, configs, thresholds: settings.thresholds, quantiles: settings.quantiles, regions: settings.regions, jobs, settings };
+  const jobs = enumerateJobs(pairLists, configs.map((c) => c.label));
+  return { name, runDir, datasets, configs, thresholds: settings.thresholds, quantiles: settings.quantiles, regions: settings.regions, jobs, settings, warnings };
 }

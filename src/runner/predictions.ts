@@ -39,6 +39,53 @@ export function checkPredictionSource(src: PredictionSource): void {
   }
 }
 
+/** A dataset's name and pair ids, as the coverage check needs them. */
+export interface PairList {
+  readonly name: string;
+  readonly pairIds: readonly string[];
+}
+
+/**
+ * Check a prediction folder against the run's pairs. No file for any pair is a
+ * UsageError naming the folder and one file name it looks for; files (with a
+ * prediction extension) that belong to no pair come back, for a warning.
+ */
+export function predictionCoverage(src: PredictionSource, datasets: readonly PairList[]): { unmatched: string[] } {
+  let found = 0;
+  const used = new Set<string>();
+  for (const d of datasets) {
+    for (const id of d.pairIds) {
+      const f = findPredictionFile(src, d.name, id);
+      if (f === undefined) continue;
+      found++;
+      used.add(f);
+    }
+  }
+  const first = datasets.find((d) => d.pairIds.length > 0);
+  if (found === 0 && first) {
+    throw new UsageError(
+      '--predictions',
+      `${src.dir} holds no prediction for any pair of the dataset(s) ${datasets.map((d) => d.name).join(', ')}; expected e.g. ${join(src.dir, `${first.pairIds[0]}.pfm`)} (or .npy, .png; or under ${first.name}/)`,
+    );
+  }
+  const unmatched: string[] = [];
+  const isPrediction = (n: string): boolean => (PREDICTION_EXTENSIONS as readonly string[]).includes(n.slice(n.lastIndexOf('.') + 1).toLowerCase());
+  const folders = [src.dir, ...datasets.map((d) => join(src.dir, d.name))];
+  for (const dir of folders) {
+    let names: string[];
+    try {
+      names = readdirSync(dir);
+    } catch {
+      continue;
+    }
+    for (const n of names.sort()) {
+      const f = join(dir, n);
+      if (isPrediction(n) && !used.has(f)) unmatched.push(f);
+    }
+  }
+  return { unmatched };
+}
+
 /**
  * Read one prediction. Throws (InputError) for a missing, unreadable or malformed
  * file; the runner records that as a failed job.

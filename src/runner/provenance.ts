@@ -40,7 +40,16 @@ export function runRecord(plan: RunPlan, started: Date): RunRecord {
       regions: { ...plan.regions },
       matchers: plan.configs.map((cfg) =>
         cfg.kind === 'matcher'
-          ? { label: cfg.label, matcherId: cfg.matcherId, kind: 'matcher' as const, version: cfg.version, params: cfg.params, codeHash: cfg.codeHash }
+          ? {
+              label: cfg.label,
+              matcherId: cfg.matcherId,
+              kind: 'matcher' as const,
+              version: cfg.version,
+              params: cfg.params,
+              codeHash: cfg.codeHash,
+              ...(cfg.source?.kind === 'program' ? { command: [...cfg.source.def.command] } : {}),
+              ...(cfg.timeoutMs !== undefined ? { timeoutMs: cfg.timeoutMs } : {}),
+            }
           : {
               label: cfg.label,
               matcherId: cfg.matcherId,

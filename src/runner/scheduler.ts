@@ -87,7 +87,9 @@ class Scheduler {
     this.manifests = new Map(plan.datasets.map((d) => [d.manifest.name, d.manifest]));
     this.configs = new Map(plan.configs.map((c) => [c.label, c]));
     this.stats = ctx.stats ?? { cached: 0, computed: 0 };
-    const needsPool = this.jobsN > 1 && ctx.jobs.length > 0 && plan.configs.some((c) => this.onPool(c));
+    // A module with a time limit needs a worker to end, so its run gets a pool even at --jobs 1.
+    const limited = plan.configs.some((c) => c.kind === 'matcher' && c.timeoutMs !== undefined);
+    const needsPool = (this.jobsN > 1 || limited) && ctx.jobs.length > 0 && plan.configs.some((c) => this.onPool(c));
     this.pool = needsPool ? new MatchPool(Math.min(this.jobsN, ctx.jobs.length)) : undefined;
     // piscina listens on the signal once per queued task: many at once is expected here.
     setMaxListeners(0, this.stop.signal);
@@ -122,6 +124,18 @@ class Scheduler {
   }
 
   private async viaPool(cfg: RunConfig & { kind: 'matcher' }, pair: LoadedPair, shared: SharedPair): Promise<PoolGot> {
+    // The task's own signal: the run's, or the time limit's (piscina then ends the worker and starts another).
+    const task = new AbortController();
+    const onStop = (): void => task.abort();
+    this.signal.addEventListener('abort', onStop, { once: true });
+    let timedOut = false;
+    const timer =
+      cfg.timeoutMs !== undefined
+        ? setTimeout(() => {
+            timedOut = true;
+            task.abort();
+          }, cfg.timeoutMs)
+        : undefined;
     try {
       const reply = await this.pool!.run(
         {
@@ -138,15 +152,21 @@ class Scheduler {
           files: { pairId: pair.id, left: pair.files.left, right: pair.files.right },
           threads: this.threads,
         },
-        this.signal,
+        task.signal,
       );
       return reply.ok
         ? { disparity: reply.disparity, timeMs: reply.timeMs, peakMb: reply.peakMb }
         : { disparity: null, error: reply.error, timeMs: reply.timeMs, peakMb: reply.peakMb };
     } catch (e) {
+      if (timedOut && !this.signal.aborted) {
+        return { disparity: null, error: `${cfg.label}: timed out after ${cfg.timeoutMs} ms (worker thread ended)`, timeMs: null, peakMb: null };
+      }
       if (this.signal.aborted || isAbort(e)) throw new AbortedError();
       // The worker itself died (out of memory, process.exit in a module...): this job fails.
       return { disparity: null, error: `worker thread failed: ${oneLineError(e)}`, timeMs: null, peakMb: null };
+    } finally {
+      clearTimeout(timer);
+      this.signal.removeEventListener('abort', onStop);
     }
   }
 

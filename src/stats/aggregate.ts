@@ -5,7 +5,8 @@
  * - mean: the mean over pairs of each per-pair figure. A pair whose figure is empty
  *   (null: empty region, or no valid prediction for error figures) is left out, and
  *   `n` says how many pairs each mean uses. `n_pairs` counts pairs whose region is
- *   non-empty. Cost figures (time_ms, peak_mb) are per job, the same in every region.
+ *   non-empty. Cost figures (time_ms, peak_mb) are per job, the same in every region;
+ *   their means leave out jobs served from the cache and jobs that failed (measuredCost).
  * - pooled: the figure of all pairs' pixels at once, from the raw sums
  *   (coverage = valid/pixels, epe = sum|e|/valid, rmse = sqrt(sum e^2/valid),
  *   bias = sum e/valid, rates = bad/pixels, depth figures likewise);
@@ -21,8 +22,8 @@ import type { JobResult } from '../core/score.js';
 import { REGION_IDS, type RegionId } from '../core/regions.js';
 import { InputError } from '../core/errors.js';
 import { bcaIntervals, type BootstrapOptions, type Interval, type UnitMatrix, type TotalsStat } from './bootstrap.js';
-import { levelMapOf, metricsOf, metricValue, pooledFrom, readSums, sumColumnCount, type LevelMap, type MetricSet } from '../metrics/catalogue.js';
-import { byCodeUnits, groupBy } from '../core/order.js';
+import { levelMapOf, measuredCost, metricsOf, metricValue, pooledFrom, readSums, sumColumnCount, type LevelMap, type MetricSet } from '../metrics/catalogue.js';
+import { byCodeUnits, byNatural, groupBy } from '../core/order.js';
 
 export interface MetricSummary {
   /** Mean over pairs with a non-empty figure; null when no pair has one. */
@@ -66,9 +67,9 @@ export interface AggregateOptions extends MetricSet {
 /** Plain code-unit comparison (locale independent): src/core/order.ts. */
 export const cmp = byCodeUnits;
 
-/** Sort jobs by (matcher, dataset, pair); pure. */
+/** Sort jobs by (configuration label in natural order, dataset, pair); pure. */
 export function sortJobs(results: readonly JobResult[]): JobResult[] {
-  return [...results].sort((x, y) => cmp(x.matcher, y.matcher) || cmp(x.dataset, y.dataset) || cmp(x.pair, y.pair));
+  return [...results].sort((x, y) => byNatural(x.matcher, y.matcher) || cmp(x.dataset, y.dataset) || cmp(x.pair, y.pair));
 }
 
 /** Where the set's levels sit in the job's own figures; an InputError when the job lacks one. */
@@ -119,7 +120,7 @@ export function cellMatrix(jobs: readonly JobResult[], region: RegionId, set: Me
     const base = u * cols;
     const score = j.scores[region];
     const nonEmpty = score.sums.pixels > 0;
-    const cost = { time_ms: j.time_ms, peak_mb: j.peak_mb };
+    const cost = measuredCost(j);
     for (let m = 0; m < M; m++) {
       const metric = metrics[m];
       if (!metric.perJob && !nonEmpty) continue;

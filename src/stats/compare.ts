@@ -1,6 +1,7 @@
 /**
  * Paired comparison of two runs (baseline and candidate) on the pairs they share,
- * configuration by configuration (matched by label), and the CI gates on top of it.
+ * configuration by configuration (matched by label, the user's configuration name, or
+ * paired explicitly), and the CI gates on top of it.
  *
  * Per (configuration, region, metric), over the pairs where both runs have the figure:
  *   d_i = candidate_i - baseline_i   (for bias: |candidate_i| - |baseline_i|, so a larger
@@ -14,10 +15,12 @@
  */
 import type { JobResult } from '../core/score.js';
 import { REGION_IDS, type RegionId } from '../core/regions.js';
-import { bcaIntervals, type BootstrapOptions, type Interval, type TotalsStat } from './bootstrap.js';
+import { detectability, type Detectability } from './power.js';
+import { bcaIntervals, DEFAULT_LEVEL, type BootstrapOptions, type Interval, type TotalsStat } from './bootstrap.js';
 import { signFlipTest, type SignFlipOptions } from './permutation.js';
-import { metricsOf, metricValue, pooledFrom, readSums, sumColumnCount, worseningSign, findMetric, type LevelMap, type Metric, type MetricSet } from '../metrics/catalogue.js';
+import { measuredCost, metricsOf, metricValue, pooledFrom, readSums, sumColumnCount, worseningSign, findMetric, type LevelMap, type Metric, type MetricSet } from '../metrics/catalogue.js';
 import { cmp, jobLevels, latestJobs, sortJobs } from './aggregate.js';
+import { byNatural } from '../core/order.js';
 import { metricSetOf, type RunConfigRecord, type RunRecord } from '../io/run-record.js';
 
 /** The parts of a run record that compare reads. */
@@ -76,6 +79,8 @@ export interface MetricDelta {
   /** Pooled figures on the compared pairs (no pooled quantiles or cost). */
   pooledBase: number | null;
   pooledCand: number | null;
+  /** The smallest change these units can tell from noise (power.ts), from the spread of the per-unit mean differences. */
+  detect: Detectability | null;
 }
 
 export interface PairChange {
@@ -86,10 +91,16 @@ export interface PairChange {
   change: number;
   baseStatus: 'ok' | 'failed';
   candStatus: 'ok' | 'failed';
+  /** The failed side's one-line message. */
+  baseError?: string;
+  candError?: string;
 }
 
 export interface ConfigComparison {
+  /** The candidate's label; `baseline → candidate` when an explicit pairing joined two labels. */
   label: string;
+  baseLabel: string;
+  candLabel: string;
   pairs: number;
   deltas: MetricDelta[];
   /** Pairs that changed most on the headline region/metric, largest |change| first. */
@@ -119,6 +130,8 @@ export interface CompareOptions {
   headline?: { region: RegionId; metric: string };
   /** How many most-changed pairs to list (default 5). */
   top?: number;
+  /** Explicit pairings [baseline label, candidate label]; the other labels pair with themselves. */
+  pairings?: readonly (readonly [string, string])[];
 }
 
 const key = (j: JobResult): string => `${j.dataset}/${j.pair}`;
@@ -137,7 +150,7 @@ function byLabel(results: JobResult[]): Map<string, Map<string, JobResult>> {
 function pairValue(j: JobResult, region: RegionId, metric: Metric, levels: LevelMap): number | null {
   const s = j.scores[region];
   if (!metric.perJob && !(s.sums.pixels > 0)) return null;
-  const v = metricValue(metric, s.figures, levels, j);
+  const v = metricValue(metric, s.figures, levels, measuredCost(j));
   if (v === null || !Number.isFinite(v)) return null;
   return metric.better === 'abs-lower' ? Math.abs(v) : v;
 }
@@ -213,7 +226,14 @@ function regionDeltas(p: Paired, region: RegionId, set: MetricSet, opts: Compare
   return metrics.map((metric, m) => {
     const n = tot[4 * m + 1];
     const unitDiffs: number[] = [];
-    for (let u = 0; u < U; u++) if (data[u * cols + 4 * m + 1] > 0) unitDiffs.push(data[u * cols + 4 * m]);
+    const unitMeans: number[] = [];
+    for (let u = 0; u < U; u++) {
+      const count = data[u * cols + 4 * m + 1];
+      if (count > 0) {
+        unitDiffs.push(data[u * cols + 4 * m]);
+        unitMeans.push(data[u * cols + 4 * m] / count);
+      }
+    }
     const perm = n > 0 ? signFlipTest(unitDiffs, opts.permutation ?? {}) : null;
     const change = n > 0 ? tot[4 * m] / n : null;
     const ci = cis[m] ?? null;
@@ -235,6 +255,7 @@ function regionDeltas(p: Paired, region: RegionId, set: MetricSet, opts: Compare
       unit: p.byGroup ? 'group' : 'pair',
       pooledBase: pool ? pooledFrom(pool, tot, 4 * M) : null,
       pooledCand: pool ? pooledFrom(pool, tot, 4 * M + nSum) : null,
+      detect: detectability(unitMeans, 1 - (opts.bootstrap?.level ?? DEFAULT_LEVEL)),
     };
   });
 }
@@ -257,6 +278,8 @@ function pairChanges(p: Paired, set: MetricSet, opts: CompareOptions): { topChan
       change: b !== null && c !== null ? c - b : NaN,
       baseStatus: p.base[i].status,
       candStatus: p.cand[i].status,
+      ...(p.base[i].error !== undefined ? { baseError: p.base[i].error } : {}),
+      ...(p.cand[i].error !== undefined ? { candError: p.cand[i].error } : {}),
     };
     if (pc.baseStatus !== pc.candStatus) statusChanges.push(pc);
     if (Number.isFinite(pc.change) && pc.change !== 0) changes.push(pc);
@@ -267,10 +290,41 @@ function pairChanges(p: Paired, set: MetricSet, opts: CompareOptions): { topChan
   return { topChanges: changes.slice(0, opts.top ?? 5), statusChanges };
 }
 
-function compareConfig(label: string, base: Map<string, JobResult>, cand: Map<string, JobResult>, set: MetricSet, opts: CompareOptions): ConfigComparison {
+function compareConfig(
+  labels: readonly [string, string],
+  base: Map<string, JobResult>,
+  cand: Map<string, JobResult>,
+  set: MetricSet,
+  opts: CompareOptions,
+): ConfigComparison {
   const p = pairUp(base, cand, set);
   const deltas = REGION_IDS.flatMap((region) => regionDeltas(p, region, set, opts));
-  return { label, pairs: p.common.length, deltas, ...pairChanges(p, set, opts) };
+  const [baseLabel, candLabel] = labels;
+  const label = baseLabel === candLabel ? candLabel : `${baseLabel} → ${candLabel}`;
+  return { label, baseLabel, candLabel, pairs: p.common.length, deltas, ...pairChanges(p, set, opts) };
+}
+
+/** Configuration pairs to compare: the explicit pairings, then the labels both runs share, in natural order. */
+export function matchConfigs(baseLabels: readonly string[], candLabels: readonly string[], pairings: readonly (readonly [string, string])[] = []): [string, string][] {
+  const inB = new Set(baseLabels);
+  const inC = new Set(candLabels);
+  const usedB = new Set<string>();
+  const usedC = new Set<string>();
+  const out: [string, string][] = [];
+  for (const [b, c] of pairings) {
+    if (!inB.has(b) || !inC.has(c) || usedB.has(b) || usedC.has(c)) continue;
+    out.push([b, c]);
+    usedB.add(b);
+    usedC.add(c);
+  }
+  for (const l of [...baseLabels].sort(byNatural)) {
+    if (!usedB.has(l) && inC.has(l) && !usedC.has(l)) {
+      out.push([l, l]);
+      usedB.add(l);
+      usedC.add(l);
+    }
+  }
+  return out;
 }
 
 export function compareRuns(base: RunData, cand: RunData, opts: CompareOptions = {}): Comparison {
@@ -278,16 +332,18 @@ export function compareRuns(base: RunData, cand: RunData, opts: CompareOptions =
   const thresholds = [...set.thresholds];
   const lb = byLabel(base.results);
   const lc = byLabel(cand.results);
-  const labels = [...lb.keys()].filter((l) => lc.has(l)).sort(cmp);
-  const configsOnlyInBase = [...lb.keys()].filter((l) => !lc.has(l)).sort(cmp);
-  const configsOnlyInCand = [...lc.keys()].filter((l) => !lb.has(l)).sort(cmp);
+  const matched = matchConfigs([...lb.keys()], [...lc.keys()], opts.pairings);
+  const usedB = new Set(matched.map(([b]) => b));
+  const usedC = new Set(matched.map(([, c]) => c));
+  const configsOnlyInBase = [...lb.keys()].filter((l) => !usedB.has(l)).sort(byNatural);
+  const configsOnlyInCand = [...lc.keys()].filter((l) => !usedC.has(l)).sort(byNatural);
   const pairsOnlyInBase: string[] = [];
   const pairsOnlyInCand: string[] = [];
-  for (const l of labels) {
-    for (const k of lb.get(l)!.keys()) if (!lc.get(l)!.has(k)) pairsOnlyInBase.push(`${l}: ${k}`);
-    for (const k of lc.get(l)!.keys()) if (!lb.get(l)!.has(k)) pairsOnlyInCand.push(`${l}: ${k}`);
+  for (const [b, c] of matched) {
+    for (const k of lb.get(b)!.keys()) if (!lc.get(c)!.has(k)) pairsOnlyInBase.push(`${b}: ${k}`);
+    for (const k of lc.get(c)!.keys()) if (!lb.get(b)!.has(k)) pairsOnlyInCand.push(`${c}: ${k}`);
   }
-  const configs = labels.map((l) => compareConfig(l, lb.get(l)!, lc.get(l)!, set, opts));
+  const configs = matched.map((m) => compareConfig(m, lb.get(m[0])!, lc.get(m[1])!, set, opts));
   return {
     thresholds,
     quantiles: [...set.quantiles],

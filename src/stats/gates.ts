@@ -6,6 +6,7 @@ import { REGION_IDS, type RegionId } from '../core/regions.js';
 import { UsageError } from '../core/errors.js';
 import { findMetric, metricsOf, type MetricSet } from '../metrics/catalogue.js';
 import type { Comparison } from './compare.js';
+import { unitsNeeded } from './power.js';
 
 export interface Gate {
   region: RegionId;
@@ -64,6 +65,12 @@ export interface GateOutcome {
   /** Upper bound of the worsening's interval (strict mode judges this). */
   upper: number | null;
   reason: string;
+  /** The smallest change the compared units can tell from noise (power.ts), null when fewer than two. */
+  smallest: number | null;
+  /** Units (pairs or groups) that would make the allowance detectable; null when it cannot be said. */
+  unitsNeeded: number | null;
+  /** The allowance is below the smallest detectable change: the gate passes or fails largely by chance. */
+  belowNoise: boolean;
 }
 
 /**
@@ -74,6 +81,7 @@ export interface GateOutcome {
  */
 export function evaluateGates(c: Comparison, gates: readonly Gate[], strict: boolean): GateOutcome[] {
   const out: GateOutcome[] = [];
+  const alpha = 1 - c.level;
   for (const cfg of c.configs) {
     for (const g of gates) {
       const d = cfg.deltas.find((x) => x.region === g.region && x.metric === g.metric)!;
@@ -96,7 +104,18 @@ export function evaluateGates(c: Comparison, gates: readonly Gate[], strict: boo
         pass = w <= g.allowance;
         reason = `worsening ${fmt(w)} ${pass ? '<=' : '>'} allowance ${fmt(g.allowance)}`;
       }
-      out.push({ gate: g, label: cfg.label, pass, worsening: w, upper, reason });
+      const smallest = d.detect ? d.detect.smallest : null;
+      out.push({
+        gate: g,
+        label: cfg.label,
+        pass,
+        worsening: w,
+        upper,
+        reason,
+        smallest,
+        unitsNeeded: d.detect ? unitsNeeded(d.detect.sd, g.allowance, alpha) : null,
+        belowNoise: smallest !== null && g.allowance < smallest,
+      });
     }
   }
   return out;

@@ -9,6 +9,7 @@ import { UsageError } from '../../core/errors.js';
 import { DEFAULT_QUANTILES, DEFAULT_THRESHOLDS } from '../../metrics/catalogue.js';
 import { loadExperimentFile, parseQuantiles, parseThresholds, regionParams, type RunSettings } from '../../runner/experiment.js';
 import { planRun } from '../../runner/plan.js';
+import { DEFAULT_MODULE_TIMEOUT_MS } from '../../plugins/registry.js';
 import { runSession } from '../session.js';
 import { cacheLine, resumePlan, scaleArgOptions, scaleFromArgs, type ScaleArgs } from '../scale-options.js';
 
@@ -24,6 +25,7 @@ export interface RunArgs {
   label?: string;
   'prediction-scale'?: number;
   'prediction-invalid'?: number;
+  'module-timeout'?: number;
   quiet: boolean;
   json: boolean;
 }
@@ -46,6 +48,8 @@ export function settingsFromArgs(a: RunArgs, cwd = process.cwd()): RunSettings {
   if (a.quantiles !== undefined) s.quantiles = parseQuantiles(a.quantiles);
   if (a.out !== undefined) s.out = resolve(cwd, a.out);
   if (a.name !== undefined) s.name = a.name;
+  const moduleTimeout = finiteOption('module-timeout', a['module-timeout'], (v) => Number.isInteger(v) && v > 0, 'a whole number of ms > 0');
+  if (moduleTimeout !== undefined) s.moduleTimeoutMs = moduleTimeout;
   const scale = finiteOption('prediction-scale', a['prediction-scale'], (v) => v > 0, 'a number > 0');
   const invalid = finiteOption('prediction-invalid', a['prediction-invalid'], (v) => Number.isInteger(v) && v >= 0 && v <= 65535, 'an integer code 0-65535');
   if (a.predictions !== undefined || a.label !== undefined) {
@@ -69,14 +73,15 @@ export function runOptions<T>(y: Argv<T>): Argv<T & RunArgs> {
   return y
     .positional('experiment', { type: 'string', describe: 'Experiment file (JSON) with datasets, matchers, thresholds, regions, out, name' })
     .option('dataset', { alias: 'd', type: 'string', array: true, describe: 'Dataset folder or dataset.json (repeatable)' })
-    .option('matcher', { alias: 'm', type: 'string', array: true, describe: 'Matcher configuration id[:key=value,...], key=[a,b] sweeps; or a module path (repeatable)' })
+    .option('matcher', { alias: 'm', type: 'string', array: true, describe: 'Matcher configuration id[:key=value,...], key=[a,b] sweeps; or a module path; name=spec names it, e.g. production=sgm:p2=400 (repeatable)' })
     .option('out', { alias: 'o', type: 'string', describe: 'Run folder (default reports/<run name>)' })
     .option('name', { type: 'string', describe: 'Run name (default: first dataset and the matcher labels)' })
     .option('thresholds', { type: 'string', describe: `Bad-pixel thresholds in px, comma list (default ${DEFAULT_THRESHOLDS.join(',')})` })
     .option('quantiles', { type: 'string', describe: `Error quantile levels in %, comma list (default ${DEFAULT_QUANTILES.join(',')})` })
     .option('predictions', { type: 'string', describe: 'Folder of predictions made elsewhere: <pair id>.pfm|.npy|.png (or <dataset>/<pair id>.*)' })
-    .option('label', { type: 'string', describe: 'Matcher column for --predictions' })
+    .option('label', { type: 'string', describe: 'Configuration name of --predictions (its matcher column)' })
     .option('prediction-scale', { type: 'number', describe: 'PNG predictions: stored value = round(disparity * scale)' })
+    .option('module-timeout', { type: 'number', describe: `Per-job time limit of module matchers in ms; past it the worker is ended and the job fails (default ${DEFAULT_MODULE_TIMEOUT_MS})` })
     .option('prediction-invalid', { type: 'number', describe: 'PNG predictions: code meaning "no answer" (default 0)' })
     .option('quiet', { alias: 'q', type: 'boolean', default: false, describe: 'No progress bar, no table' })
     .option('json', { type: 'boolean', default: false, describe: 'Print the summary as JSON to stdout' }) as unknown as Argv<T & RunArgs>;
@@ -92,8 +97,8 @@ export const runCommand: CommandModule<object, RunArgs & ScaleArgs> = {
     let plan;
     if (a.resume !== undefined) {
       const given = a.experiment !== undefined || a.dataset?.length || a.matcher?.length || a.predictions !== undefined || a.label !== undefined;
-      if (given || a.thresholds !== undefined || a.quantiles !== undefined || a.out !== undefined || a.name !== undefined) {
-        throw new UsageError('--resume', 'takes every setting from the run folder; give no experiment file, --dataset, --matcher, --predictions, --thresholds, --quantiles, --out or --name');
+      if (given || a.thresholds !== undefined || a.quantiles !== undefined || a.out !== undefined || a.name !== undefined || a['module-timeout'] !== undefined) {
+        throw new UsageError('--resume', 'takes every setting from the run folder; give no experiment file, --dataset, --matcher, --predictions, --thresholds, --quantiles, --module-timeout, --out or --name');
       }
       plan = await resumePlan(a.resume, scale);
     } else {

@@ -154,6 +154,7 @@ export function programMatcher(
     summary: def.summary ?? `outside program (${def.mode}): ${def.command.join(' ')}`,
     version: def.version ?? '0',
     params: def.params,
+    ...(def.relations ? { relations: def.relations } : {}),
     def,
     baseDir,
     serverPid: () => server?.pid(),

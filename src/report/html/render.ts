@@ -17,7 +17,7 @@ import { readRunFolder, readRunRecordAsync } from '../run-folder.js';
 import { metricSetOf, type RunRecord } from '../../io/run-record.js';
 import { loadManifest, type Manifest } from '../../dataset/manifest.js';
 import { aggregate, cmp, latestJobs, sortJobs } from '../../stats/aggregate.js';
-import { groupBy } from '../../core/order.js';
+import { byNatural, groupBy } from '../../core/order.js';
 import type { DisparityMapName } from '../colormaps.js';
 import { loadPairInputs, type PairInputs } from './inputs.js';
 import { pageHead, pageTail } from './page.js';
@@ -97,7 +97,7 @@ async function renderRun(runDir: string, info: RunRecord, results: readonly JobR
   const set = metricSetOf(info);
   const jobs = sortJobs(latestJobs(results));
   const rows = aggregate(jobs, { ...set, ci: opts.resamples ? { resamples: opts.resamples } : {} });
-  const labels = [...new Set(jobs.map((j) => j.matcher))].sort(cmp);
+  const labels = [...new Set(jobs.map((j) => j.matcher))].sort(byNatural);
   const datasets = [...new Set(jobs.map((j) => j.dataset))].sort(cmp);
   const tags = [...new Set(rows.flatMap((r) => (r.tag === null ? [] : [r.tag])))].sort(cmp);
   const manifests = runManifests(info);
