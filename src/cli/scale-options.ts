@@ -30,7 +30,7 @@ export interface ScaleArgs {
 
 export function scaleArgOptions<T>(y: Argv<T>): Argv<T & ScaleArgs> {
   return y
-    .option('jobs', { alias: 'j', type: 'number', describe: `Jobs matched at once in worker threads (default: the cores, here ${availableParallelism()}; 1 = no workers)` })
+    .option('jobs', { alias: 'j', type: 'number', describe: `Jobs matched at once in worker threads (default: the cores, here ${availableParallelism()}; 1 = one at a time, in the main thread, or in one worker for module matchers so that their time limit can end them)` })
     .option('threads', { type: 'number', describe: 'Thread budget shared by the jobs and matchers that split work (default: the cores)' })
     .option('resume', { type: 'string', describe: 'Finish an interrupted run: its folder (settings come from its run.json)' })
     .option('cache', { type: 'boolean', default: true, describe: 'Use the result cache (--no-cache to match everything anew)' })

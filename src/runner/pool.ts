@@ -63,6 +63,12 @@ export function sharePair(pair: LoadedPair, reuse?: SharedPair): SharedPair {
   };
 }
 
+function abortError(): Error {
+  const e = new Error('the task was aborted before it started');
+  e.name = 'AbortError';
+  return e;
+}
+
 export class MatchPool {
   private readonly pool: Piscina;
   constructor(readonly size: number) {
@@ -77,9 +83,46 @@ export class MatchPool {
     });
   }
 
-  /** Run one task; rejects (an AbortError) when the signal aborts it. */
-  async run(task: MatchTask, signal: AbortSignal): Promise<DecodedReply> {
-    return decodeReply((await this.pool.run(task, { signal })) as MatchReply);
+  /** Tasks handed to piscina and not settled; at most `size`, so a handed task starts at once. */
+  private active = 0;
+  private readonly waiting: (() => void)[] = [];
+
+  /**
+   * Run one task; rejects (an AbortError) when the signal aborts it. Tasks wait here
+   * for a free thread rather than in piscina's queue, so `onStart` is called when the
+   * task really starts (a time limit counts from then, not from queueing).
+   */
+  async run(task: MatchTask, signal: AbortSignal, onStart?: () => void): Promise<DecodedReply> {
+    await this.freeThread(signal);
+    try {
+      onStart?.();
+      return decodeReply((await this.pool.run(task, { signal })) as MatchReply);
+    } finally {
+      this.active--;
+      this.waiting.shift()?.();
+    }
+  }
+
+  private freeThread(signal: AbortSignal): Promise<void> {
+    if (signal.aborted) return Promise.reject(abortError());
+    if (this.active < this.size) {
+      this.active++;
+      return Promise.resolve();
+    }
+    return new Promise((resolve, reject) => {
+      const go = (): void => {
+        signal.removeEventListener('abort', onAbort);
+        this.active++;
+        resolve();
+      };
+      const onAbort = (): void => {
+        const i = this.waiting.indexOf(go);
+        if (i >= 0) this.waiting.splice(i, 1);
+        reject(abortError());
+      };
+      this.waiting.push(go);
+      signal.addEventListener('abort', onAbort, { once: true });
+    });
   }
 
   async close(): Promise<void> {

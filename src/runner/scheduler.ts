@@ -129,13 +129,14 @@ class Scheduler {
     const onStop = (): void => task.abort();
     this.signal.addEventListener('abort', onStop, { once: true });
     let timedOut = false;
-    const timer =
-      cfg.timeoutMs !== undefined
-        ? setTimeout(() => {
-            timedOut = true;
-            task.abort();
-          }, cfg.timeoutMs)
-        : undefined;
+    let timer: NodeJS.Timeout | undefined;
+    const startClock = (): void => {
+      if (cfg.timeoutMs === undefined) return;
+      timer = setTimeout(() => {
+        timedOut = true;
+        task.abort();
+      }, cfg.timeoutMs);
+    };
     try {
       const reply = await this.pool!.run(
         {
@@ -153,6 +154,7 @@ class Scheduler {
           threads: this.threads,
         },
         task.signal,
+        startClock,
       );
       return reply.ok
         ? { disparity: reply.disparity, timeMs: reply.timeMs, peakMb: reply.peakMb }
