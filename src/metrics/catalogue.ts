@@ -276,6 +276,15 @@ export interface JobCost {
 }
 
 /**
+ * The threshold of the rate that ranks configurations by default (the console table, the
+ * report): 2 px when measured, else the middle threshold. A rate counts pixels without an
+ * answer as errors, so a matcher cannot rank higher by answering less (epe would reward it).
+ */
+export function keyThreshold(thresholds: readonly number[]): number {
+  return thresholds.includes(2) ? 2 : thresholds[Math.floor((thresholds.length - 1) / 2)];
+}
+
+/**
  * The cost a job contributes to means of time and memory: none when it came from the
  * result cache (its time was measured by an earlier run) or did not finish (failed,
  * timed out), so that means hold only measured, completed matches.

@@ -133,7 +133,7 @@ function gateRows(gates: readonly GateOutcome[]): string[] {
   const L = ['| configuration | gate | worsening | allowance | smallest detectable | verdict | why |', '|---|---|--:|--:|--:|---|---|'];
   for (const g of gates) {
     const why = g.belowNoise
-      ? `${g.reason}; the allowance is below the smallest change these pairs can detect, so this gate passes or fails largely by chance${g.unitsNeeded !== null ? ` (about ${g.unitsNeeded} pairs would be needed)` : ''}`
+      ? `${g.reason}; the allowance is below the smallest change these pairs can detect, so a worsening near the allowance passes or fails by chance${g.unitsNeeded !== null ? ` (about ${g.unitsNeeded} pairs would make it detectable)` : ''}`
       : g.reason;
     L.push(`| ${mdCell(g.label)} | ${g.gate.region}/${g.gate.metric} | ${fmtNum(g.worsening, true)} | ${fmtNum(g.gate.allowance)} | ${fmtNum(g.smallest)} | ${g.pass ? 'pass' : '**FAIL**'}${g.belowNoise ? ' ⚠' : ''} | ${mdCell(why)} |`);
   }
@@ -185,7 +185,7 @@ export function compareMarkdown(c: Comparison, gates: readonly GateOutcome[], me
   const head = gates.length === 0 ? 'no gates set' : failed.length === 0 ? `all ${gates.length} gate checks pass` : `${failed.length} of ${gates.length} gate checks FAIL`;
   const L: string[] = [`## Stereo accuracy: ${mdCell(meta.candidate.name)} against ${mdCell(meta.baseline.name)}`, ''];
   L.push(`**${head}**${meta.strict ? ' (strict: the interval of each worsening must stay within its allowance)' : ''}`, '');
-  if (chance) L.push(`⚠ ${chance} gate check(s) have an allowance below the smallest change the data can detect: they pass or fail largely by chance.`, '');
+  if (chance) L.push(`⚠ ${chance} gate check(s) have an allowance below the smallest change the data can detect: near the allowance they can only pass or fail by chance.`, '');
   L.push(...runRows(meta), ...gateRows(gates));
   if (meta.overrides.length) L.push('Overrides in effect:', '', ...meta.overrides.map((o) => `- ${mdCell(o)}`), '');
   L.push(...notCompared(c));
@@ -231,7 +231,7 @@ export function compareConsole(c: Comparison, gates: readonly GateOutcome[], all
   }
   if (gates.length) {
     L.push('', 'gates:');
-    for (const g of gates) L.push(`  ${g.pass ? 'pass' : 'FAIL'}  ${g.label}  ${g.gate.region}/${g.gate.metric}:${g.gate.allowance}  ${g.reason}${g.belowNoise ? `  (below the smallest detectable change ${fmtNum(g.smallest)}: chance)` : ''}`);
+    for (const g of gates) L.push(`  ${g.pass ? 'pass' : 'FAIL'}  ${g.label}  ${g.gate.region}/${g.gate.metric}:${g.gate.allowance}  ${g.reason}${g.belowNoise ? `  (allowance below the smallest detectable change ${fmtNum(g.smallest)}: near it, chance decides)` : ''}`);
   }
   return L.join('\n') + '\n';
 }

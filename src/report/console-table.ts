@@ -5,11 +5,10 @@
  */
 import type { SummaryRow } from '../stats/aggregate.js';
 import { thresholdName } from '../metrics/types.js';
+import { keyThreshold } from '../metrics/catalogue.js';
+import { byNatural } from '../core/order.js';
 
-/** The rate shown in the table: 2 px when measured, else the middle threshold. */
-export function keyThreshold(thresholds: readonly number[]): number {
-  return thresholds.includes(2) ? 2 : thresholds[Math.floor((thresholds.length - 1) / 2)];
-}
+export { keyThreshold } from '../metrics/catalogue.js';
 
 function fmt(v: number | null | undefined, digits: number): string {
   return v === null || v === undefined || !Number.isFinite(v) ? '-' : v.toFixed(digits);
@@ -39,9 +38,17 @@ export function consoleTable(rows: readonly SummaryRow[], thresholds: readonly n
     c[r.region] = r;
     cells.set(key, c);
   }
-  for (const { known, visible } of cells.values()) {
+  const m = (row: SummaryRow | undefined, id: string): number | null => row?.metrics[id]?.mean ?? null;
+  // Ranked by the known region's bad-pixel rate: a missing answer counts as an error there, so silence is not rewarded.
+  const ranked = [...cells.values()].sort((x, y) => {
+    const a = m(x.known, rate);
+    const b = m(y.known, rate);
+    const any = (c: typeof x): SummaryRow => (c.known ?? c.visible)!;
+    const byRate = a === null || b === null ? (a === null ? 1 : 0) - (b === null ? 1 : 0) : a - b;
+    return byNatural(any(x).dataset, any(y).dataset) || byRate || byNatural(any(x).matcher, any(y).matcher);
+  });
+  for (const { known, visible } of ranked) {
     const any = (known ?? visible)!;
-    const m = (row: SummaryRow | undefined, id: string): number | null => row?.metrics[id]?.mean ?? null;
     out.push([
       any.matcher,
       any.dataset,
@@ -56,5 +63,5 @@ export function consoleTable(rows: readonly SummaryRow[], thresholds: readonly n
       fmt(m(known, 'time_ms'), 1),
     ]);
   }
-  return alignColumns(header, out, header.map((_, i) => i >= 2));
+  return alignColumns(header, out, header.map((_, i) => i >= 2)) + `sorted by known ${rate}, lowest first (pixels without an answer count as errors)\n`;
 }

@@ -21,6 +21,7 @@
 import type { JobResult } from '../core/score.js';
 import { REGION_IDS, type RegionId } from '../core/regions.js';
 import { InputError } from '../core/errors.js';
+import { detectability } from './power.js';
 import { bcaIntervals, type BootstrapOptions, type Interval, type UnitMatrix, type TotalsStat } from './bootstrap.js';
 import { levelMapOf, measuredCost, metricsOf, metricValue, pooledFrom, readSums, sumColumnCount, type LevelMap, type MetricSet } from '../metrics/catalogue.js';
 import { byCodeUnits, byNatural, groupBy } from '../core/order.js';
@@ -36,6 +37,11 @@ export interface MetricSummary {
   meanCi: Interval | null;
   /** BCa interval of the pooled figure. */
   pooledCi: Interval | null;
+  /**
+   * The smallest change of the mean these units can tell from noise (stats/power.ts, from
+   * the spread of the per-unit figures over pairs or groups); null with fewer than two.
+   */
+  detect: number | null;
 }
 
 export interface SummaryRow {
@@ -164,12 +170,18 @@ function summarizeCell(
   cm.metrics.forEach((name, m) => {
     const mean = stats[2 * m](tot);
     const pooled = stats[2 * m + 1](tot);
+    const unitMeans: number[] = [];
+    for (let u = 0; u < cm.units; u++) {
+      const count = cm.data[u * cm.cols + 2 * m + 1];
+      if (count > 0) unitMeans.push(cm.data[u * cm.cols + 2 * m] / count);
+    }
     metrics[name] = {
       mean: Number.isFinite(mean) ? mean : null,
       n: tot[2 * m + 1],
       pooled: Number.isFinite(pooled) ? pooled : null,
       meanCi: cis[2 * m] ?? null,
       pooledCi: cis[2 * m + 1] ?? null,
+      detect: detectability(unitMeans)?.smallest ?? null,
     };
   });
   let nPairs = 0;

@@ -61,13 +61,17 @@ describe('HTML report in chromium', () => {
     page.on('request', (r) => requests.push(r.url()));
     await page.goto(reportUrl, { waitUntil: 'load' });
 
-    // One row per configuration, default sort known/epe ascending (aria-sort says so).
+    // One row per configuration, default sort known/over2px ascending (a bad-pixel rate, which
+    // counts missing answers as errors); aria-sort and the caption say so.
     const rows = page.locator('#rank-table tbody tr');
     await expect.poll(() => rows.count()).toBe(CONFIGS.length);
-    expect(await page.locator('#rank-table th[data-col="epe"]').getAttribute('aria-sort')).toBe('ascending');
+    expect(await page.locator('#rank-table th[data-col="over2px"]').getAttribute('aria-sort')).toBe('ascending');
+    const rate = async () => page.$$eval('#rank-table tbody td[data-metric="over2px"]', (tds) => tds.map((td) => Number(td.getAttribute('data-value'))));
+    const r1 = await rate();
     const epe = async () => page.$$eval('#rank-table tbody td[data-metric="epe"]', (tds) => tds.map((td) => Number(td.getAttribute('data-value'))));
     const e1 = await epe();
-    expect(e1).toEqual([...e1].sort((a, b) => a - b));
+    expect(r1).toEqual([...r1].sort((a, b) => a - b));
+    expect(await page.locator('#rank-caption').textContent()).toMatch(/^Sorted by known\/over2px, lowest first \(a bad-pixel rate: pixels without an answer count as errors/);
 
     // The hostile label is shown as text in its row header, not as an element.
     const labels = await page.$$eval('#rank-table tbody th', (ths) => ths.map((t) => t.textContent));
@@ -96,6 +100,7 @@ describe('HTML report in chromium', () => {
     const occ = await epe();
     expect(occ).toEqual([...occ].sort((a, b) => a - b));
     expect(occ).not.toEqual(e1);
+    expect(await page.locator('#rank-caption').textContent()).toMatch(/^Sorted by occluded\/epe, lowest first\./); // the caption follows every change
     await page.selectOption('#sel-region', 'known');
 
     // Tag selector: only the pairs tagged wet-floor (2 of 4) count.

@@ -233,7 +233,7 @@ describe('console table', () => {
 
   it('one line per configuration and dataset, empty figures as "-"', async () => {
     const { consoleTable } = await import('../../src/report/console-table.js');
-    const m = (mean: number | null) => ({ mean, n: 1, pooled: null, meanCi: null, pooledCi: null });
+    const m = (mean: number | null) => ({ mean, n: 1, pooled: null, meanCi: null, pooledCi: null, detect: null });
     const row = (region: 'known' | 'visible', epe: number | null) => ({
       matcher: 'block',
       matcherId: 'block',
@@ -249,7 +249,8 @@ describe('console table', () => {
     });
     const text = consoleTable([row('known', 1.5), row('visible', null)], [1, 2]);
     const lines = text.trimEnd().split('\n');
-    expect(lines).toHaveLength(3); // header, rule, one row
+    expect(lines).toHaveLength(4); // header, rule, one row, the sort caption
+    expect(lines[3]).toBe('sorted by known over2px, lowest first (pixels without an answer count as errors)');
     // Values as given above, formatted to the documented digits.
     expect(lines[2].split(/\s+/)).toEqual(['block', 'dock', '2', '1', '50.0', '1.500', '75.00', '50.0', '-', '75.00', '12.3']);
   });

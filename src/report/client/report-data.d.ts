@@ -4,7 +4,7 @@
  * declarations, so the client stays a plain script with no imports.
  */
 
-/** One summary row of a configuration: per metric [mean, lo, hi, n, pooled, pooled lo, pooled hi]. */
+/** One summary row of a configuration: per metric [mean, lo, hi, n, pooled, pooled lo, pooled hi, smallest detectable change of the mean]. */
 interface PlxSummaryRow {
   label: string;
   n_pairs: number;
@@ -67,6 +67,8 @@ interface PlxReportHead {
   regionKeys: [string, string][];
   /** Colours of configurations in charts, in order (colour-blind safe). */
   configColors: string[];
+  /** The ranking's default order: a bad-pixel rate (missing answers count as errors), lowest first. */
+  rankBy: string;
 }
 
 interface PlxReportData extends PlxReportHead {

@@ -16,7 +16,7 @@
     sort: string;
     dir: 'asc' | 'desc';
   }
-  const state: State = { dataset: data.datasets[0] || '', tag: '', region: 'known', stat: 'mean', sort: 'epe', dir: 'asc' };
+  const state: State = { dataset: data.datasets[0] || '', tag: '', region: 'known', stat: 'mean', sort: data.rankBy, dir: 'asc' };
   interface Cell {
     v: number | null;
     lo: number | null;
@@ -78,6 +78,7 @@
       if (y === null) return -1;
       return sgn * (x - y) || byText(a.label, b.label);
     });
+    writeRankCaption(rows);
     thead.querySelectorAll('th[aria-sort]').forEach((th) => {
       th.setAttribute('aria-sort', th.getAttribute('data-col') === key ? (state.dir === 'asc' ? 'ascending' : 'descending') : 'none');
     });
@@ -100,6 +101,24 @@
       });
       tbody.appendChild(tr);
     });
+  }
+
+  /** What the table is sorted by, and the smallest change of that figure each configuration's pairs can see. */
+  function writeRankCaption(rows: PlxSummaryRow[]): void {
+    const key = state.sort;
+    const unit = data.units[key] === '%' ? ' points' : data.units[key] ? ' ' + data.units[key] : '';
+    let text = 'Sorted by ' + state.region + '/' + key + ', ' + (state.dir === 'asc' ? 'lowest' : 'highest') + ' first';
+    if (key === data.rankBy) text += ' (a bad-pixel rate: pixels without an answer count as errors, so answering less does not rank higher)';
+    text += '.';
+    const seen = rows
+      .map((r) => {
+        const m = r.m[key];
+        const d = m ? m[7] : null;
+        return d === null || d === undefined ? null : r.label + ' ' + fmt(d) + unit + ' (' + r.n_units + ' ' + r.unit + 's)';
+      })
+      .filter((x): x is string => x !== null);
+    if (seen.length) text += ' Smallest change of the mean ' + state.region + '/' + key + ' these pairs can tell from noise (' + Math.round(data.level * 100) + ' % level, 80 % power): ' + seen.join('; ') + '.';
+    document.getElementById('rank-caption')!.textContent = text;
   }
 
   // ---------------------------------------------------------------- charts

@@ -98,8 +98,8 @@ export function pageHead(p: PageParts): string {
 ${tags.length ? html`<label>pairs<select id="sel-tag">${opt('', 'all pairs')}${tags.map((t) => opt(t, `tagged ${t}`))}</select></label>` : ''}
 <label>statistic<select id="sel-stat">${opt('mean', 'mean over pairs')}${opt('pooled', 'pooled over pixels')}</select></label>
 </div>
-<p class="ci">Each cell: the figure, below it its ${Math.round(DEFAULT_LEVEL * 100)} % BCa bootstrap interval (pairs, or the manifest's groups, resampled) and n = pairs the figure rests on. Rates and coverage in %; sorted by known/epe, lowest first, until you pick a column. Failed jobs count as all-invalid.</p>
-<div class="rank"><table id="rank-table"><thead></thead><tbody></tbody></table></div>
+<p class="ci">Each cell: the figure, below it its ${Math.round(DEFAULT_LEVEL * 100)} % BCa bootstrap interval (pairs, or the manifest's groups, resampled) and n = pairs the figure rests on. Rates and coverage in %. Failed jobs count as all-invalid.</p>
+<div class="rank"><table id="rank-table"><caption id="rank-caption"></caption><thead></thead><tbody></tbody></table></div>
 <noscript><p>The ranking, charts and pair views need JavaScript; summary.csv holds the same figures.</p></noscript>
 </section>
 <section aria-labelledby="h-charts">

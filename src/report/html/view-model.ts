@@ -9,7 +9,7 @@ import type { RunRecord } from '../../io/run-record.js';
 import type { Manifest } from '../../dataset/manifest.js';
 import type { SummaryRow } from '../../stats/aggregate.js';
 import { DEFAULT_LEVEL } from '../../stats/bootstrap.js';
-import { heading, metricsOf, thresholdName, type MetricSet } from '../../metrics/catalogue.js';
+import { heading, keyThreshold, metricsOf, thresholdName, type MetricSet } from '../../metrics/catalogue.js';
 import { CATEGORICAL, colorHex, ERROR_MAP, type DisparityMapName } from '../colormaps.js';
 import { encodePalettePng, type IndexedImage } from '../png-palette.js';
 import { ERROR_CLIP_PX, NO_TRUTH, REGION_COLORS, colorizeDisparity, colorizeError, colorizeRegions, finiteRange, toThumbGrid } from '../thumbs.js';
@@ -101,7 +101,7 @@ function summaryView(rows: SummaryRow[], set: MetricSet): PlxReportHead['summary
     const m: Record<string, (number | null)[]> = {};
     for (const { id } of metrics) {
       const s = r.metrics[id];
-      m[id] = [s.mean, s.meanCi?.lo ?? null, s.meanCi?.hi ?? null, s.n, s.pooled, s.pooledCi?.lo ?? null, s.pooledCi?.hi ?? null];
+      m[id] = [s.mean, s.meanCi?.lo ?? null, s.meanCi?.hi ?? null, s.n, s.pooled, s.pooledCi?.lo ?? null, s.pooledCi?.hi ?? null, s.detect];
     }
     list.push({ label: r.matcher, n_pairs: r.n_pairs, n_units: r.n_units, unit: r.unit, n_failed: r.n_failed, m });
   }
@@ -132,6 +132,7 @@ export function reportData(rows: SummaryRow[], set: MetricSet, datasets: string[
     errorClip: ERROR_CLIP_PX,
     noTruth: `rgb(${NO_TRUTH.join(',')})`,
     configColors: [...CATEGORICAL],
+    rankBy: thresholdName(keyThreshold(set.thresholds)),
     regionKeys: (['visible', 'occluded', 'flat', 'jump', 'unknown'] as const).map((k): [string, string] => [k === 'unknown' ? 'no truth' : k, `rgb(${REGION_COLORS[k].join(',')})`]),
   };
 }
