@@ -9,13 +9,15 @@ if [ ! -d node_modules ] || [ ! -f node_modules/.package-lock.json ] || [ packag
   npm ci
 fi
 
-# Debian packages used as outside references: numpy, OpenCV, scipy and matplotlib
-# (colour-map tables) in Debian's own Python (/usr/bin/python3), and Chromium for the browser test of the HTML report.
+# Debian packages used as outside references: numpy, OpenCV, scipy, matplotlib
+# (colour-map tables) and PyYAML (the CI pipeline files) in Debian's own Python
+# (/usr/bin/python3), and Chromium for the browser test of the HTML report.
 need=()
 /usr/bin/python3 -c 'import numpy' 2>/dev/null || need+=(python3-numpy)
 /usr/bin/python3 -c 'import cv2' 2>/dev/null || need+=(python3-opencv)
 /usr/bin/python3 -c 'import scipy' 2>/dev/null || need+=(python3-scipy)
 /usr/bin/python3 -c 'import matplotlib' 2>/dev/null || need+=(python3-matplotlib)
+/usr/bin/python3 -c 'import yaml' 2>/dev/null || need+=(python3-yaml)
 [ -x /usr/bin/chromium ] || need+=(chromium)
 if [ ${#need[@]} -gt 0 ]; then
   echo "installing Debian packages: ${need[*]}"

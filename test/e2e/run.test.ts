@@ -10,7 +10,8 @@ import { encodeNpy } from '../../src/io/npy.js';
 import { encodePfm } from '../../src/io/pfm.js';
 import { encodePngDisparity } from '../../src/io/png.js';
 import { writeDataset, type WrittenDataset } from '../dataset/fixture.js';
-import { builtCliExists, expectOneLineError, parallax, readCsv } from './helpers.js';
+import { REPO, builtCliExists, expectOneLineError, parallax, readCsv } from './helpers.js';
+import { spawnSync } from 'node:child_process';
 
 const root = mkdtempSync(join(tmpdir(), 'parallax-e2e-'));
 afterAll(() => rmSync(root, { recursive: true, force: true }));
@@ -128,4 +129,21 @@ describe('parallax dataset check', () => {
     expect(bad.stdout).toMatch(/p2\/left\.png: missing file/);
     expect(bad.stdout).toMatch(/1 problem\(s\)/);
   });
+});
+
+describe('the quick start puts parallax on the PATH', () => {
+  it('README: `npm link` then `parallax --version`; linking into a fresh npm prefix gives a working `parallax` command', () => {
+    const readme = readFileSync(join(REPO, 'README.md'), 'utf8');
+    const quick = readme.slice(readme.indexOf('## Quick start'), readme.indexOf('## Datasets'));
+    expect(quick).toMatch(/^npm link\b/m);
+    expect(quick).toMatch(/^parallax --version$/m);
+    const prefix = join(root, 'npm-prefix');
+    // --ignore-scripts: the build already ran (npm test builds first); the link is what is tested.
+    const link = spawnSync('npm', ['link', '--ignore-scripts', '--no-audit', '--no-fund'], { cwd: REPO, encoding: 'utf8', env: { ...process.env, npm_config_prefix: prefix }, timeout: 60_000 });
+    expect(link.status).toBe(0);
+    const version = JSON.parse(readFileSync(join(REPO, 'package.json'), 'utf8')).version;
+    const r = spawnSync('parallax', ['--version'], { cwd: root, encoding: 'utf8', env: { ...process.env, PATH: `${join(prefix, 'bin')}:${process.env.PATH}` } });
+    expect(r.status).toBe(0);
+    expect(r.stdout.trim()).toBe(version);
+  }, 90_000);
 });
