@@ -152,7 +152,9 @@ export function sgmLayout(width: number, height: number, levels: number, words =
 /**
  * Scalar TypeScript kernel: aggregates one image row for the enabled directions of
  * one pass. The WebAssembly kernel `pathRow` has the same arguments (byte offsets)
- * and must give the same bytes.
+ * and must give the same bytes. Positional on purpose: a wasm export takes numbers
+ * only, and sharing its signature lets sgm/aggregate.ts drive either kernel through
+ * one call site (an options object would need a second adapter per row).
  *
  * @param u16 uint16 view of the arena; @param u8 uint8 view of the same arena
  * @param costRow byte offset of C(row y, x = 0); @param sumRow likewise in S
