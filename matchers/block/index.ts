@@ -13,7 +13,7 @@
  */
 import { MatcherFailure } from '../../src/core/errors.js';
 import type { MatcherPlugin, MatchInput, ParamValues } from '../../src/core/matcher.js';
-import { applyPostprocess, POSTPROCESS_PARAMS, readPostprocess } from '../kernels/postprocess.js';
+import { applyPostprocess, matchWithConfidence, POSTPROCESS_PARAMS, readPostprocess, type ConfidenceSink } from '../kernels/postprocess.js';
 import { matchLevels } from '../kernels/range.js';
 import { copyRows, matchBySlices, type SliceFn, type StripSource } from '../kernels/slices.js';
 import { wasmPath } from '../sgm/wasm.js';
@@ -58,6 +58,7 @@ export function blockMatch(
   params: ParamValues,
   signal?: AbortSignal,
   stripRows?: number,
+  sink?: ConfidenceSink,
 ): Float32Array {
   const { width, height } = input;
   const { minDisparity, levels } = matchLevels(input);
@@ -92,7 +93,7 @@ export function blockMatch(
         // null: a job the kernel does not take (no candidate at all, huge buffers); same result from ts
         if (maps) {
           blockLastRun.kernel = 'wasm';
-          applyPostprocess(maps.left, maps.right, width, height, post);
+          applyPostprocess(maps.left, maps.right, width, height, post, sink);
           return maps.left;
         }
       }
@@ -110,6 +111,7 @@ export function blockMatch(
     signal,
     blockSource(opts.cost, radius, width, left, right),
     stripRows,
+    sink,
   );
 }
 
@@ -156,6 +158,6 @@ export const blockMatcher: MatcherPlugin = {
     ...POSTPROCESS_PARAMS,
   ],
   match(input, params, signal) {
-    return blockMatch(input, params, signal);
+    return matchWithConfidence((sink) => blockMatch(input, params, signal, undefined, sink));
   },
 };

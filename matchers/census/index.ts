@@ -7,7 +7,7 @@
 import type { MatcherPlugin, MatchInput, ParamValues } from '../../src/core/matcher.js';
 import { boxSum } from '../kernels/box.js';
 import { censusTransform, hammingSlice } from '../kernels/census.js';
-import { POSTPROCESS_PARAMS, readPostprocess } from '../kernels/postprocess.js';
+import { matchWithConfidence, POSTPROCESS_PARAMS, readPostprocess, type ConfidenceSink } from '../kernels/postprocess.js';
 import { matchLevels } from '../kernels/range.js';
 import { copyRowsU32, matchBySlices, type SliceFn, type StripSource } from '../kernels/slices.js';
 
@@ -33,6 +33,7 @@ export function censusMatch(
   params: ParamValues,
   signal?: AbortSignal,
   stripRows?: number,
+  sink?: ConfidenceSink,
 ): Float32Array {
   const { width, height, left, right } = input;
   const { minDisparity, levels } = matchLevels(input);
@@ -58,7 +59,7 @@ export function censusMatch(
       };
     },
   };
-  return matchBySlices(width, height, minDisparity, levels, post, signal, source, stripRows);
+  return matchBySlices(width, height, minDisparity, levels, post, signal, source, stripRows, sink);
 }
 
 export const censusMatcher: MatcherPlugin = {
@@ -80,6 +81,6 @@ export const censusMatcher: MatcherPlugin = {
     ...POSTPROCESS_PARAMS,
   ],
   match(input, params, signal) {
-    return censusMatch(input, params, signal);
+    return matchWithConfidence((sink) => censusMatch(input, params, signal, undefined, sink));
   },
 };

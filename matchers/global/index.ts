@@ -13,7 +13,7 @@ import { AbortedError, UsageError } from '../../src/core/errors.js';
 import { withDefaults, type MatcherPlugin, type MatchInput, type ParamSpec, type ParamValues } from '../../src/core/matcher.js';
 import { btExtremes, btPair } from '../kernels/bt.js';
 import { censusTransform, popcount32 } from '../kernels/census.js';
-import { postprocessParamsWith, readPostprocess } from '../kernels/postprocess.js';
+import { matchWithConfidence, postprocessParamsWith, readPostprocess, type ConfidenceSink } from '../kernels/postprocess.js';
 import { matchLevels } from '../kernels/range.js';
 import { solveBp, type BpSolveOptions } from './bp.js';
 import { finishVolume } from '../kernels/finish.js';
@@ -140,7 +140,7 @@ function fillDataVolume(
 }
 
 /** The bp matcher as a plain function (the plugin's match). */
-export function bpMatch(input: MatchInput, params: ParamValues, signal?: AbortSignal): Float32Array {
+export function bpMatch(input: MatchInput, params: ParamValues, signal?: AbortSignal, sink?: ConfidenceSink): Float32Array {
   const { width, height } = input;
   const { minDisparity, levels } = matchLevels(input);
   const full = withDefaults(BP_PARAMS, params);
@@ -156,7 +156,7 @@ export function bpMatch(input: MatchInput, params: ParamValues, signal?: AbortSi
       for (let y = 0; y < height; y++) belief[(y * width + x) * levels + k] = Infinity;
     }
   }
-  return finishVolume(belief, { width, height, levels, minDisparity }, post);
+  return finishVolume(belief, { width, height, levels, minDisparity }, post, undefined, sink);
 }
 
 export const bpMatcher: MatcherPlugin = {
@@ -164,5 +164,5 @@ export const bpMatcher: MatcherPlugin = {
   summary: 'loopy min-sum belief propagation, truncated linear or Potts smoothness, coarse to fine',
   version: '1.0.0',
   params: BP_PARAMS,
-  match: bpMatch,
+  match: (input, params, signal) => matchWithConfidence((sink) => bpMatch(input, params, signal, sink)),
 };

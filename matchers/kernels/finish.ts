@@ -3,7 +3,7 @@
  * uniqueness test and subpixel fit as asked), the right view when the left-right check
  * needs it, then the shared post-processing. `lap` marks stage times (sgm's benchmark).
  */
-import { applyPostprocess, type PostprocessOptions } from './postprocess.js';
+import { applyPostprocess, type ConfidenceSink, type PostprocessOptions } from './postprocess.js';
 import { wta, wtaRight, type CostVolume } from './wta.js';
 
 export function finishVolume(
@@ -11,13 +11,14 @@ export function finishVolume(
   size: { width: number; height: number; levels: number; minDisparity: number },
   post: PostprocessOptions,
   lap: (stage: string) => void = () => {},
+  sink?: ConfidenceSink,
 ): Float32Array {
   const { width, height, levels, minDisparity } = size;
   const dispL = wta(vol, width, height, levels, minDisparity, { subpix: post.subpix, uniqueness: post.uniq });
   lap('wta');
   const dispR = post.lr > 0 ? wtaRight(vol, width, height, levels, minDisparity, { subpix: post.subpix }) : null;
   lap('wtaRight');
-  applyPostprocess(dispL, dispR, width, height, post);
+  applyPostprocess(dispL, dispR, width, height, post, sink);
   lap('post');
   return dispL;
 }

@@ -10,11 +10,13 @@
  *     costs are not strictly convex (denominator <= 0) or a cost is not finite.
  *     The WTA stage (wta.ts) applies it at the winning level, never at a range end.
  *
- *   leftRightCheck(dispL, dispR, width, height, maxDiff): void
+ *   leftRightCheck(dispL, dispR, width, height, maxDiff, conf?): void
  *     dispR is the right view's disparity (d = x_left - x_right, indexed by x_right).
  *     A finite dL at (x, y) becomes NaN when xr = x - round(dL) is outside [0, width),
  *     when dR(xr, y) is NaN, or when |dL - dR(xr, y)| > maxDiff. round = Math.round
- *     (halves go up).
+ *     (halves go up). With `conf`, each pixel that passes gets the confidence
+ *     -|dL - dR(xr, y)| (0 = both views agree exactly, higher = more trusted) and every
+ *     other pixel NaN (no confidence; a hole filled later keeps it).
  *
  *   removeSpeckles(disp, width, height, maxSize, maxDiff): void
  *     4-connected components of finite pixels whose neighbours differ by at most
@@ -33,12 +35,28 @@
  *     speckleDiff (px), fill (boolean; 'background' mode)
  *   postprocessParamsWith(defaults): ParamSpec[]  the same block with a matcher's own defaults
  *   readPostprocess(params): PostprocessOptions   reads those names (after defaults)
- *   applyPostprocess(dispL, dispR | null, width, height, opts): void
+ *   applyPostprocess(dispL, dispR | null, width, height, opts, sink?): void
  *     runs, in this order: left-right check (when lr > 0 and dispR is given),
- *     speckle removal (when speckle > 0), hole filling (when fill).
+ *     speckle removal (when speckle > 0), hole filling (when fill). With a sink and a
+ *     left-right check, sink.confidence receives the check's confidence map: the
+ *     built-in matchers' confidence (none when lr = 0).
+ *   matchWithConfidence(run): the plugin side: runs a match with a sink and returns
+ *     { disparity, confidence } when the match left a confidence, else the disparity.
  *     subpix and uniq are WTA options: pass them to wta.ts.
  */
-import type { ParamSpec, ParamValues } from '../../src/core/matcher.js';
+import type { MatchOutput, ParamSpec, ParamValues } from '../../src/core/matcher.js';
+
+/** Where a match leaves its confidence map for the plugin's match to return. */
+export interface ConfidenceSink {
+  confidence?: Float32Array;
+}
+
+/** Run a match with a sink; its disparity, with the confidence when the match left one. */
+export async function matchWithConfidence(run: (sink: ConfidenceSink) => Float32Array | Promise<Float32Array>): Promise<Float32Array | MatchOutput> {
+  const sink: ConfidenceSink = {};
+  const disparity = await run(sink);
+  return sink.confidence ? { disparity, confidence: sink.confidence } : disparity;
+}
 
 /** Vertex offset of the parabola through three equally spaced costs, clamped to ±0.5. */
 export function subpixelParabola(cm: number, c0: number, cp: number): number {
@@ -56,7 +74,9 @@ export function leftRightCheck(
   width: number,
   height: number,
   maxDiff: number,
+  conf?: Float32Array,
 ): void {
+  if (conf) conf.fill(NaN);
   for (let y = 0; y < height; y++) {
     const row = y * width;
     for (let x = 0; x < width; x++) {
@@ -70,7 +90,9 @@ export function leftRightCheck(
       }
       const dr = dispR[row + xr];
       // NaN dr fails the comparison below too (NaN > maxDiff is false, so test explicitly).
-      if (dr !== dr || Math.abs(dl - dr) > maxDiff) dispL[p] = NaN;
+      const diff = Math.abs(dl - dr);
+      if (dr !== dr || diff > maxDiff) dispL[p] = NaN;
+      else if (conf) conf[p] = -diff;
     }
   }
 }
@@ -284,8 +306,13 @@ export function applyPostprocess(
   width: number,
   height: number,
   opts: PostprocessOptions,
+  sink?: ConfidenceSink,
 ): void {
-  if (opts.lr > 0 && dispR) leftRightCheck(dispL, dispR, width, height, opts.lr);
+  if (opts.lr > 0 && dispR) {
+    const conf = sink ? new Float32Array(width * height) : undefined;
+    leftRightCheck(dispL, dispR, width, height, opts.lr, conf);
+    if (sink && conf) sink.confidence = conf;
+  }
   if (opts.speckle > 0) removeSpeckles(dispL, width, height, opts.speckle, opts.speckleDiff);
   if (opts.fill) fillHoles(dispL, width, height, 'background');
 }

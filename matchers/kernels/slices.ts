@@ -22,7 +22,7 @@
  *     stripRows overrides the core rows per strip (tests; default from STRIP_PIXELS).
  */
 import { AbortedError } from '../../src/core/errors.js';
-import { applyPostprocess, type PostprocessOptions } from './postprocess.js';
+import { applyPostprocess, type ConfidenceSink, type PostprocessOptions } from './postprocess.js';
 import { levelHasCandidates } from './range.js';
 import { createSliceWta, sliceWtaAdd, sliceWtaFinish } from './slice-wta.js';
 
@@ -50,6 +50,7 @@ export function matchBySlices(
   signal: AbortSignal | undefined,
   source: StripSource,
   stripRows?: number,
+  sink?: ConfidenceSink,
 ): Float32Array {
   const n = width * height;
   const left = new Float32Array(n);
@@ -87,7 +88,7 @@ export function matchBySlices(
     left.set(res.left.subarray(from, from + count), y0 * width);
     if (right !== null && res.right !== null) right.set(res.right.subarray(from, from + count), y0 * width);
   }
-  applyPostprocess(left, right, width, height, post);
+  applyPostprocess(left, right, width, height, post, sink);
   return left;
 }
 

@@ -15,7 +15,7 @@ import { AbortedError, UsageError } from '../../src/core/errors.js';
 import { withDefaults, type MatcherPlugin, type MatchInput, type ParamSpec, type ParamValues } from '../../src/core/matcher.js';
 import { btExtremes, btPair } from '../kernels/bt.js';
 import { censusTransform, censusWords } from '../kernels/census.js';
-import { applyPostprocess, postprocessParamsWith, readPostprocess, type PostprocessOptions } from '../kernels/postprocess.js';
+import { applyPostprocess, matchWithConfidence, postprocessParamsWith, readPostprocess, type ConfidenceSink, type PostprocessOptions } from '../kernels/postprocess.js';
 import { matchLevels } from '../kernels/range.js';
 import { SGM_MAX_COST, SGM_MAX_P2 } from '../kernels/sgm.js';
 import { EXCLUDED_U16 } from '../kernels/wta.js';
@@ -239,7 +239,7 @@ function markExcluded(arena: SgmArena, minD: number): void {
 export const sgmStageTimes: Record<string, number> = {};
 
 /** The sgm matcher as a plain function (the plugin's match). */
-export async function sgmMatch(input: MatchInput, params: ParamValues, signal?: AbortSignal): Promise<Float32Array> {
+export async function sgmMatch(input: MatchInput, params: ParamValues, signal?: AbortSignal, sink?: ConfidenceSink): Promise<Float32Array> {
   const { width, height } = input;
   const { minDisparity, levels } = matchLevels(input);
   const full = withDefaults(SGM_PARAMS, params);
@@ -254,7 +254,7 @@ export async function sgmMatch(input: MatchInput, params: ParamValues, signal?: 
   const words = o.cost === 'census' ? censusWords(o.censusW, o.censusH) : 1;
   const arena = await createArena(width, height, levels, o.kernel, words);
   try {
-    return runPipeline({ arena, input, minDisparity, levels, o, post, words, lap, signal });
+    return runPipeline({ arena, input, minDisparity, levels, o, post, words, lap, signal, sink });
   } finally {
     arena.release();
   }
@@ -271,8 +271,9 @@ function runPipeline(job: {
   words: number;
   lap: (name: string) => void;
   signal: AbortSignal | undefined;
+  sink: ConfidenceSink | undefined;
 }): Float32Array {
-  const { arena, input, minDisparity, levels, o, post, words, lap, signal } = job;
+  const { arena, input, minDisparity, levels, o, post, words, lap, signal, sink } = job;
   const { width, height } = input;
   fillGray(input.left, arena.gray);
   lap('setup');
@@ -314,7 +315,7 @@ function runPipeline(job: {
       dispR = new Float32Array(arena.buffer, L.dispR, width * height).slice();
     }
     lap('wtaRight');
-    applyPostprocess(dispL, dispR, width, height, post);
+    applyPostprocess(dispL, dispR, width, height, post, sink);
     lap('post');
     return dispL;
   }
@@ -325,7 +326,7 @@ function runPipeline(job: {
   aggregatePaths(arena, { p1: o.p1, p2: o.p2, edgeK: o.p2edge, paths: o.paths }, signal);
   lap('aggregate');
   const vol = compactSum(arena, minDisparity);
-  return finishVolume(vol, { width, height, levels, minDisparity }, post, lap);
+  return finishVolume(vol, { width, height, levels, minDisparity }, post, lap, sink);
 }
 
 export const sgmMatcher: MatcherPlugin = {
@@ -334,7 +335,7 @@ export const sgmMatcher: MatcherPlugin = {
   version: '1.0.0',
   params: SGM_PARAMS,
   relations: [{ lower: 'p1', upper: 'p2' }],
-  match: sgmMatch,
+  match: (input, params, signal) => matchWithConfidence((sink) => sgmMatch(input, params, signal, sink)),
   dispose() {
     dropKernelPool();
   },

@@ -52,6 +52,11 @@ export interface MatchOutput {
   readonly disparity: Float32Array;
   /** Match time the matcher measured itself (e.g. a network excluding weight loading), ms. */
   readonly selfTimeMs?: number;
+  /**
+   * Optional confidence per pixel, width * height, higher = more trusted (any scale; NaN =
+   * none, ranked below every other). Scored by sparsification (src/metrics/sparsify.ts).
+   */
+  readonly confidence?: Float32Array;
 }
 
 /** params[lower] <= params[upper] (numbers), declared beside the parameter schema. */

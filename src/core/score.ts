@@ -44,6 +44,17 @@ export interface RegionFigures {
   quantiles: (number | null)[];
   depth_relerr: number | null;
   depth_rmse_m: number | null;
+  /**
+   * Sparsification (src/metrics/sparsify.ts), present when the job has a confidence map:
+   * means of the confidence and oracle curves (px), their difference, the clean share (%),
+   * and the two 20-point curves.
+   */
+  conf_auc?: number | null;
+  conf_oracle_auc?: number | null;
+  conf_gap?: number | null;
+  conf_clean_share?: number | null;
+  conf_curve?: number[];
+  oracle_curve?: number[];
 }
 
 export interface RegionScore {

@@ -26,7 +26,7 @@ export const SCALAR_SUMS = ['pixels', 'valid', 'sumAbs', 'sumSq', 'sumErr', 'dep
 export type Better = 'lower' | 'higher' | 'abs-lower';
 
 /** Scalar fields of RegionFigures that a metric reads. */
-type ScalarFigure = 'coverage' | 'epe' | 'rmse' | 'bias' | 'depth_relerr' | 'depth_rmse_m';
+type ScalarFigure = 'coverage' | 'epe' | 'rmse' | 'bias' | 'depth_relerr' | 'depth_rmse_m' | 'conf_auc' | 'conf_oracle_auc' | 'conf_gap' | 'conf_clean_share';
 
 interface EntryBase {
   /** Id in files, CSV and the CLI; a family's id has `{}` where the level goes. */
@@ -119,6 +119,42 @@ export const METRIC_CATALOGUE = [
     description: 'root mean square of Z_pred - Z_true over the same pixels as depth_relerr',
     read: { region: 'depth_rmse_m' },
     pool: { num: 'depthSumSq', den: 'depthCount', scale: 1, sqrt: true },
+  },
+  {
+    id: 'conf_auc',
+    unit: 'px',
+    better: 'lower',
+    label: 'Sparsification area',
+    description: 'mean epe of the most confident 100 %, 95 %, ..., 5 % of the valid predictions (20 points; a confidence map needed)',
+    read: { region: 'conf_auc' },
+    pool: null,
+  },
+  {
+    id: 'conf_oracle_auc',
+    unit: 'px',
+    better: 'lower',
+    label: 'Oracle sparsification area',
+    description: 'the same mean when the kept predictions are those with the smallest errors: the best any confidence could do',
+    read: { region: 'conf_oracle_auc' },
+    pool: null,
+  },
+  {
+    id: 'conf_gap',
+    unit: 'px',
+    better: 'lower',
+    label: 'Confidence gap',
+    description: 'conf_auc - conf_oracle_auc: how far the confidence ranking is from the errors\' own (0 = perfect)',
+    read: { region: 'conf_gap' },
+    pool: null,
+  },
+  {
+    id: 'conf_clean_share',
+    unit: '%',
+    better: 'higher',
+    label: 'Clean share',
+    description: 'largest share of the valid predictions, kept most confident first, whose rate over 1 px is at most 1 %',
+    read: { region: 'conf_clean_share' },
+    pool: null,
   },
   {
     id: 'time_ms',

@@ -50,15 +50,21 @@ import type { PairScore, RegionFigures, RegionSums } from '../core/score.js';
 import type { MetricSet } from './catalogue.js';
 import type { ScoreOptions } from './types.js';
 import { groupStats } from './segment-stats.js';
+import { regionSparsify } from './sparsify.js';
 
 /** Default opts.depthEps (px): truth with d + cxShift <= this is left out of depth. */
 export const DEFAULT_DEPTH_EPS = 1e-6;
 
 let valsBuf = new Float64Array(0);
 
-export function scorePair(pred: Float32Array | null, truth: Float32Array, regions: RegionMap, opts: ScoreOptions): PairScore {
+/**
+ * Score one prediction against the truth, per region. With a confidence map (same size,
+ * higher = more trusted) the figures also carry sparsification (sparsify.ts).
+ */
+export function scorePair(pred: Float32Array | null, truth: Float32Array, regions: RegionMap, opts: ScoreOptions, confidence: Float32Array | null = null): PairScore {
   const bits = regions.bits;
   const n = bits.length;
+  if (confidence !== null && confidence.length !== n) throw new RangeError(`scorePair: confidence has ${confidence.length} values, the regions ${n}`);
   if (truth.length !== n || (pred !== null && pred.length !== n)) {
     throw new RangeError(
       `scorePair: sizes differ (regions ${n}, truth ${truth.length}, prediction ${pred === null ? 'none' : pred.length})`,
@@ -132,6 +138,10 @@ export function scorePair(pred: Float32Array | null, truth: Float32Array, region
       depthFail,
     };
     out[id] = { sums: s, figures: figuresFromSums(s, opts, st.quantiles) };
+    if (pred !== null && confidence !== null) {
+      const sp = regionSparsify(pred, truth, confidence, bits, bit);
+      if (sp) Object.assign(out[id].figures, sp);
+    }
   });
   return out;
 }

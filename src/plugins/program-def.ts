@@ -32,7 +32,7 @@ export const paramSpecSchema = z.discriminatedUnion('type', [
 ]);
 
 /** Placeholders allowed in a command template. */
-export const PAIR_PLACEHOLDERS = ['left', 'right', 'out', 'minDisparity', 'maxDisparity', 'pairId'] as const;
+export const PAIR_PLACEHOLDERS = ['left', 'right', 'out', 'conf', 'minDisparity', 'maxDisparity', 'pairId'] as const;
 
 export const programMatcherDefSchema = z
   .strictObject({
@@ -41,7 +41,10 @@ export const programMatcherDefSchema = z
     summary: z.string().optional(),
     /** Bump when the program's output changes for the same input (part of the code hash). */
     version: z.string().optional(),
-    /** argv template (no shell). Placeholders: {left} {right} {out} {minDisparity} {maxDisparity} {pairId} {param:NAME}. */
+    /**
+     * argv template (no shell). Placeholders: {left} {right} {out} {conf} {minDisparity} {maxDisparity} {pairId} {param:NAME}.
+     * {conf} is a path where the program may write a confidence map (PFM, float32, higher = more trusted).
+     */
     command: z.array(z.string().min(1)).min(1),
     mode: z.enum(['per-pair', 'long-lived']).default('per-pair'),
     output: z.strictObject({

@@ -92,11 +92,19 @@ export function outputToPairFrame(
     const v = raw[i];
     vals[i] = v === sentinel || !Number.isFinite(v) ? NaN : v * k;
   }
+  return backToPair(vals, f, f.width / f.scaledW);
+}
+
+/** A program's confidence map back in the pair's frame: padding cropped, resampled, values kept (non-finite = none). */
+export function confidenceToPairFrame(raw: Float32Array, f: ProgramFrame): Float32Array {
+  return backToPair(raw.map((v) => (Number.isFinite(v) ? v : NaN)), f, 1);
+}
+
+/** Crop the padding, then resample to the pair's size, multiplying values by `valueScale`. */
+function backToPair(vals: Float32Array, f: ProgramFrame, valueScale: number): Float32Array {
   let img: Float32Array = vals;
   if (f.progW !== f.scaledW || f.progH !== f.scaledH) img = cropTopLeft(img, f.progW, f.scaledW, f.scaledH);
-  if (f.scaledW !== f.width || f.scaledH !== f.height) {
-    img = resampleDisparity(img, f.scaledW, f.scaledH, f.width, f.height, f.width / f.scaledW);
-  }
+  if (f.scaledW !== f.width || f.scaledH !== f.height) img = resampleDisparity(img, f.scaledW, f.scaledH, f.width, f.height, valueScale);
   return img;
 }
 

@@ -8,8 +8,10 @@
  *     matcherId, codeHash, params (keys sorted), range: [min, max] }
  * Entry file `<dir>/<key[0:2]>/<key>.pxd`:
  *   bytes 0-3 "PXD1", 4-7 header length L (uint32 LE), then L bytes of JSON header
- *   { width, height, time_ms, peak_mb, matcherId, created }, zero padding to a multiple
- *   of 4, then width*height float32 little-endian values (NaN = no answer).
+ *   { width, height, time_ms, peak_mb, matcherId, created, confidence }, zero padding to
+ *   a multiple of 4, then width*height float32 little-endian values (NaN = no answer),
+ *   and when `confidence` is true a second plane of width*height float32: the matcher's
+ *   confidence map.
  * Writes are atomic (temporary file + rename); an unreadable or malformed entry is a
  * miss (and is removed). A hit touches the file's modification time, and pruning
  * removes the least recently used entries (oldest modification time) first.
@@ -24,7 +26,7 @@ import { writeFileAtomic } from '../io/files.js';
 import { byCodeUnits } from '../core/order.js';
 
 /** Version of the key recipe and the entry layout; bump when either changes. */
-export const CACHE_FORMAT = 'parallax-disparity-cache/1';
+export const CACHE_FORMAT = 'parallax-disparity-cache/2';
 export const CACHE_DIR_NAME = '.parallax-cache';
 export const DEFAULT_CACHE_MAX_MB = 2048;
 const MAGIC = 'PXD1';
@@ -45,6 +47,8 @@ export interface CacheEntry {
   width: number;
   height: number;
   data: Float32Array;
+  /** The matcher's confidence map, when it gave one. */
+  confidence?: Float32Array | null;
   timeMs: number | null;
   peakMb: number | null;
   matcherId: string;
@@ -86,17 +90,21 @@ export function cacheKey(p: CacheKeyParts): string {
 /** Entry bytes (see the module comment). */
 export function encodeEntry(e: CacheEntry): Buffer {
   const header = Buffer.from(
-    JSON.stringify({ width: e.width, height: e.height, time_ms: e.timeMs, peak_mb: e.peakMb, matcherId: e.matcherId, created: new Date().toISOString() }),
+    JSON.stringify({ width: e.width, height: e.height, time_ms: e.timeMs, peak_mb: e.peakMb, matcherId: e.matcherId, created: new Date().toISOString(), confidence: (e.confidence ?? null) !== null }),
     'utf8',
   );
   const pad = (4 - ((8 + header.length) % 4)) % 4;
   const dataOffset = 8 + header.length + pad;
-  const out = Buffer.alloc(dataOffset + e.data.length * 4);
+  const planes = e.confidence ? [e.data, e.confidence] : [e.data];
+  const out = Buffer.alloc(dataOffset + e.data.length * 4 * planes.length);
   out.write(MAGIC, 0, 'latin1');
   out.writeUInt32LE(header.length, 4);
   header.copy(out, 8);
-  if (LITTLE_ENDIAN) out.set(new Uint8Array(e.data.buffer, e.data.byteOffset, e.data.length * 4), dataOffset);
-  else for (let i = 0; i < e.data.length; i++) out.writeFloatLE(e.data[i], dataOffset + i * 4);
+  planes.forEach((plane, k) => {
+    const at = dataOffset + k * e.data.length * 4;
+    if (LITTLE_ENDIAN) out.set(new Uint8Array(plane.buffer, plane.byteOffset, plane.length * 4), at);
+    else for (let i = 0; i < plane.length; i++) out.writeFloatLE(plane[i], at + i * 4);
+  });
   return out;
 }
 
@@ -106,7 +114,7 @@ export function decodeEntry(buf: Uint8Array): CacheEntry | undefined {
   if (b.length < 8 || b.toString('latin1', 0, 4) !== MAGIC) return undefined;
   const hl = b.readUInt32LE(4);
   if (8 + hl > b.length) return undefined;
-  let h: { width?: unknown; height?: unknown; time_ms?: unknown; peak_mb?: unknown; matcherId?: unknown };
+  let h: { width?: unknown; height?: unknown; time_ms?: unknown; peak_mb?: unknown; matcherId?: unknown; confidence?: unknown };
   try {
     h = JSON.parse(b.toString('utf8', 8, 8 + hl)) as typeof h;
   } catch {
@@ -116,12 +124,17 @@ export function decodeEntry(buf: Uint8Array): CacheEntry | undefined {
   if (typeof width !== 'number' || typeof height !== 'number' || !Number.isInteger(width) || !Number.isInteger(height) || width < 1 || height < 1) return undefined;
   const dataOffset = 8 + hl + ((4 - ((8 + hl) % 4)) % 4);
   const n = width * height;
-  if (b.length !== dataOffset + n * 4) return undefined;
-  const data = new Float32Array(n);
-  if (LITTLE_ENDIAN) new Uint8Array(data.buffer).set(b.subarray(dataOffset, dataOffset + n * 4));
-  else for (let i = 0; i < n; i++) data[i] = b.readFloatLE(dataOffset + i * 4);
+  const planes = h.confidence === true ? 2 : 1;
+  if (b.length !== dataOffset + n * 4 * planes) return undefined;
+  const plane = (k: number): Float32Array => {
+    const at = dataOffset + k * n * 4;
+    const out = new Float32Array(n);
+    if (LITTLE_ENDIAN) new Uint8Array(out.buffer).set(b.subarray(at, at + n * 4));
+    else for (let i = 0; i < n; i++) out[i] = b.readFloatLE(at + i * 4);
+    return out;
+  };
   const num = (v: unknown): number | null => (typeof v === 'number' && Number.isFinite(v) ? v : null);
-  return { width, height, data, timeMs: num(h.time_ms), peakMb: num(h.peak_mb), matcherId: typeof h.matcherId === 'string' ? h.matcherId : '' };
+  return { width, height, data: plane(0), confidence: planes === 2 ? plane(1) : null, timeMs: num(h.time_ms), peakMb: num(h.peak_mb), matcherId: typeof h.matcherId === 'string' ? h.matcherId : '' };
 }
 
 function entryPath(dir: string, key: string): string {

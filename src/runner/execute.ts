@@ -25,6 +25,23 @@ export function oneLineError(e: unknown): string {
   return line.length > MAX_ERROR_CHARS ? line.slice(0, MAX_ERROR_CHARS - 1) + '…' : line;
 }
 
+/** A checked matcher output: the disparity and, when the matcher gave one, its confidence map. */
+export interface CheckedOutput {
+  disparity: Float32Array;
+  confidence: Float32Array | null;
+}
+
+/** Check a matcher's return value: a disparity Float32Array of width*height (directly or in { disparity }), and its optional confidence. */
+export function checkOutput(out: unknown, width: number, height: number): CheckedOutput {
+  const disparity = validateOutput(out, width, height);
+  const conf = out instanceof Float32Array ? undefined : (out as { confidence?: unknown }).confidence;
+  if (conf === undefined || conf === null) return { disparity, confidence: null };
+  if (!(conf instanceof Float32Array) || conf.length !== width * height) {
+    throw new Error(`returned a confidence that is not a Float32Array of ${width}x${height} values`);
+  }
+  return { disparity, confidence: conf };
+}
+
 /** Check a matcher's return value: a Float32Array of width*height (directly or in { disparity }). */
 export function validateOutput(out: unknown, width: number, height: number): Float32Array {
   const arr = out instanceof Float32Array ? out : (out as { disparity?: unknown } | null)?.disparity;
@@ -43,6 +60,8 @@ export interface JobOutcome {
   result: JobResult;
   /** The output when the job succeeded (for previews). */
   disparity: Float32Array | null;
+  /** Its confidence map, when the matcher or the predictions folder gave one. */
+  confidence: Float32Array | null;
 }
 
 export function matchInput(pair: LoadedPair, threads = 1): MatchInput {
@@ -76,7 +95,7 @@ async function runMatcher(
   pair: LoadedPair,
   signal: AbortSignal,
   threads = 1,
-): Promise<{ disparity: Float32Array | null; error?: string; timeMs: number | null; wallMs: number | null; peakMb: number | null }> {
+): Promise<{ disparity: Float32Array | null; confidence?: Float32Array | null; error?: string; timeMs: number | null; wallMs: number | null; peakMb: number | null }> {
   const input = matchInput(pair, threads);
   const sampler = startPeakSampler();
   const t0 = performance.now();
@@ -97,7 +116,7 @@ async function runMatcher(
   const self = selfTime(out);
   const timeMs = self ?? wallMs;
   try {
-    return { disparity: validateOutput(out, pair.width, pair.height), timeMs, wallMs, peakMb };
+    return { ...checkOutput(out, pair.width, pair.height), timeMs, wallMs, peakMb };
   } catch (e) {
     return { disparity: null, error: oneLineError(e), timeMs, wallMs, peakMb };
   }
@@ -114,6 +133,7 @@ export async function runJob(
 ): Promise<JobOutcome> {
   if (signal.aborted) throw new AbortedError();
   let disparity: Float32Array | null = null;
+  let confidence: Float32Array | null = null;
   let error: string | undefined;
   let timeMs: number | null = null;
   let wallMs: number | undefined;
@@ -121,18 +141,19 @@ export async function runJob(
   if (cfg.kind === 'matcher') {
     const r = await runMatcher(cfg, pair, signal, threads);
     disparity = r.disparity;
+    confidence = r.confidence ?? null;
     error = r.error;
     timeMs = r.timeMs === null ? null : ms3(r.timeMs);
     if (r.wallMs !== null) wallMs = ms3(r.wallMs);
     peakMb = r.peakMb;
   } else {
     try {
-      disparity = await readPrediction(cfg.source, pair.dataset, pair.id, pair.width, pair.height);
+      ({ disparity, confidence } = await readPrediction(cfg.source, pair.dataset, pair.id, pair.width, pair.height));
     } catch (e) {
       error = oneLineError(e);
     }
   }
-  return scoredOutcome(cfg, pair, regions, set, { disparity, ...(error !== undefined ? { error } : {}), timeMs, ...(wallMs !== undefined ? { wallMs } : {}), peakMb });
+  return scoredOutcome(cfg, pair, regions, set, { disparity, confidence, ...(error !== undefined ? { error } : {}), timeMs, ...(wallMs !== undefined ? { wallMs } : {}), peakMb });
 }
 
 /** Score a matcher's output obtained elsewhere (a worker thread, the result cache). */
@@ -141,14 +162,17 @@ export function scoredOutcome(
   pair: LoadedPair,
   regions: RegionMap,
   set: MetricSet,
-  got: { disparity: Float32Array | null; error?: string; timeMs: number | null; wallMs?: number | null; peakMb: number | null; cached?: boolean },
+  got: { disparity: Float32Array | null; confidence?: Float32Array | null; error?: string; timeMs: number | null; wallMs?: number | null; peakMb: number | null; cached?: boolean },
 ): JobOutcome {
   const { disparity, error, timeMs, peakMb } = got;
-  const scores = scorePair(disparity, pair.truth.data, regions, {
-    thresholds: set.thresholds,
-    quantiles: set.quantiles,
-    ...(pair.camera ? { camera: pair.camera } : {}),
-  });
+  const confidence = disparity ? (got.confidence ?? null) : null;
+  const scores = scorePair(
+    disparity,
+    pair.truth.data,
+    regions,
+    { thresholds: set.thresholds, quantiles: set.quantiles, ...(pair.camera ? { camera: pair.camera } : {}) },
+    confidence,
+  );
   const result: JobResult = {
     matcher: cfg.label,
     matcherId: cfg.matcherId,
@@ -167,5 +191,5 @@ export function scoredOutcome(
     ...(pair.group !== undefined ? { group: pair.group } : {}),
     ...(pair.tags ? { tags: [...pair.tags] } : {}),
   };
-  return { result, disparity };
+  return { result, disparity, confidence };
 }

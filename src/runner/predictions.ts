@@ -3,6 +3,8 @@
  * For a pair `<id>` of dataset `<name>` the file is looked up as
  * `<dir>/<name>/<id>.<ext>` first (several datasets in one run), then `<dir>/<id>.<ext>`,
  * with ext in the order pfm, npy, png. PNG needs a scale (and takes an invalid code).
+ * A confidence map may sit beside it as `<id>.conf.pfm` or `<id>.conf.npy` (same size,
+ * higher = more trusted); it is read when present.
  */
 import { existsSync, readdirSync } from 'node:fs';
 import { join } from 'node:path';
@@ -15,15 +17,22 @@ export const PREDICTION_EXTENSIONS = ['pfm', 'npy', 'png'] as const;
 export type { PredictionSource } from '../io/run-record.js';
 import type { PredictionSource } from '../io/run-record.js';
 
-/** The prediction file of a pair, or undefined when there is none. */
-export function findPredictionFile(src: PredictionSource, dataset: string, pair: string): string | undefined {
+/** Extensions of a confidence map beside a prediction. */
+export const CONFIDENCE_EXTENSIONS = ['conf.pfm', 'conf.npy'] as const;
+
+function findFile(src: PredictionSource, dataset: string, pair: string, extensions: readonly string[]): string | undefined {
   for (const base of [join(src.dir, dataset), src.dir]) {
-    for (const ext of PREDICTION_EXTENSIONS) {
+    for (const ext of extensions) {
       const f = join(base, `${pair}.${ext}`);
       if (existsSync(f)) return f;
     }
   }
   return undefined;
+}
+
+/** The prediction file of a pair, or undefined when there is none. */
+export function findPredictionFile(src: PredictionSource, dataset: string, pair: string): string | undefined {
+  return findFile(src, dataset, pair, PREDICTION_EXTENSIONS);
 }
 
 /** Refuse a prediction folder that is missing, or holds PNG files while no scale is given. */
@@ -59,6 +68,8 @@ export function predictionCoverage(src: PredictionSource, datasets: readonly Pai
       if (f === undefined) continue;
       found++;
       used.add(f);
+      const c = findFile(src, d.name, id, CONFIDENCE_EXTENSIONS);
+      if (c !== undefined) used.add(c);
     }
   }
   const first = datasets.find((d) => d.pairIds.length > 0);
@@ -90,7 +101,13 @@ export function predictionCoverage(src: PredictionSource, datasets: readonly Pai
  * Read one prediction. Throws (InputError) for a missing, unreadable or malformed
  * file; the runner records that as a failed job.
  */
-export async function readPrediction(src: PredictionSource, dataset: string, pair: string, width: number, height: number): Promise<Float32Array> {
+export async function readPrediction(
+  src: PredictionSource,
+  dataset: string,
+  pair: string,
+  width: number,
+  height: number,
+): Promise<{ disparity: Float32Array; confidence: Float32Array | null }> {
   const file = findPredictionFile(src, dataset, pair);
   if (!file) throw new Error(`no prediction file ${pair}.{${PREDICTION_EXTENSIONS.join(',')}} in ${src.dir}`);
   const img: FloatImage = await readDisparityFile(file, {
@@ -101,5 +118,11 @@ export async function readPrediction(src: PredictionSource, dataset: string, pai
   if (img.width !== width || img.height !== height) {
     throw new Error(`${file}: size ${img.width}x${img.height} differs from the pair's ${width}x${height}`);
   }
-  return img.data;
+  const confFile = findFile(src, dataset, pair, CONFIDENCE_EXTENSIONS);
+  if (confFile === undefined) return { disparity: img.data, confidence: null };
+  const conf = await readDisparityFile(confFile, { maxPixels: Math.max(1, 4 * width * height) });
+  if (conf.width !== width || conf.height !== height) {
+    throw new Error(`${confFile}: size ${conf.width}x${conf.height} differs from the pair's ${width}x${height}`);
+  }
+  return { disparity: img.data, confidence: conf.data };
 }

@@ -157,7 +157,7 @@ class Scheduler {
         startClock,
       );
       return reply.ok
-        ? { disparity: reply.disparity, timeMs: reply.timeMs, peakMb: reply.peakMb }
+        ? { disparity: reply.disparity, confidence: reply.confidence, timeMs: reply.timeMs, peakMb: reply.peakMb }
         : { disparity: null, error: reply.error, timeMs: reply.timeMs, peakMb: reply.peakMb };
     } catch (e) {
       if (timedOut && !this.signal.aborted) {
@@ -233,7 +233,7 @@ class Scheduler {
     const hit = this.cache.get(key, pair.width, pair.height);
     if (!hit) return { key };
     this.stats.cached++;
-    return { key, outcome: scoredOutcome(cfg, pair, p.regions, this.plan, { disparity: hit.data, timeMs: hit.timeMs, peakMb: hit.peakMb, cached: true }) };
+    return { key, outcome: scoredOutcome(cfg, pair, p.regions, this.plan, { disparity: hit.data, confidence: hit.confidence, timeMs: hit.timeMs, peakMb: hit.peakMb, cached: true }) };
   }
 
   /** Run the job: on the pool, serialised in the main thread (programs next to a pool), or in the main thread. */
@@ -252,7 +252,7 @@ class Scheduler {
   private async store(key: string, cfg: RunConfig, pair: LoadedPair, outcome: JobOutcome): Promise<void> {
     if (!this.cache || !outcome.disparity || outcome.result.status !== 'ok') return;
     try {
-      await this.cache.put(key, { width: pair.width, height: pair.height, data: outcome.disparity, timeMs: outcome.result.time_ms, peakMb: outcome.result.peak_mb, matcherId: cfg.matcherId });
+      await this.cache.put(key, { width: pair.width, height: pair.height, data: outcome.disparity, confidence: outcome.confidence, timeMs: outcome.result.time_ms, peakMb: outcome.result.peak_mb, matcherId: cfg.matcherId });
     } catch {
       this.stats.cacheWriteErrors = (this.stats.cacheWriteErrors ?? 0) + 1; // the cache only saves time: a full or read-only disk must not end the run
     }

@@ -19,7 +19,7 @@ import type { RasterImage } from '../core/image.js';
 import type { ParamValue } from '../core/params.js';
 import type { MatchInput, MatcherPlugin } from '../core/matcher.js';
 import { pluginFromSource, type MatcherSource } from '../plugins/registry.js';
-import { oneLineError, validateOutput } from './execute.js';
+import { checkOutput, oneLineError, type CheckedOutput } from './execute.js';
 import { startPeakSampler } from './memory.js';
 
 export interface SharedRaster {
@@ -49,16 +49,25 @@ export interface MatchTask {
 export type MatchReply = ArrayBuffer | { ok: false; error: string; timeMs: number | null; peakMb: number | null };
 
 export type DecodedReply =
-  | { ok: true; disparity: Float32Array; timeMs: number; peakMb: number }
+  | { ok: true; disparity: Float32Array; confidence: Float32Array | null; timeMs: number; peakMb: number }
   | { ok: false; error: string; timeMs: number | null; peakMb: number | null };
 
-const REPLY_HEADER_BYTES = 16;
+/** float64 time, peak and whether a confidence plane follows the disparity. */
+const REPLY_HEADER_BYTES = 24;
 
 /** The main thread's view of a reply (no copy: the disparity is a view of the moved buffer). */
 export function decodeReply(r: MatchReply): DecodedReply {
   if (!(r instanceof ArrayBuffer)) return r;
-  const head = new Float64Array(r, 0, 2);
-  return { ok: true, timeMs: head[0], peakMb: head[1], disparity: new Float32Array(r, REPLY_HEADER_BYTES) };
+  const head = new Float64Array(r, 0, 3);
+  const planes = head[2] === 1 ? 2 : 1;
+  const n = (r.byteLength - REPLY_HEADER_BYTES) / 4 / planes;
+  return {
+    ok: true,
+    timeMs: head[0],
+    peakMb: head[1],
+    disparity: new Float32Array(r, REPLY_HEADER_BYTES, n),
+    confidence: planes === 2 ? new Float32Array(r, REPLY_HEADER_BYTES + 4 * n, n) : null,
+  };
 }
 
 const plugins = new Map<string, Promise<MatcherPlugin>>();
@@ -118,19 +127,24 @@ async function matchOnce(task: MatchTask): Promise<MatchReply> {
   }
   const timeMs = Math.round((performance.now() - t0) * 1000) / 1000;
   const peakMb = sampler.stop();
-  let arr: Float32Array;
+  let checked: CheckedOutput;
   try {
-    arr = validateOutput(out, task.width, task.height);
+    checked = checkOutput(out, task.width, task.height);
   } catch (e) {
     return { ok: false, error: oneLineError(e), timeMs, peakMb };
   }
   // A copy the matcher holds no reference to, moved (transferred, not cloned) to the main
-  // thread: float64 time and peak, then the float32 disparity (see decodeReply).
-  const buf = new ArrayBuffer(REPLY_HEADER_BYTES + arr.length * 4);
-  const head = new Float64Array(buf, 0, 2);
+  // thread: float64 time, peak and confidence flag, then the float32 disparity and the
+  // confidence when there is one (see decodeReply).
+  const n = checked.disparity.length;
+  const conf = checked.confidence;
+  const buf = new ArrayBuffer(REPLY_HEADER_BYTES + n * 4 * (conf ? 2 : 1));
+  const head = new Float64Array(buf, 0, 3);
   head[0] = timeMs;
   head[1] = peakMb;
-  new Float32Array(buf, REPLY_HEADER_BYTES).set(arr);
+  head[2] = conf ? 1 : 0;
+  new Float32Array(buf, REPLY_HEADER_BYTES, n).set(checked.disparity);
+  if (conf) new Float32Array(buf, REPLY_HEADER_BYTES + 4 * n, n).set(conf);
   return move(buf) as unknown as MatchReply;
 }
 

@@ -221,12 +221,12 @@ describe('block wasm kernel', () => {
     expect(spec && spec.type === 'enum' ? [...spec.values].sort() : []).toEqual(['auto', 'ts', 'wasm']);
   });
 
-  it('throws AbortedError when the signal is aborted', () => {
+  it('throws AbortedError when the signal is aborted (the match rejects)', async () => {
     const img = makeImages(0, 32, 16, 4);
     const ac = new AbortController();
     ac.abort();
-    expect(() =>
-      blockMatcher.match({ ...img, minDisparity: 0, maxDisparity: 8 }, { kernel: 'wasm' }, ac.signal),
-    ).toThrow(AbortedError);
+    await expect((async () =>
+      blockMatcher.match({ ...img, minDisparity: 0, maxDisparity: 8 }, { kernel: 'wasm' }, ac.signal)
+    )()).rejects.toThrow(AbortedError);
   });
 });

@@ -301,12 +301,12 @@ describe('block matcher: range, excluded candidates, abort, schema', () => {
     }
   });
 
-  it('throws AbortedError when the signal is aborted', () => {
+  it('throws AbortedError when the signal is aborted (the match rejects)', async () => {
     const ac = new AbortController();
     ac.abort();
-    expect(() =>
-      blockMatcher.match({ width: w, height: h, left: L, right: R, minDisparity: 0, maxDisparity: 8 }, {}, ac.signal),
-    ).toThrow(AbortedError);
+    await expect((async () =>
+      blockMatcher.match({ width: w, height: h, left: L, right: R, minDisparity: 0, maxDisparity: 8 }, {}, ac.signal)
+    )()).rejects.toThrow(AbortedError);
   });
 });
 

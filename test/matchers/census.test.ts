@@ -54,17 +54,17 @@ describe('census matcher on a random-dot stereogram (Julesz 1960)', () => {
 });
 
 describe('census matcher: abort and schema', () => {
-  it('throws AbortedError when the signal is aborted', () => {
+  it('throws AbortedError when the signal is aborted (the match rejects)', async () => {
     const ac = new AbortController();
     ac.abort();
     const s = randomDotStereogram(32, 24, 1, 3, 1);
-    expect(() =>
+    await expect((async () =>
       censusMatcher.match(
         { width: 32, height: 24, left: s.left, right: s.right, minDisparity: 0, maxDisparity: 4 },
         {},
         ac.signal,
-      ),
-    ).toThrow(AbortedError);
+      )
+    )()).rejects.toThrow(AbortedError);
   });
 });
 

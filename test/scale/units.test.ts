@@ -68,7 +68,7 @@ describe('cache key', () => {
 
   it('is the sha256 of the documented canonical JSON (cross-checked with Python hashlib)', () => {
     // Canonical text written out by hand from the recipe in cache.ts (params keys sorted).
-    const text = '{"format":"parallax-disparity-cache/1","left":"aa","right":"bb","matcherId":"block","codeHash":"cc","params":{"cost":"sad","window":9},"range":[0,64]}';
+    const text = '{"format":"parallax-disparity-cache/2","left":"aa","right":"bb","matcherId":"block","codeHash":"cc","params":{"cost":"sad","window":9},"range":[0,64]}';
     const py = spawnSync('python3', ['-c', 'import hashlib,sys; print(hashlib.sha256(sys.stdin.buffer.read()).hexdigest())'], { input: text, encoding: 'utf8' });
     expect(py.status).toBe(0);
     expect(cacheKey(base)).toBe(py.stdout.trim());
@@ -116,6 +116,20 @@ describe('cache entries', () => {
     );
     expect(py.stderr).toBe('');
     expect(py.stdout.trim()).toBe('0.0 -0.0 1.5 nan -3.25 1.0000000031710769e-30 65504.0 7.0');
+  });
+
+  it('a confidence map is a second plane after the disparity, read back bit for bit (numpy reads it at offset + 4 * n)', () => {
+    const conf = new Float32Array([0.5, -1, 2, 3, NaN, 0, 1e-3, -7]);
+    const buf = encodeEntry({ width: 4, height: 2, data, confidence: conf, timeMs: 1, peakMb: 2, matcherId: 'sgm' });
+    const back = decodeEntry(buf)!;
+    for (let i = 0; i < data.length; i++) expect(Object.is(back.data[i], data[i])).toBe(true);
+    for (let i = 0; i < conf.length; i++) expect(Object.is(back.confidence![i], conf[i])).toBe(true);
+    expect(decodeEntry(encodeEntry({ width: 4, height: 2, data, timeMs: 1, peakMb: 2, matcherId: 'sgm' }))!.confidence).toBeNull();
+    const offset = Math.ceil((8 + buf.readUInt32LE(4)) / 4) * 4 + 4 * data.length;
+    const file = join(root, 'entry-conf.pxd');
+    writeFileSync(file, buf);
+    const py = spawnSync('python3', ['-c', `import numpy as np,sys; a=np.fromfile(sys.argv[1],dtype='<f4',offset=${offset}); print(' '.join(repr(float(v)) for v in a))`, file], { encoding: 'utf8' });
+    expect(py.stdout.trim()).toBe('0.5 -1.0 2.0 3.0 nan 0.0 0.0010000000474974513 -7.0');
   });
 
   it('truncated, garbled or foreign bytes are not entries', () => {

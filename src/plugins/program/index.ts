@@ -28,6 +28,7 @@ import { withDefaults, type MatchInput, type MatchOutput, type MatcherPlugin, ty
 import { formatParamValue } from '../params.js';
 import {
   colorPngForProgram,
+  confidenceToPairFrame,
   grayPngForProgram,
   needsWrittenInputs,
   outputToPairFrame,
@@ -105,6 +106,21 @@ async function readOutput(def: ProgramMatcherDef, out: string, f: ProgramFrame):
   return outputToPairFrame(img.data, f, def.disparitySign, def.disparityScale, sentinel);
 }
 
+/** The confidence map a program wrote at `file` (optional: none when it wrote nothing), in the pair's frame. */
+async function readConfidence(def: ProgramMatcherDef, file: string, f: ProgramFrame): Promise<Float32Array | null> {
+  if (!existsSync(file)) return null;
+  let img;
+  try {
+    img = await readDisparityFile(file, { maxPixels: Math.max(f.progW * f.progH * 4, 1) });
+  } catch (e) {
+    throw new MatcherFailure(`${def.id}: unreadable confidence map: ${(e instanceof Error ? e.message : String(e)).replace(/\s+/g, ' ')}`);
+  }
+  if (img.width !== f.progW || img.height !== f.progH) {
+    throw new MatcherFailure(`${def.id}: confidence map is ${img.width}x${img.height}, expected ${f.progW}x${f.progH}`);
+  }
+  return confidenceToPairFrame(img.data, f);
+}
+
 /**
  * A MatcherPlugin that runs an outside program. `baseDir` is the experiment file's
  * folder: the default working directory and the base of a relative `cwd`.
@@ -135,15 +151,15 @@ export function programMatcher(
   };
 
   /** Run the program on prepared inputs (one request to the long-lived process, or one process); its self-reported time when it gave one. */
-  async function runProgram(r: { pairId: string; left: string; right: string; out: string; f: ProgramFrame; params: ParamValues; signal: AbortSignal }): Promise<number | undefined> {
+  async function runProgram(r: { pairId: string; left: string; right: string; out: string; conf: string; f: ProgramFrame; params: ParamValues; signal: AbortSignal }): Promise<number | undefined> {
     const minD = def.disparitySign === 1 ? r.f.minDisparity : -r.f.maxDisparity;
     const maxD = def.disparitySign === 1 ? r.f.maxDisparity : -r.f.minDisparity;
     if (server) {
       const argv = def.command.map((a) => expandArg(a, {}, r.params));
-      const req = { id: r.pairId, left: r.left, right: r.right, out: r.out, minDisparity: minD, maxDisparity: maxD, params: r.params };
+      const req = { id: r.pairId, left: r.left, right: r.right, out: r.out, conf: r.conf, minDisparity: minD, maxDisparity: maxD, params: r.params };
       return (await server.request(argv, req, def.timeoutMs, r.signal)).time_ms;
     }
-    const vars = { left: r.left, right: r.right, out: r.out, minDisparity: String(minD), maxDisparity: String(maxD), pairId: r.pairId };
+    const vars = { left: r.left, right: r.right, out: r.out, conf: r.conf, minDisparity: String(minD), maxDisparity: String(maxD), pairId: r.pairId };
     const argv = def.command.map((a) => expandArg(a, vars, r.params));
     await runPerPair({ argv, cwd, env, timeoutMs: def.timeoutMs, graceMs, signal: r.signal, label: def.id });
     return undefined;
@@ -168,9 +184,11 @@ export function programMatcher(
         const f = programFrame(input.width, input.height, input.minDisparity, input.maxDisparity, def.resize, def.pad);
         const paths = await prepareInputs(def, input, f, dir);
         const out = join(dir, `out.${outExt}`);
-        const selfTimeMs = await runProgram({ pairId, ...paths, out, f, params: full, signal });
+        const conf = join(dir, 'conf.pfm');
+        const selfTimeMs = await runProgram({ pairId, ...paths, out, conf, f, params: full, signal });
         const disparity = await readOutput(def, out, f);
-        return selfTimeMs === undefined ? { disparity } : { disparity, selfTimeMs };
+        const confidence = await readConfidence(def, conf, f);
+        return { disparity, ...(confidence ? { confidence } : {}), ...(selfTimeMs === undefined ? {} : { selfTimeMs }) };
       } catch (e) {
         if (isParallaxError(e)) throw e;
         throw new MatcherFailure(`${def.id}: ${e instanceof Error ? e.message : String(e)}`.replace(/\s+/g, ' '));
