@@ -27,6 +27,8 @@ export interface SyntheticConfig {
   /** Fail on every k-th pair (1-based index divisible by k). */
   failEvery?: number;
   error?: string;
+  /** Give a confidence map: minus the error's magnitude plus this much uniform noise. */
+  confidenceNoise?: number;
 }
 
 export interface SyntheticRunOptions {
@@ -117,14 +119,18 @@ export async function buildSyntheticRun(o: SyntheticRunOptions): Promise<{ runDi
     for (const c of o.configs) {
       const failed = c.failEvery !== undefined && (k + 1) % c.failEvery === 0;
       let pred: Float32Array | null = null;
+      let conf: Float32Array | null = null;
       if (!failed) {
         pred = new Float32Array(truth.length);
+        if (c.confidenceNoise !== undefined) conf = new Float32Array(truth.length);
         for (let i = 0; i < pred.length; i++) {
           const t = Number.isFinite(truth[i]) ? truth[i] : 10;
-          pred[i] = rng.next() < c.holes ? NaN : t + c.noise * gauss();
+          const e = c.noise * gauss();
+          pred[i] = rng.next() < c.holes ? NaN : t + e;
+          if (conf) conf[i] = -Math.abs(e) + (c.confidenceNoise ?? 0) * rng.next();
         }
       }
-      const scores = scorePair(pred, truth, regions, { thresholds, quantiles: [...DEFAULT_QUANTILES] });
+      const scores = scorePair(pred, truth, regions, { thresholds, quantiles: [...DEFAULT_QUANTILES] }, conf);
       const job: JobResult = {
         matcher: c.label,
         matcherId: c.label.split(':')[0],

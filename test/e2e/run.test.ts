@@ -147,3 +147,62 @@ describe('the quick start puts parallax on the PATH', () => {
     expect(r.stdout.trim()).toBe(version);
   }, 90_000);
 });
+
+describe('confidence maps from prediction folders and programs', () => {
+  it('<pair>.conf.pfm beside a prediction is scored: a confidence of -|error| gives conf_gap 0 (the oracle ranking)', () => {
+    const d = writeDataset(join(root, 'conf-data'), { ids: ['bay-a', 'bay-b'] });
+    const dir = join(root, 'conf-preds');
+    mkdirSync(dir, { recursive: true });
+    let seed = 7;
+    const noise = (): number => ((seed = (Math.imul(seed, 1664525) + 1013904223) >>> 0) / 2 ** 32 - 0.5) * 3; // LCG, Numerical Recipes constants
+    for (const p of d.pairs) {
+      const err = p.truth.map(() => noise());
+      writeFileSync(join(dir, `${p.id}.pfm`), encodePfm({ width: 64, height: 48, data: p.truth.map((t, i) => t + err[i]) }));
+      writeFileSync(join(dir, `${p.id}.conf.pfm`), encodePfm({ width: 64, height: 48, data: err.map((e) => -Math.abs(e)) }));
+    }
+    const out = join(root, 'conf-run');
+    const r = parallax(['run', '-d', d.dir, '--predictions', dir, '--label', 'net', '--out', out, '-q'], root);
+    expect(r.stderr).toBe(''); // the .conf.pfm files are not "files of no pair"
+    expect(r.code).toBe(0);
+    const rows = readCsv(readFileSync(join(out, 'pairs.csv'), 'utf8')).rows.filter((x) => x.region === 'known');
+    expect(rows).toHaveLength(2);
+    for (const row of rows) {
+      expect(Number(row.conf_gap)).toBe(0);
+      expect(Number(row.conf_auc)).toBeGreaterThan(0);
+      expect(Number(row.conf_auc)).toBeLessThan(Number(row.epe)); // the kept shares are the smaller errors
+    }
+  }, 60_000);
+
+  it('a per-pair program that writes {conf} has its confidence scored; without it the figures stay empty', () => {
+    const d = writeDataset(join(root, 'prog-data'), { ids: ['bay-a'] });
+    // The program answers with the truth shifted by 0.5 px where x is odd, and rates those pixels lower.
+    const prog = join(root, 'conf-prog.mjs');
+    writeFileSync(
+      prog,
+      [
+        "import { readFileSync, writeFileSync } from 'node:fs';",
+        'const [truthFile, out, , , conf] = process.argv.slice(2); // {left} and {right} are not read',
+        'const buf = readFileSync(truthFile);',
+        "let p = 0; const line = () => { const s = p; while (buf[p] !== 10) p++; return buf.toString('latin1', s, p++); };",
+        'line(); const [w, h] = line().split(/\\s+/).map(Number); const scale = Number(line());',
+        'const data = new Float32Array(buf.buffer.slice(buf.byteOffset + p, buf.byteOffset + p + 4 * w * h));',
+        'const write = (file, values) => writeFileSync(file, Buffer.concat([Buffer.from(`Pf\\n${w} ${h}\\n${scale}\\n`, "latin1"), Buffer.from(values.buffer)]));',
+        'write(out, data.map((v, i) => v + ((i % w) % 2 ? 0.5 : 0)));',
+        'if (conf) write(conf, data.map((_, i) => ((i % w) % 2 ? 0 : 1)));',
+      ].join('\n'),
+    );
+    const def = (id: string, withConf: boolean) => ({
+      program: { id, command: ['node', prog, `${d.dir}/{pairId}/truth.pfm`, '{out}', '{left}', '{right}', ...(withConf ? ['{conf}'] : [])], output: { format: 'pfm' } },
+    });
+    const exp = join(root, 'conf-prog.json');
+    writeFileSync(exp, JSON.stringify({ datasets: [d.dir], matchers: [def('with-conf', true), def('without-conf', false)], out: join(root, 'conf-prog-run') }));
+    const r = parallax(['run', exp, '--no-cache', '-q'], root);
+    expect(r.stderr).toBe('');
+    expect(r.code).toBe(0);
+    const rows = readCsv(readFileSync(join(root, 'conf-prog-run', 'pairs.csv'), 'utf8')).rows.filter((x) => x.region === 'known');
+    const by = new Map(rows.map((x) => [x.matcher, x]));
+    // With confidence: the exact half (even x) comes first, so the 50 % point of the curve is 0 and conf_gap is 0.
+    expect(Number(by.get('with-conf')!.conf_gap)).toBe(0);
+    expect(by.get('without-conf')!.conf_auc).toBe('');
+  }, 60_000);
+});

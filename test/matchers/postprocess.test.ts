@@ -49,6 +49,11 @@ describe('leftRightCheck', () => {
     const dL2 = arr([1, 2, 2, 2.4, 3, N, 2, 9]);
     leftRightCheck(dL2, dR, 8, 1, 0.5);
     expect(list(dL2)).toEqual(['NaN', 'NaN', 2, list(arr([2.4]))[0], 'NaN', 'NaN', 'NaN', 'NaN']);
+    // The confidence it gives (the built-ins' confidence map): -|dL - dR| where kept, NaN elsewhere.
+    const dL3 = arr([1, 2, 2, 2.4, 3, N, 2, 9]);
+    const conf = new Float32Array(8);
+    leftRightCheck(dL3, dR, 8, 1, 1, conf);
+    expect(list(conf)).toEqual(['NaN', 'NaN', -0, list(arr([-Math.abs(Math.fround(2.4) - 2)]))[0], -1, 'NaN', -1, 'NaN']);
   });
   it('marks a pixel whose right partner has no answer, row by row', () => {
     // 3x2: second row's right map is NaN at xr = 1.

@@ -86,6 +86,10 @@ rl.on('line', (line) => {
   if (id.startsWith('ok')) {
     pfm(req.out, ${W}, ${H}, req.minDisparity + req.params.level);
     reply({ id: req.id, ok: true, time_ms: 1.5 });
+  } else if (id.startsWith('conf')) {
+    pfm(req.out, ${W}, ${H}, req.minDisparity);
+    pfm(req.conf, ${W}, ${H}, 0.75);
+    reply({ id: req.id, ok: true });
   } else if (id.startsWith('crash')) {
     process.stderr.write('fatal: out of memory (simulated)\\n');
     process.exit(3);

@@ -32,6 +32,10 @@ describe('long-lived programs', () => {
       const a = await run(p, input('ok-1'), { level: 3 });
       expect(a.selfTimeMs).toBe(1.5);
       expect(Array.from(new Set(a.disparity))).toEqual([5]);
+      expect(a.confidence).toBeUndefined(); // no confidence file written: none reported
+      // The request names a path for a confidence map (README, long-lived protocol); one written there comes back.
+      const withConf = await run(p, input('conf-1'), { level: 3 });
+      expect(Array.from(new Set(withConf.confidence!))).toEqual([0.75]);
       const first = p.serverPid();
       expect(first).toBe(starts()[0]);
 

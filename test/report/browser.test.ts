@@ -20,7 +20,7 @@ const CHROMIUM = '/usr/bin/chromium';
 const CONFIGS = [
   { label: 'block:window=9', noise: 0.9, holes: 0.08, timeMs: 40 },
   { label: 'census:window=7', noise: 0.6, holes: 0.05, timeMs: 90 },
-  { label: 'sgm:p2=96', noise: 0.35, holes: 0.02, timeMs: 400 },
+  { label: 'sgm:p2=96', noise: 0.35, holes: 0.02, timeMs: 400, confidenceNoise: 0.3 },
   { label: '<img src=x onerror=alert(1)>', noise: 1.4, holes: 0.2, timeMs: 15, failEvery: 2, error: '</script><script>alert(5)</script>' },
 ];
 
@@ -113,6 +113,9 @@ describe('HTML report in chromium', () => {
     expect(await page.locator('#scatter circle').count()).toBeGreaterThanOrEqual(3);
     expect(await page.locator('#scatter circle[data-front="1"]').count()).toBeGreaterThanOrEqual(1);
     expect(await page.locator('#curves polyline').count()).toBe(CONFIGS.length);
+    // Sparsification: the one configuration with a confidence map draws its curve and its dashed oracle.
+    expect(await page.locator('#sparsify polyline[data-label="sgm:p2=96"]').count()).toBe(2);
+    expect(await page.locator('#sparsify polyline[stroke-dasharray="5 3"]').count()).toBe(1);
 
     // Open the second pair (the hostile config failed there) and check every image decodes.
     await page.locator('details.pair').nth(1).locator('summary').click();

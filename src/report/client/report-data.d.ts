@@ -69,6 +69,17 @@ interface PlxReportHead {
   configColors: string[];
   /** The ranking's default order: a bad-pixel rate (missing answers count as errors), lowest first. */
   rankBy: string;
+  /** Shares (0-1) of the sparsification curves, from all predictions down. */
+  shares: number[];
+  /** sparsify[dataset][region] = per configuration with confidence: mean over pairs of its curves (epe, px). */
+  sparsify: Record<string, Record<string, PlxSparsifyView[]>>;
+}
+
+interface PlxSparsifyView {
+  label: string;
+  pairs: number;
+  conf: number[];
+  oracle: number[];
 }
 
 interface PlxReportData extends PlxReportHead {

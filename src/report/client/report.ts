@@ -243,6 +243,45 @@
     });
   }
 
+  function renderSparsify(): void {
+    const host = document.getElementById('sparsify')!;
+    clear(host);
+    const views = (data.sparsify[state.dataset] || {})[state.region] || [];
+    if (!views.length) {
+      host.appendChild(el('p', { class: 'ci' }, 'No configuration in this dataset gave a confidence map for ' + state.region + '.'));
+      return;
+    }
+    const W = 520;
+    const H = 320;
+    const pad = { l: 50, r: 150, t: 14, b: 40 };
+    const svg = sv('svg', { width: W, height: H, viewBox: '0 0 ' + W + ' ' + H, role: 'img', 'aria-label': 'epe against the share of predictions kept' });
+    axes(svg, W, H, pad, 'share kept, most confident first (%)', 'epe of the kept (px)');
+    host.appendChild(svg);
+    const ymax = Math.max(1e-9, ...views.flatMap((v) => v.conf));
+    const X = (share: number): number => pad.l + share * (W - pad.l - pad.r);
+    const Y = (v: number): number => H - pad.b - (v / ymax) * (H - pad.t - pad.b);
+    ticks(0, ymax, 5).forEach((v) => {
+      svg.appendChild(sv('line', { x1: pad.l - 4, y1: Y(v), x2: W - pad.r, y2: Y(v), stroke: '#e3e6ea' }));
+      svg.appendChild(sv('text', { x: pad.l - 6, y: Y(v) + 4, 'text-anchor': 'end' }, fmt(v)));
+    });
+    [0.05, 0.25, 0.5, 0.75, 1].forEach((s) => svg.appendChild(sv('text', { x: X(s), y: H - pad.b + 14, 'text-anchor': 'middle' }, String(Math.round(s * 100)))));
+    views.forEach((v) => {
+      const col = COLORS[Math.max(0, data.configs.indexOf(v.label)) % COLORS.length];
+      const line = (ys: number[], dash: string): void => {
+        const points = ys.map((y, k) => X(data.shares[k]) + ',' + Y(y)).join(' ');
+        svg.appendChild(sv('polyline', { points, fill: 'none', stroke: col, 'stroke-width': 2, 'stroke-dasharray': dash, 'data-label': v.label }));
+      };
+      line(v.conf, '');
+      line(v.oracle, '5 3');
+    });
+    views.forEach((v, i) => {
+      const col = COLORS[Math.max(0, data.configs.indexOf(v.label)) % COLORS.length];
+      const ly = pad.t + 12 + i * 16;
+      svg.appendChild(sv('rect', { x: W - pad.r + 10, y: ly - 9, width: 10, height: 10, fill: col }));
+      svg.appendChild(sv('text', { x: W - pad.r + 24, y: ly }, (v.label.length > 20 ? v.label.slice(0, 19) + '\u2026' : v.label) + ' (' + v.pairs + ')'));
+    });
+  }
+
   // ---------------------------------------------------------------- controls
   function bindSelect(id: string, key: 'dataset' | 'region' | 'tag' | 'stat'): void {
     const s = document.getElementById(id) as HTMLSelectElement | null;
@@ -254,6 +293,7 @@
       renderTable();
       renderScatter();
       renderCurves();
+      renderSparsify();
     });
   }
   bindSelect('sel-dataset', 'dataset');
@@ -263,6 +303,7 @@
   renderTable();
   renderScatter();
   renderCurves();
+  renderSparsify();
 
   // ---------------------------------------------------------------- pairs
   // Every pair view carries its own legends: the disparity scale of this pair (shared by

@@ -10,6 +10,7 @@ import type { Manifest } from '../../dataset/manifest.js';
 import type { SummaryRow } from '../../stats/aggregate.js';
 import { DEFAULT_LEVEL } from '../../stats/bootstrap.js';
 import { heading, keyThreshold, metricsOf, thresholdName, type MetricSet } from '../../metrics/catalogue.js';
+import { SPARSIFY_SHARES } from '../../metrics/sparsify.js';
 import { CATEGORICAL, colorHex, ERROR_MAP, type DisparityMapName } from '../colormaps.js';
 import { encodePalettePng, type IndexedImage } from '../png-palette.js';
 import { ERROR_CLIP_PX, NO_TRUTH, REGION_COLORS, colorizeDisparity, colorizeError, colorizeRegions, finiteRange, toThumbGrid } from '../thumbs.js';
@@ -108,8 +109,42 @@ function summaryView(rows: SummaryRow[], set: MetricSet): PlxReportHead['summary
   return out;
 }
 
+/**
+ * Mean sparsification curves over pairs, per dataset, region and configuration (untagged;
+ * only jobs with a confidence map have curves), in the order of `configs`.
+ */
+export function sparsifyView(jobs: readonly JobResult[], configs: readonly string[]): PlxReportHead['sparsify'] {
+  const out: PlxReportHead['sparsify'] = {};
+  for (const region of REGION_IDS) {
+    for (const label of configs) {
+      const byDataset = new Map<string, { conf: number[]; oracle: number[]; n: number }>();
+      for (const j of jobs) {
+        if (j.matcher !== label) continue;
+        const f = j.scores[region].figures;
+        if (!f.conf_curve || !f.oracle_curve) continue;
+        const acc = byDataset.get(j.dataset) ?? { conf: f.conf_curve.map(() => 0), oracle: f.oracle_curve.map(() => 0), n: 0 };
+        f.conf_curve.forEach((v, k) => (acc.conf[k] += v));
+        f.oracle_curve.forEach((v, k) => (acc.oracle[k] += v));
+        acc.n++;
+        byDataset.set(j.dataset, acc);
+      }
+      for (const [dataset, acc] of byDataset) {
+        ((out[dataset] ??= {})[region] ??= []).push({ label, pairs: acc.n, conf: acc.conf.map((v) => v / acc.n), oracle: acc.oracle.map((v) => v / acc.n) });
+      }
+    }
+  }
+  return out;
+}
+
 /** The page's data object, without its `pairs` (written one view at a time). */
-export function reportData(rows: SummaryRow[], set: MetricSet, datasets: string[], configs: string[], disparityMap: DisparityMapName): PlxReportHead {
+export function reportData(
+  rows: SummaryRow[],
+  set: MetricSet,
+  datasets: string[],
+  configs: string[],
+  disparityMap: DisparityMapName,
+  sparsify: PlxReportHead['sparsify'] = {},
+): PlxReportHead {
   const metrics = metricsOf(set);
   const byId = <T>(f: (m: (typeof metrics)[number]) => T): Record<string, T> => Object.fromEntries(metrics.map((m) => [m.id, f(m)]));
   return {
@@ -133,6 +168,8 @@ export function reportData(rows: SummaryRow[], set: MetricSet, datasets: string[
     noTruth: `rgb(${NO_TRUTH.join(',')})`,
     configColors: [...CATEGORICAL],
     rankBy: thresholdName(keyThreshold(set.thresholds)),
+    shares: [...SPARSIFY_SHARES],
+    sparsify,
     regionKeys: (['visible', 'occluded', 'flat', 'jump', 'unknown'] as const).map((k): [string, string] => [k === 'unknown' ? 'no truth' : k, `rgb(${REGION_COLORS[k].join(',')})`]),
   };
 }
