@@ -55,6 +55,14 @@ export interface RegionFigures {
   conf_clean_share?: number | null;
   conf_curve?: number[];
   oracle_curve?: number[];
+  /**
+   * Sub-pixel honesty (src/metrics/subpixel.ts), present when the region has a valid
+   * prediction: first-harmonic amplitude of the predicted fractions, their histogram, and
+   * the mean |error| per bin of the truth's fractional part.
+   */
+  subpix_lock?: number | null;
+  frac_hist?: number[];
+  err_by_truth_frac?: (number | null)[];
 }
 
 export interface RegionScore {

@@ -26,7 +26,7 @@ export const SCALAR_SUMS = ['pixels', 'valid', 'sumAbs', 'sumSq', 'sumErr', 'dep
 export type Better = 'lower' | 'higher' | 'abs-lower';
 
 /** Scalar fields of RegionFigures that a metric reads. */
-type ScalarFigure = 'coverage' | 'epe' | 'rmse' | 'bias' | 'depth_relerr' | 'depth_rmse_m' | 'conf_auc' | 'conf_oracle_auc' | 'conf_gap' | 'conf_clean_share';
+type ScalarFigure = 'coverage' | 'epe' | 'rmse' | 'bias' | 'depth_relerr' | 'depth_rmse_m' | 'conf_auc' | 'conf_oracle_auc' | 'conf_gap' | 'conf_clean_share' | 'subpix_lock';
 
 interface EntryBase {
   /** Id in files, CSV and the CLI; a family's id has `{}` where the level goes. */
@@ -154,6 +154,15 @@ export const METRIC_CATALOGUE = [
     label: 'Clean share',
     description: 'largest share of the valid predictions, kept most confident first, whose rate over 1 px is at most 1 %',
     read: { region: 'conf_clean_share' },
+    pool: null,
+  },
+  {
+    id: 'subpix_lock',
+    unit: 'fraction',
+    better: 'lower',
+    label: 'Pixel-locking',
+    description: 'amplitude of the first harmonic of the fractional parts of the valid predictions, |mean exp(2 pi i d)|: 0 = spread evenly, 1 = all alike (whole pixels)',
+    read: { region: 'subpix_lock' },
     pool: null,
   },
   {

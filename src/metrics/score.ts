@@ -51,6 +51,7 @@ import type { MetricSet } from './catalogue.js';
 import type { ScoreOptions } from './types.js';
 import { groupStats } from './segment-stats.js';
 import { regionSparsify } from './sparsify.js';
+import { subpixelByRegion } from './subpixel.js';
 
 /** Default opts.depthEps (px): truth with d + cxShift <= this is left out of depth. */
 export const DEFAULT_DEPTH_EPS = 1e-6;
@@ -107,6 +108,7 @@ export function scorePair(pred: Float32Array | null, truth: Float32Array, region
   const segs = regionSegments(start, pos);
   const stats = groupStats(vals, segs.start, segs.end, segs.member, segs.n, REGION_IDS.length, thresholds, levels);
 
+  const subpix = pred !== null ? subpixelByRegion(pred, truth, bits) : {};
   const out = {} as PairScore;
   REGION_IDS.forEach((id, g) => {
     const bit = REGION_BIT[id];
@@ -138,6 +140,8 @@ export function scorePair(pred: Float32Array | null, truth: Float32Array, region
       depthFail,
     };
     out[id] = { sums: s, figures: figuresFromSums(s, opts, st.quantiles) };
+    const sp = subpix[id];
+    if (sp) Object.assign(out[id].figures, sp);
     if (pred !== null && confidence !== null) {
       const sp = regionSparsify(pred, truth, confidence, bits, bit);
       if (sp) Object.assign(out[id].figures, sp);

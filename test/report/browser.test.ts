@@ -116,6 +116,9 @@ describe('HTML report in chromium', () => {
     // Sparsification: the one configuration with a confidence map draws its curve and its dashed oracle.
     expect(await page.locator('#sparsify polyline[data-label="sgm:p2=96"]').count()).toBe(2);
     expect(await page.locator('#sparsify polyline[stroke-dasharray="5 3"]').count()).toBe(1);
+    // Sub-pixel honesty: two charts, a line per configuration with answers (the always-failing one included: it answers on half the pairs).
+    expect(await page.locator('#subpixel svg').count()).toBe(2);
+    expect(await page.locator('#subpixel svg').first().locator('polyline').count()).toBe(CONFIGS.length);
 
     // Open the second pair (the hostile config failed there) and check every image decodes.
     await page.locator('details.pair').nth(1).locator('summary').click();

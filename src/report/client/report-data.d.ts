@@ -73,6 +73,18 @@ interface PlxReportHead {
   shares: number[];
   /** sparsify[dataset][region] = per configuration with confidence: mean over pairs of its curves (epe, px). */
   sparsify: Record<string, Record<string, PlxSparsifyView[]>>;
+  /** subpixel[dataset][region] = per configuration: its sub-pixel figures over the pairs. */
+  subpixel: Record<string, Record<string, PlxSubpixelView[]>>;
+}
+
+/** Mean over pairs of a configuration's sub-pixel figures (src/metrics/subpixel.ts). */
+interface PlxSubpixelView {
+  label: string;
+  lock: number;
+  /** Predictions per fractional-part bin, summed over pairs. */
+  hist: number[];
+  /** Mean |error| per bin of the truth's fractional part (mean over pairs with that bin). */
+  err: (number | null)[];
 }
 
 interface PlxSparsifyView {

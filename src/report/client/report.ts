@@ -212,36 +212,30 @@
     const host = document.getElementById('curves')!;
     clear(host);
     const th = data.thresholds;
-    const W = 520;
-    const H = 320;
-    const pad = { l: 50, r: 150, t: 14, b: 40 };
-    const svg = sv('svg', { width: W, height: H, viewBox: '0 0 ' + W + ' ' + H, role: 'img', 'aria-label': 'bad-pixel rate against threshold' });
-    axes(svg, W, H, pad, 'threshold (px)', state.stat + ' rate (%)');
-    host.appendChild(svg);
-    const tmax = Math.max(...th);
-    const X = (t: number): number => pad.l + (t / tmax) * (W - pad.l - pad.r);
-    const Y = (v: number): number => H - pad.b - (v / 100) * (H - pad.t - pad.b);
-    [0, 20, 40, 60, 80, 100].forEach((v) => {
-      svg.appendChild(sv('line', { x1: pad.l - 4, y1: Y(v), x2: W - pad.r, y2: Y(v), stroke: '#e3e6ea' }));
-      svg.appendChild(sv('text', { x: pad.l - 6, y: Y(v) + 4, 'text-anchor': 'end' }, String(v)));
-    });
-    th.forEach((t) => svg.appendChild(sv('text', { x: X(t), y: H - pad.b + 14, 'text-anchor': 'middle' }, String(t))));
-    rowsNow().forEach((r, i) => {
-      const col = COLORS[i % COLORS.length];
-      const pts: [number, number][] = [];
-      th.forEach((t, k) => {
-        const v = cell(r, data.rateNames[k]).v;
-        if (v !== null) pts.push([X(t), Y(v)]);
-      });
-      if (!pts.length) return;
-      const points = pts.map((p) => p[0] + ',' + p[1]).join(' ');
-      svg.appendChild(sv('polyline', { points, fill: 'none', stroke: col, 'stroke-width': 2, 'stroke-dasharray': i >= COLORS.length ? '4 2' : '' }));
-      pts.forEach((p) => svg.appendChild(sv('rect', { x: p[0] - 3, y: p[1] - 3, width: 6, height: 6, fill: col })));
-      const ly = pad.t + 12 + i * 16;
-      svg.appendChild(sv('rect', { x: W - pad.r + 10, y: ly - 9, width: 10, height: 10, fill: col }));
-      svg.appendChild(sv('text', { x: W - pad.r + 24, y: ly }, r.label.length > 20 ? r.label.slice(0, 19) + '\u2026' : r.label));
-    });
+    host.appendChild(
+      lineChart({
+        aria: 'bad-pixel rate against threshold',
+        xlab: 'threshold (px)',
+        ylab: state.stat + ' rate (%)',
+        x: [0, Math.max(...th)],
+        y: [0, 100],
+        xTicks: th,
+        xTickText: String,
+        series: rowsNow().map((r, i) => ({
+          label: r.label,
+          color: COLORS[i % COLORS.length],
+          points: th.flatMap((t, k): [number, number][] => {
+            const v = cell(r, data.rateNames[k]).v;
+            return v === null ? [] : [[t, v]];
+          }),
+          dash: i >= COLORS.length ? '4 2' : '',
+          legend: r.label,
+        })),
+      }),
+    );
   }
+
+  const colorOf = (label: string): string => COLORS[Math.max(0, data.configs.indexOf(label)) % COLORS.length];
 
   function renderSparsify(): void {
     const host = document.getElementById('sparsify')!;
@@ -251,35 +245,57 @@
       host.appendChild(el('p', { class: 'ci' }, 'No configuration in this dataset gave a confidence map for ' + state.region + '.'));
       return;
     }
-    const W = 520;
-    const H = 320;
-    const pad = { l: 50, r: 150, t: 14, b: 40 };
-    const svg = sv('svg', { width: W, height: H, viewBox: '0 0 ' + W + ' ' + H, role: 'img', 'aria-label': 'epe against the share of predictions kept' });
-    axes(svg, W, H, pad, 'share kept, most confident first (%)', 'epe of the kept (px)');
-    host.appendChild(svg);
-    const ymax = Math.max(1e-9, ...views.flatMap((v) => v.conf));
-    const X = (share: number): number => pad.l + share * (W - pad.l - pad.r);
-    const Y = (v: number): number => H - pad.b - (v / ymax) * (H - pad.t - pad.b);
-    ticks(0, ymax, 5).forEach((v) => {
-      svg.appendChild(sv('line', { x1: pad.l - 4, y1: Y(v), x2: W - pad.r, y2: Y(v), stroke: '#e3e6ea' }));
-      svg.appendChild(sv('text', { x: pad.l - 6, y: Y(v) + 4, 'text-anchor': 'end' }, fmt(v)));
-    });
-    [0.05, 0.25, 0.5, 0.75, 1].forEach((s) => svg.appendChild(sv('text', { x: X(s), y: H - pad.b + 14, 'text-anchor': 'middle' }, String(Math.round(s * 100)))));
-    views.forEach((v) => {
-      const col = COLORS[Math.max(0, data.configs.indexOf(v.label)) % COLORS.length];
-      const line = (ys: number[], dash: string): void => {
-        const points = ys.map((y, k) => X(data.shares[k]) + ',' + Y(y)).join(' ');
-        svg.appendChild(sv('polyline', { points, fill: 'none', stroke: col, 'stroke-width': 2, 'stroke-dasharray': dash, 'data-label': v.label }));
-      };
-      line(v.conf, '');
-      line(v.oracle, '5 3');
-    });
-    views.forEach((v, i) => {
-      const col = COLORS[Math.max(0, data.configs.indexOf(v.label)) % COLORS.length];
-      const ly = pad.t + 12 + i * 16;
-      svg.appendChild(sv('rect', { x: W - pad.r + 10, y: ly - 9, width: 10, height: 10, fill: col }));
-      svg.appendChild(sv('text', { x: W - pad.r + 24, y: ly }, (v.label.length > 20 ? v.label.slice(0, 19) + '\u2026' : v.label) + ' (' + v.pairs + ')'));
-    });
+    const curve = (ys: number[]): [number, number][] => ys.map((y, k): [number, number] => [data.shares[k], y]);
+    host.appendChild(
+      lineChart({
+        aria: 'epe against the share of predictions kept',
+        xlab: 'share kept, most confident first (%)',
+        ylab: 'epe of the kept (px)',
+        x: [0, 1],
+        y: [0, Math.max(...views.flatMap((v) => v.conf))],
+        xTicks: [0.05, 0.25, 0.5, 0.75, 1],
+        xTickText: (v) => String(Math.round(v * 100)),
+        series: views.flatMap((v) => [
+          { label: v.label, color: colorOf(v.label), points: curve(v.conf), dash: '', legend: v.label + ' (' + v.pairs + ')' },
+          { label: v.label, color: colorOf(v.label), points: curve(v.oracle), dash: '5 3' },
+        ]),
+      }),
+    );
+  }
+
+  /** Sub-pixel honesty: the share of predictions per fractional-part bin, and the mean error per bin of the truth's fraction. */
+  function renderSubpixel(): void {
+    const host = document.getElementById('subpixel')!;
+    clear(host);
+    const views = (data.subpixel[state.dataset] || {})[state.region] || [];
+    if (!views.length) return;
+    const centres = views[0].hist.map((_, k) => (k + 0.5) / views[0].hist.length);
+    const common = { x: [0, 1] as [number, number], xTicks: [0, 0.25, 0.5, 0.75, 1], xTickText: (v: number) => String(v) };
+    const share = (h: number[]): [number, number][] => {
+      const n = h.reduce((s, x) => s + x, 0) || 1;
+      return h.map((c, k): [number, number] => [centres[k], (100 * c) / n]);
+    };
+    const errs = (e: (number | null)[]): [number, number][] => e.flatMap((v, k): [number, number][] => (v === null ? [] : [[centres[k], v]]));
+    host.appendChild(
+      lineChart({
+        ...common,
+        aria: 'share of predictions per fractional part',
+        xlab: 'fractional part of the predicted disparity',
+        ylab: 'share of predictions (%)',
+        y: [0, Math.max(...views.flatMap((v) => share(v.hist).map((p) => p[1])))],
+        series: views.map((v) => ({ label: v.label, color: colorOf(v.label), points: share(v.hist), dash: '', legend: v.label + ' lock ' + fmt(v.lock) })),
+      }),
+    );
+    host.appendChild(
+      lineChart({
+        ...common,
+        aria: 'mean error per fractional part of the truth',
+        xlab: "fractional part of the truth's disparity",
+        ylab: 'mean |error| (px)',
+        y: [0, Math.max(...views.flatMap((v) => errs(v.err).map((p) => p[1])))],
+        series: views.map((v) => ({ label: v.label, color: colorOf(v.label), points: errs(v.err), dash: '', legend: v.label })),
+      }),
+    );
   }
 
   // ---------------------------------------------------------------- controls
@@ -294,6 +310,7 @@
       renderScatter();
       renderCurves();
       renderSparsify();
+      renderSubpixel();
     });
   }
   bindSelect('sel-dataset', 'dataset');
@@ -304,94 +321,14 @@
   renderScatter();
   renderCurves();
   renderSparsify();
+  renderSubpixel();
 
-  // ---------------------------------------------------------------- pairs
-  // Every pair view carries its own legends: the disparity scale of this pair (shared by
-  // the truth and every configuration), the error scale, hatching, no truth, regions.
-  function pairLegend(p: PlxPairView): HTMLElement {
-    const leg = el('div', { class: 'pairlegend' });
-    if (p.scale) {
-      const a = el('div');
-      a.appendChild(el('div', { class: 'ci' }, 'disparity (' + data.dispMap + '), one scale for the truth and every configuration'));
-      a.appendChild(legendBar(data.dispColors, p.scale[0], p.scale[1], 'px'));
-      leg.appendChild(a);
-    }
-    const b = el('div');
-    b.appendChild(el('div', { class: 'ci' }, '|error| (' + data.errMap + '), linear, clipped at ' + legendFmt(data.errorClip) + ' px'));
-    b.appendChild(legendBar(data.errColors, 0, data.errorClip, 'px', 220, true));
-    leg.appendChild(b);
-    const keys = el('div', { class: 'keys' });
-    keys.appendChild(swatchKey(null, 'hatch', 'no prediction'));
-    keys.appendChild(swatchKey(data.noTruth, null, 'no truth'));
-    leg.appendChild(keys);
-    const rk = el('div', { class: 'keys' });
-    rk.appendChild(el('span', null, 'regions:'));
-    data.regionKeys.forEach((r) => rk.appendChild(swatchKey(r[1], null, r[0])));
-    leg.appendChild(rk);
-    return leg;
-  }
-  function failedTile(p: PlxPairView, j: PlxPairJobView): HTMLElement {
-    // A failed job has no output to show; say so where its pictures would be.
-    const f = el('figure', { class: 'nothumb' });
-    const box = el('div', { class: 'failedbox' }, 'failed: no output');
-    if (p.size) box.setAttribute('style', 'aspect-ratio:' + p.size[0] + '/' + p.size[1]);
-    f.appendChild(box);
-    f.appendChild(el('figcaption', null, j.label + ' \u2014 failed (scored as all-invalid)'));
-    return f;
-  }
-  function figuresTable(p: PlxPairView): HTMLElement {
-    const t = el('table', { class: 'figs' });
-    const hr = el('tr');
-    ['configuration', 'status', 'time ms', 'known coverage %', 'known epe px', 'visible epe px']
-      .concat(data.rateNames.map((n) => 'visible ' + n + ' %'))
-      .forEach((h) => hr.appendChild(el('th', { scope: 'col' }, h)));
-    const head = el('thead');
-    head.appendChild(hr);
-    t.appendChild(head);
-    const tb = el('tbody');
-    p.jobs.forEach((j) => {
-      const tr = el('tr');
-      tr.appendChild(el('td', null, j.label));
-      tr.appendChild(el('td', j.status === 'failed' ? { class: 'failed', title: j.error || '' } : null, j.status));
-      tr.appendChild(el('td', null, fmt(j.time_ms)));
-      tr.appendChild(el('td', null, fmt(j.fig.known.coverage)));
-      tr.appendChild(el('td', null, fmt(j.fig.known.epe)));
-      tr.appendChild(el('td', null, fmt(j.fig.visible.epe)));
-      j.fig.visible.rates.forEach((v) => tr.appendChild(el('td', null, fmt(v))));
-      tb.appendChild(tr);
-      if (j.status === 'failed' && j.error) {
-        const er = el('tr');
-        er.appendChild(el('td', { colspan: String(6 + data.rateNames.length), class: 'failed' }, j.label + ': ' + j.error));
-        tb.appendChild(er);
-      }
-    });
-    t.appendChild(tb);
-    return t;
-  }
-  function buildPair(p: PlxPairView, host: Element): void {
-    const tiles = el('div', { class: 'tiles' });
-    if (p.note) host.appendChild(el('p', { class: 'failed' }, p.note));
-    if (p.left) tiles.appendChild(tile(p.left, 'left image', 'left image of ' + p.pair));
-    if (p.truth) tiles.appendChild(tile(p.truth, 'truth disparity', 'truth disparity of ' + p.pair));
-    if (p.regions) tiles.appendChild(tile(p.regions, 'regions', 'region map of ' + p.pair));
-    p.jobs.forEach((j) => {
-      if (j.disp) tiles.appendChild(tile(j.disp, j.label + ' \u2014 disparity', 'disparity of ' + j.label));
-      if (j.err) tiles.appendChild(tile(j.err, j.label + ' \u2014 |error|', 'absolute error of ' + j.label));
-      if (j.status === 'failed') tiles.appendChild(failedTile(p, j));
-    });
-    host.appendChild(pairLegend(p));
-    const side = el('div', { class: 'side' });
-    side.appendChild(figuresTable(p));
-    const view = el('div', { class: 'pairview' });
-    view.appendChild(tiles);
-    view.appendChild(side);
-    host.appendChild(view);
-  }
+  // ---------------------------------------------------------------- pairs (pair-views.ts)
   document.querySelectorAll('details.pair').forEach((d) => {
     d.addEventListener('toggle', () => {
       if (!(d as HTMLDetailsElement).open || d.getAttribute('data-built')) return;
       d.setAttribute('data-built', '1');
-      buildPair(data.pairs[Number(d.getAttribute('data-index'))], d.querySelector('.pairbody')!);
+      buildPair(data, data.pairs[Number(d.getAttribute('data-index'))], d.querySelector('.pairbody')!);
     });
   });
 })();

@@ -1,5 +1,5 @@
 /**
- * The report's client script as the page embeds it: src/report/client/report.ts,
+ * The report's client script as the page embeds it: src/report/client/*.ts (report.ts and its helpers),
  * type-checked and compiled by the build (`npm run build`) into build/report-client.js
  * under the package root. Read once per process; its hash goes into the page's
  * Content-Security-Policy.

@@ -136,6 +136,34 @@ export function sparsifyView(jobs: readonly JobResult[], configs: readonly strin
   return out;
 }
 
+/** Sub-pixel figures per dataset, region and configuration: histogram summed, lock and errors averaged over pairs. */
+export function subpixelView(jobs: readonly JobResult[], configs: readonly string[]): PlxReportHead['subpixel'] {
+  const out: PlxReportHead['subpixel'] = {};
+  for (const region of REGION_IDS) {
+    for (const label of configs) {
+      const byDataset = new Map<string, { lock: number; n: number; hist: number[]; errSum: number[]; errN: number[] }>();
+      for (const j of jobs) {
+        const f = j.scores[region].figures;
+        if (j.matcher !== label || !f.frac_hist || !f.err_by_truth_frac || typeof f.subpix_lock !== 'number') continue;
+        const acc = byDataset.get(j.dataset) ?? { lock: 0, n: 0, hist: f.frac_hist.map(() => 0), errSum: f.frac_hist.map(() => 0), errN: f.frac_hist.map(() => 0) };
+        acc.lock += f.subpix_lock;
+        acc.n++;
+        f.frac_hist.forEach((c, k) => (acc.hist[k] += c));
+        f.err_by_truth_frac.forEach((e, k) => {
+          if (e === null) return;
+          acc.errSum[k] += e;
+          acc.errN[k]++;
+        });
+        byDataset.set(j.dataset, acc);
+      }
+      for (const [dataset, a] of byDataset) {
+        ((out[dataset] ??= {})[region] ??= []).push({ label, lock: a.lock / a.n, hist: a.hist, err: a.errSum.map((e, k) => (a.errN[k] > 0 ? e / a.errN[k] : null)) });
+      }
+    }
+  }
+  return out;
+}
+
 /** The page's data object, without its `pairs` (written one view at a time). */
 export function reportData(
   rows: SummaryRow[],
@@ -143,7 +171,7 @@ export function reportData(
   datasets: string[],
   configs: string[],
   disparityMap: DisparityMapName,
-  sparsify: PlxReportHead['sparsify'] = {},
+  curves: Pick<PlxReportHead, 'sparsify' | 'subpixel'> = { sparsify: {}, subpixel: {} },
 ): PlxReportHead {
   const metrics = metricsOf(set);
   const byId = <T>(f: (m: (typeof metrics)[number]) => T): Record<string, T> => Object.fromEntries(metrics.map((m) => [m.id, f(m)]));
@@ -169,7 +197,8 @@ export function reportData(
     configColors: [...CATEGORICAL],
     rankBy: thresholdName(keyThreshold(set.thresholds)),
     shares: [...SPARSIFY_SHARES],
-    sparsify,
+    sparsify: curves.sparsify,
+    subpixel: curves.subpixel,
     regionKeys: (['visible', 'occluded', 'flat', 'jump', 'unknown'] as const).map((k): [string, string] => [k === 'unknown' ? 'no truth' : k, `rgb(${REGION_COLORS[k].join(',')})`]),
   };
 }
