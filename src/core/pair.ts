@@ -13,6 +13,8 @@ export interface PairEntry {
   readonly occlusion?: string;
   readonly camera?: Camera;
   readonly group?: string;
+  /** Index within the group's sequence. */
+  readonly frame?: number;
   readonly tags?: readonly string[];
 }
 
@@ -33,6 +35,7 @@ export interface LoadedPair {
   readonly camera?: Camera;
   readonly disparityRange: DisparityRange;
   readonly group?: string;
+  readonly frame?: number;
   readonly tags?: readonly string[];
   /** Source files, for program plugins and provenance. */
   readonly files: PairEntry;

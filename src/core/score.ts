@@ -63,6 +63,8 @@ export interface RegionFigures {
   subpix_lock?: number | null;
   frac_hist?: number[];
   err_by_truth_frac?: (number | null)[];
+  /** Flicker against the previous frame of the pair's sequence (src/metrics/flicker.ts), px; absent without one. */
+  flicker?: number | null;
 }
 
 export interface RegionScore {
@@ -106,6 +108,8 @@ export interface JobResult {
   quantiles: number[];
   /** The manifest's optional group of the pair (e.g. one recorded sequence); intervals resample groups. */
   group?: string;
+  /** The pair's frame index within its group (sequences). */
+  frame?: number;
   /** The manifest's optional tags of the pair; summaries can be split by tag. */
   tags?: string[];
 }

@@ -68,6 +68,7 @@ export async function loadPair(m: Manifest, entry: PairEntry, opts: LoadPairOpti
     ...(camera ? { camera } : {}),
     disparityRange: m.disparityRange,
     ...(entry.group !== undefined ? { group: entry.group } : {}),
+    ...(entry.frame !== undefined ? { frame: entry.frame } : {}),
     ...(entry.tags ? { tags: entry.tags } : {}),
     files: entry,
   };

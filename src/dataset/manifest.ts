@@ -39,6 +39,8 @@ const pairSchema = z.strictObject({
   occlusion: relPath.optional(),
   camera: cameraSchema.optional(),
   group: z.string().min(1).optional(),
+  /** Index of the pair within its group's sequence (consecutive frames give flicker). */
+  frame: z.number().int().min(0).optional(),
   tags: z.array(z.string().min(1)).optional(),
 });
 
@@ -153,11 +155,19 @@ export function validateManifest(text: string, file: string): ManifestValidation
     /* keep lexical */
   }
   const seen = new Map<string, number>();
+  const frames = new Map<string, number>();
   const pairs: PairEntry[] = [];
   m.pairs.forEach((p, i) => {
     const first = seen.get(p.id);
     if (first !== undefined) problems.push(`field pairs[${i}].id: duplicate pair id "${p.id}" (also pairs[${first}])`);
     else seen.set(p.id, i);
+    if (p.frame !== undefined) {
+      const key = `${p.group ?? ''}\u0000${p.frame}`;
+      const other = frames.get(key);
+      if (p.group === undefined) problems.push(`field pairs[${i}].frame: a frame index needs the pair's "group" (the sequence it belongs to)`);
+      else if (other !== undefined) problems.push(`field pairs[${i}].frame: frame ${p.frame} of group "${p.group}" is also pairs[${other}]`);
+      else frames.set(key, i);
+    }
     const fields = ['left', 'right', 'truth', 'occlusion'] as const;
     const out: Record<string, string> = {};
     for (const f of fields) {
@@ -178,6 +188,7 @@ export function validateManifest(text: string, file: string): ManifestValidation
       ...(out.occlusion !== undefined ? { occlusion: out.occlusion } : {}),
       ...(p.camera ? { camera: p.camera } : {}),
       ...(p.group !== undefined ? { group: p.group } : {}),
+      ...(p.frame !== undefined ? { frame: p.frame } : {}),
       ...(p.tags ? { tags: p.tags } : {}),
     });
   });

@@ -26,7 +26,7 @@ export const SCALAR_SUMS = ['pixels', 'valid', 'sumAbs', 'sumSq', 'sumErr', 'dep
 export type Better = 'lower' | 'higher' | 'abs-lower';
 
 /** Scalar fields of RegionFigures that a metric reads. */
-type ScalarFigure = 'coverage' | 'epe' | 'rmse' | 'bias' | 'depth_relerr' | 'depth_rmse_m' | 'conf_auc' | 'conf_oracle_auc' | 'conf_gap' | 'conf_clean_share' | 'subpix_lock';
+type ScalarFigure = 'coverage' | 'epe' | 'rmse' | 'bias' | 'depth_relerr' | 'depth_rmse_m' | 'conf_auc' | 'conf_oracle_auc' | 'conf_gap' | 'conf_clean_share' | 'subpix_lock' | 'flicker';
 
 interface EntryBase {
   /** Id in files, CSV and the CLI; a family's id has `{}` where the level goes. */
@@ -163,6 +163,15 @@ export const METRIC_CATALOGUE = [
     label: 'Pixel-locking',
     description: 'amplitude of the first harmonic of the fractional parts of the valid predictions, |mean exp(2 pi i d)|: 0 = spread evenly, 1 = all alike (whole pixels)',
     read: { region: 'subpix_lock' },
+    pool: null,
+  },
+  {
+    id: 'flicker',
+    unit: 'px',
+    better: 'lower',
+    label: 'Flicker',
+    description: "mean |change of the prediction - change of the truth| from the previous frame of the pair's sequence, over pixels known and validly predicted in both (frames need a group)",
+    read: { region: 'flicker' },
     pool: null,
   },
   {

@@ -94,6 +94,7 @@ export function brokenPairResult(cfg: RunConfig, dataset: string, entry: PairEnt
     thresholds: [...set.thresholds],
     quantiles: [...set.quantiles],
     ...(entry.group !== undefined ? { group: entry.group } : {}),
+    ...(entry.frame !== undefined ? { frame: entry.frame } : {}),
     ...(entry.tags ? { tags: [...entry.tags] } : {}),
   };
 }

@@ -189,6 +189,7 @@ export function scoredOutcome(
     thresholds: [...set.thresholds],
     quantiles: [...set.quantiles],
     ...(pair.group !== undefined ? { group: pair.group } : {}),
+    ...(pair.frame !== undefined ? { frame: pair.frame } : {}),
     ...(pair.tags ? { tags: [...pair.tags] } : {}),
   };
   return { result, disparity, confidence };

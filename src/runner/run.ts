@@ -48,6 +48,15 @@ export { pairRegions } from '../dataset/regions.js';
 
 const resultKey = (r: JobResult): string => jobKeyString({ dataset: r.dataset, pair: r.pair, label: r.matcher });
 
+/** Shard units of framed pairs: their dataset and group (a sequence stays in one shard). */
+function sequenceUnits(plan: RunPlan): (dataset: string, pair: string) => string | undefined {
+  const units = new Map<string, string>();
+  for (const d of plan.datasets) {
+    for (const e of d.manifest.pairs) if (e.frame !== undefined && e.group !== undefined) units.set(`${d.manifest.name}\u0000${e.id}`, `${d.manifest.name}\u0000${e.group}`);
+  }
+  return (dataset, pair) => units.get(`${dataset}\u0000${pair}`);
+}
+
 /**
  * The run record at the start, and the jobs left to run: this shard's jobs less those a
  * resumed journal already holds (counted in the record as done).
@@ -56,7 +65,7 @@ function startRecord(plan: RunPlan, journal: string): { info: RunRecord; todo: J
   const info = runRecord(plan, new Date());
   const scale = plan.scale;
   const prior = scale?.resume ? recoverJournal(journal) : [];
-  const mine = scale?.shard ? shardJobs(plan.jobs, scale.shard) : plan.jobs;
+  const mine = scale?.shard ? shardJobs(plan.jobs, scale.shard, sequenceUnits(plan)) : plan.jobs;
   const mineKeys = new Set(mine.map(jobKeyString));
   const finished = latestJobs(prior).filter((r) => mineKeys.has(resultKey(r)));
   const doneKeys = new Set(finished.map(resultKey));

@@ -30,6 +30,7 @@ import { oneLineError, runJob, scoredOutcome, type JobOutcome } from './execute.
 import { groupByPair, type JobKey } from './jobs.js';
 import type { RunConfig, RunPlan } from './plan.js';
 import { MatchPool, sharePair, type SharedPair } from './pool.js';
+import { SequenceTracker, sequenceOrder } from './sequence.js';
 import { threadsPerJob } from './scale.js';
 
 export interface ScheduleContext {
@@ -74,6 +75,8 @@ class Scheduler {
   private readonly freeSlots: SharedPair[] = [];
   /** One failure (a broken pair, an abort) stops the rest: a private controller. */
   readonly stop = new AbortController();
+  /** Predictions of sequence frames kept for the next frame's flicker. */
+  private readonly sequences = new SequenceTracker();
   /** Program matchers run in the main thread, one job at a time per configuration. */
   private readonly chains = new Map<string, Promise<unknown>>();
 
@@ -261,15 +264,30 @@ class Scheduler {
   private async runOne(jobKey: JobKey, p: PairWork): Promise<void> {
     this.checkAbort();
     const cfg = this.configs.get(jobKey.label)!;
-    const cached = await this.fromCache(cfg, p);
-    let outcome = cached.outcome;
-    if (!outcome) {
-      outcome = await this.compute(cfg, p);
-      this.stats.computed++;
-      if (cached.key) await this.store(cached.key, cfg, p.pair, outcome);
+    const frame = this.sequences.begin(cfg.label, p.pair);
+    try {
+      const cached = await this.fromCache(cfg, p);
+      let outcome = cached.outcome;
+      if (!outcome) {
+        outcome = await this.compute(cfg, p);
+        this.stats.computed++;
+        if (cached.key) await this.store(cached.key, cfg, p.pair, outcome);
+      }
+      await this.sequences.finish(frame, outcome.result, outcome.disparity, p.pair, p.regions);
+      this.checkAbort();
+      await this.ctx.onResult(outcome.result, outcome.disparity, cfg, p.pair);
+    } finally {
+      this.sequences.abandon(frame);
     }
-    this.checkAbort();
-    await this.ctx.onResult(outcome.result, outcome.disparity, cfg, p.pair);
+  }
+
+  /** Pair groups in the order to start them: framed pairs of a sequence in frame order. */
+  order(groups: JobKey[][]): JobKey[][] {
+    const frames = new Map<string, { group: string; frame: number }>();
+    for (const [name, m] of this.manifests) {
+      for (const e of m.pairs) if (e.frame !== undefined && e.group !== undefined) frames.set(`${name}\u0000${e.id}`, { group: e.group, frame: e.frame });
+    }
+    return sequenceOrder(groups, (dataset, pair) => frames.get(`${dataset}\u0000${pair}`));
   }
 }
 
@@ -289,7 +307,7 @@ export async function runScheduled(ctx: ScheduleContext): Promise<ScheduleStats>
   const inFlight = new Set<Promise<void>>();
   let failure: unknown;
   try {
-    for (const group of groupByPair(ctx.jobs)) {
+    for (const group of s.order(groupByPair(ctx.jobs))) {
       if (s.signal.aborted) break;
       while (inFlight.size >= s.maxPairs) await Promise.race(inFlight);
       if (s.signal.aborted) break;

@@ -4,6 +4,9 @@
  * jobs.ts) are dealt round-robin: pair number i (0-based) goes to shard (i mod N) + 1.
  * All configurations of a pair stay in one shard (the pair is decoded once), the
  * shares differ by at most one pair, and the split depends only on the job list.
+ * With `unitOf`, pairs that share a unit (the frames of one sequence, so that each frame
+ * meets its predecessor for flicker) are dealt together, as one unit in the order of its
+ * first pair.
  */
 import { UsageError } from '../core/errors.js';
 import { groupByPair, type JobKey } from './jobs.js';
@@ -31,10 +34,14 @@ export function shardText(s: Shard): string {
 }
 
 /** The jobs of one shard, in the original (sorted) order. */
-export function shardJobs(jobs: readonly JobKey[], shard: Shard): JobKey[] {
+export function shardJobs(jobs: readonly JobKey[], shard: Shard, unitOf?: (dataset: string, pair: string) => string | undefined): JobKey[] {
   const out: JobKey[] = [];
+  const units = new Map<string, number>();
   groupByPair(jobs).forEach((group, i) => {
-    if (i % shard.count === shard.index - 1) out.push(...group);
+    const named = unitOf?.(group[0].dataset, group[0].pair);
+    const key = named === undefined ? `pair\u0000${i}` : `unit\u0000${named}`;
+    if (!units.has(key)) units.set(key, units.size);
+    if (units.get(key)! % shard.count === shard.index - 1) out.push(...group);
   });
   return out;
 }

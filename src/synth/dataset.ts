@@ -16,7 +16,8 @@ import { DOCK_TAGS, DOCK_VARIANTS, dockScene, type DockVariant } from './dock.js
 import { randomDotPair } from './dots.js';
 import { hash32, subSeed } from './prng.js';
 import { renderPair, type StereoRender } from './render.js';
-import { cameraOf, rigForScene } from './rig.js';
+import { cameraAxes, cameraOf, DEFAULT_POSE, rigForScene } from './rig.js';
+import type { Scene } from './scene.js';
 
 export const DEMO_NAME = 'dock-demo';
 export const DEMO_WIDTH = 480;
@@ -34,9 +35,14 @@ export interface DemoPairSpec {
   readonly kind: DockVariant | 'dots';
   readonly seedOffset: number;
   readonly group: string;
+  /** Frame of a sequence: the same scene, the vehicle this many steps further forward. */
+  readonly frame?: number;
 }
 
-/** The standard demo list: seven dock pairs and one random-dot pair. */
+/** How far the vehicle moves forward between the frames of the demo sequence, m. */
+export const DRIVE_STEP_M = 0.25;
+
+/** The standard demo list: seven dock pairs, one random-dot pair, and a three-frame drive towards the crates. */
 export const DEMO_PAIRS: readonly DemoPairSpec[] = [
   { id: 'crates-01', kind: 'crates', seedOffset: 0, group: 'crates' },
   { id: 'crates-02', kind: 'crates', seedOffset: 1, group: 'crates' },
@@ -46,6 +52,9 @@ export const DEMO_PAIRS: readonly DemoPairSpec[] = [
   { id: 'shelving-01', kind: 'shelving', seedOffset: 5, group: 'shelving' },
   { id: 'mismatch-01', kind: 'mismatch', seedOffset: 6, group: 'mismatch' },
   { id: 'dots-01', kind: 'dots', seedOffset: 7, group: 'dots' },
+  { id: 'drive-00', kind: 'crates', seedOffset: 8, group: 'drive', frame: 0 },
+  { id: 'drive-01', kind: 'crates', seedOffset: 8, group: 'drive', frame: 1 },
+  { id: 'drive-02', kind: 'crates', seedOffset: 8, group: 'drive', frame: 2 },
 ];
 
 export interface DemoOptions {
@@ -81,6 +90,7 @@ interface ManifestPair {
   occlusion: string;
   tags: string[];
   group: string;
+  frame?: number;
   camera?: Camera;
 }
 
@@ -135,6 +145,17 @@ export function rangeCovering(min: number, max: number): [number, number] {
   return [lo, hi];
 }
 
+/** The scene seen from its view moved `metres` along the camera's forward axis (a vehicle driving on). */
+function drivenForward(scene: Scene, metres: number): Scene {
+  if (metres === 0) return scene;
+  const pose = scene.view ?? DEFAULT_POSE;
+  const f = cameraAxes(pose).forward;
+  const p = pose.position;
+  // Level driving: the optical axis' horizontal part only, so the camera height stays.
+  const h = Math.hypot(f[0], f[2]) || 1;
+  return { ...scene, view: { ...pose, position: [p[0] + (metres * f[0]) / h, p[1], p[2] + (metres * f[2]) / h] } };
+}
+
 /** Write the bundled demo dataset (`dock-demo`) into outDir. */
 export async function writeDemoDataset(outDir: string, opts: DemoOptions = {}): Promise<void> {
   const seed = (opts.seed ?? 1) >>> 0;
@@ -163,11 +184,12 @@ export async function writeDemoDataset(outDir: string, opts: DemoOptions = {}): 
       r = randomDotPair({ width, height, seed: pairSeed, noiseSigma: 1 });
       pairs.push(pairEntry(s.id, ['random-dots'], s.group, r.camera));
     } else {
-      const scene = dockScene(s.kind, pairSeed);
+      const scene = drivenForward(dockScene(s.kind, pairSeed), (s.frame ?? 0) * DRIVE_STEP_M);
       const rig = rigForScene(scene, { width, height, hfovDeg: DOCK_HFOV_DEG, baselineM: DOCK_BASELINE_M });
       camera = cameraOf(rig);
-      r = renderPair(scene, rig, { seed: subSeed(pairSeed, 9), samples });
-      pairs.push(pairEntry(s.id, DOCK_TAGS[s.kind], s.group));
+      // Frames of a sequence get their own sensor noise, as consecutive exposures do.
+      r = renderPair(scene, rig, { seed: subSeed(pairSeed, 9 + (s.frame ?? 0)), samples });
+      pairs.push({ ...pairEntry(s.id, DOCK_TAGS[s.kind], s.group), ...(s.frame !== undefined ? { frame: s.frame } : {}) });
     }
     extent(r.truth, acc);
     await writePairFiles(outDir, s.id, r);

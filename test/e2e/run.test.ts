@@ -17,7 +17,7 @@ const root = mkdtempSync(join(tmpdir(), 'parallax-e2e-'));
 afterAll(() => rmSync(root, { recursive: true, force: true }));
 
 const PAIRS_COLUMNS =
-  'matcher,dataset,pair,region,status,pixels,coverage,epe,rmse,bias,over0.25px,over0.5px,over1px,over2px,over3px,q50,q68,q95,depth_relerr,depth_rmse_m,conf_auc,conf_oracle_auc,conf_gap,conf_clean_share,subpix_lock,time_ms,peak_mb';
+  'matcher,dataset,pair,region,status,pixels,coverage,epe,rmse,bias,over0.25px,over0.5px,over1px,over2px,over3px,q50,q68,q95,depth_relerr,depth_rmse_m,conf_auc,conf_oracle_auc,conf_gap,conf_clean_share,subpix_lock,flicker,time_ms,peak_mb';
 
 beforeAll(() => {
   if (!builtCliExists()) throw new Error('dist/ is missing: run `npm run build` (npm test does it)');
@@ -204,5 +204,63 @@ describe('confidence maps from prediction folders and programs', () => {
     // With confidence: the exact half (even x) comes first, so the 50 % point of the curve is 0 and conf_gap is 0.
     expect(Number(by.get('with-conf')!.conf_gap)).toBe(0);
     expect(by.get('without-conf')!.conf_auc).toBe('');
+  }, 60_000);
+});
+
+describe('sequences: flicker between consecutive frames', () => {
+  it('frames of a group are scored against their predecessor, in frame order whatever the pair ids; the first frame has none', () => {
+    // Pair ids sort as c, a, d, b while the frames run a(0), b(1), c(2), d(3).
+    const d = writeDataset(join(root, 'seq-data'), { ids: ['seq-c', 'seq-a', 'seq-d', 'seq-b'] });
+    const manifestFile = join(d.dir, 'dataset.json');
+    const m = JSON.parse(readFileSync(manifestFile, 'utf8'));
+    const frameOf: Record<string, number> = { 'seq-a': 0, 'seq-b': 1, 'seq-c': 2, 'seq-d': 3 };
+    for (const p of m.pairs) Object.assign(p, { group: 'drive', frame: frameOf[p.id] });
+    writeFileSync(manifestFile, JSON.stringify(m));
+    // Predictions: truth + independent Gaussian noise (sigma 0.5) per frame -> flicker 2 sigma / sqrt(pi) = 0.564 (textbook).
+    const dir = join(root, 'seq-preds');
+    mkdirSync(dir, { recursive: true });
+    let s = 99;
+    const u = (): number => ((s = (Math.imul(s, 1664525) + 1013904223) >>> 0) + 0.5) / 2 ** 32; // LCG, Numerical Recipes constants
+    const gauss = (): number => Math.sqrt(-2 * Math.log(u())) * Math.cos(2 * Math.PI * u()); // Box-Muller
+    for (const p of d.pairs) writeFileSync(join(dir, `${p.id}.pfm`), encodePfm({ width: 64, height: 48, data: p.truth.map((t) => t + 0.5 * gauss()) }));
+    const out = join(root, 'seq-run');
+    const r = parallax(['run', '-d', d.dir, '--predictions', dir, '--label', 'noisy', '--jobs', '2', '--no-cache', '--out', out, '-q'], root);
+    expect(r.stderr).toBe('');
+    expect(r.code).toBe(0);
+    const rows = readCsv(readFileSync(join(out, 'pairs.csv'), 'utf8')).rows.filter((x) => x.region === 'known');
+    const by = new Map(rows.map((x) => [x.pair, x]));
+    expect(by.get('seq-a')!.flicker).toBe('');
+    for (const id of ['seq-b', 'seq-c', 'seq-d']) expect(Math.abs(Number(by.get(id)!.flicker) - 0.5642) / 0.5642, id).toBeLessThan(0.08);
+    // A frame index without a group is refused, naming the field.
+    m.pairs[0].group = undefined;
+    writeFileSync(manifestFile, JSON.stringify(m));
+    const bad = parallax(['dataset', 'check', d.dir], root);
+    expect(bad.code).toBe(1); // README: dataset check exits 1 when it finds problems
+    expect(bad.stdout + bad.stderr).toMatch(/pairs\[0\]\.frame: a frame index needs the pair's "group"/);
+  }, 60_000);
+});
+
+describe('the demo sequence', () => {
+  it('is rendered with a moving camera, and the truth scored as a prediction has flicker 0 on it', () => {
+    const data = join(root, 'demo-seq');
+    expect(parallax(['dataset', 'synth', '--out', data, '--width', '96', '--height', '72', '-q'], root).code).toBe(0);
+    const m = JSON.parse(readFileSync(join(data, 'dataset.json'), 'utf8'));
+    const frames = m.pairs.filter((p: { frame?: number }) => p.frame !== undefined);
+    expect(frames.map((p: { id: string; group: string; frame: number }) => [p.id, p.group, p.frame])).toEqual([
+      ['drive-00', 'drive', 0],
+      ['drive-01', 'drive', 1],
+      ['drive-02', 'drive', 2],
+    ]);
+    // The camera moves: the truth changes from frame to frame.
+    expect(readFileSync(join(data, 'drive-00', 'truth.pfm')).equals(readFileSync(join(data, 'drive-01', 'truth.pfm')))).toBe(false);
+    const preds = join(root, 'demo-seq-truth');
+    mkdirSync(preds, { recursive: true });
+    for (const p of frames) writeFileSync(join(preds, `${p.id}.pfm`), readFileSync(join(data, p.id, 'truth.pfm')));
+    const out = join(root, 'demo-seq-run');
+    // Only the frames have predictions: the other pairs fail (exit 3), which is not what is checked here.
+    const r = parallax(['run', '-d', data, '--predictions', preds, '--label', 'truth', '--out', out, '-q'], root);
+    expect(r.code).toBe(3);
+    const rows = readCsv(readFileSync(join(out, 'pairs.csv'), 'utf8')).rows.filter((x) => x.region === 'known' && x.pair.startsWith('drive-'));
+    expect(rows.map((x) => x.flicker)).toEqual(['', '0', '0']);
   }, 60_000);
 });

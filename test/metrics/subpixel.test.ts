@@ -28,6 +28,10 @@ describe('subpix_lock', () => {
     // Half the pixels at .0 and half at .5: the vectors cancel, 0.
     const halves = Float32Array.from([1, 1.5, 2, 2.5]);
     expect(subpixelByRegion(halves, halves, new Uint8Array(4).fill(K)).known!.subpix_lock).toBeLessThan(1e-12);
+    // A disparity just below a whole number whose fraction rounds to 1 (float64) counts as 0.
+    const tiny = subpixelByRegion(Float32Array.from([-1e-20, 0]), Float32Array.from([-1e-20, 0]), new Uint8Array(2).fill(K)).known!;
+    expect(tiny.frac_hist).toEqual([2, 0, 0, 0, 0, 0, 0, 0, 0, 0]);
+    expect(tiny.subpix_lock).toBeCloseTo(1, 12);
   });
 
   it('histograms equal numpy: fractions of the predictions, mean |error| by the truth fraction', () => {

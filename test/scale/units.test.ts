@@ -33,6 +33,14 @@ describe('shards', () => {
     }
   });
 
+  it('frames of one sequence stay in one shard; the units still partition the jobs', () => {
+    const all = enumerateJobs([{ name: 'd', pairIds: ['f0', 'f1', 'f2', 'f3', 'x', 'y'] }], ['m']);
+    // f0..f3 are one sequence; x and y are single pairs.
+    const unitOf = (_: string, pair: string): string | undefined => (pair.startsWith('f') ? 'seq' : undefined);
+    const shards = [1, 2, 3].map((index) => shardJobs(all, { index, count: 3 }, unitOf).map((k) => k.pair));
+    expect(shards).toEqual([['f0', 'f1', 'f2', 'f3'], ['x'], ['y']]);
+  });
+
   it('property: shards partition the job list, keep each pair whole, keep the order, and balance pairs within one (issue requirement, round-robin)', () => {
     fc.assert(
       fc.property(

@@ -75,6 +75,8 @@ interface PlxReportHead {
   sparsify: Record<string, Record<string, PlxSparsifyView[]>>;
   /** subpixel[dataset][region] = per configuration: its sub-pixel figures over the pairs. */
   subpixel: Record<string, Record<string, PlxSubpixelView[]>>;
+  /** flicker[dataset][region] = per configuration: [frame, mean flicker over the dataset's sequences at that frame]. */
+  flicker: Record<string, Record<string, { label: string; points: [number, number][] }[]>>;
 }
 
 /** Mean over pairs of a configuration's sub-pixel figures (src/metrics/subpixel.ts). */

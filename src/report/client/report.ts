@@ -263,6 +263,31 @@
     );
   }
 
+  function renderFlicker(): void {
+    const host = document.getElementById('flicker')!;
+    clear(host);
+    const views = (data.flicker[state.dataset] || {})[state.region] || [];
+    if (!views.length) {
+      host.appendChild(el('p', { class: 'ci' }, 'No sequence (pairs with a frame) in this dataset.'));
+      return;
+    }
+    const frames = views.flatMap((v) => v.points.map((p) => p[0]));
+    const lo = Math.min(...frames);
+    const hi = Math.max(...frames);
+    host.appendChild(
+      lineChart({
+        aria: 'flicker against frame',
+        xlab: 'frame',
+        ylab: 'flicker (px)',
+        x: [lo, hi > lo ? hi : lo + 1],
+        y: [0, Math.max(...views.flatMap((v) => v.points.map((p) => p[1])))],
+        xTicks: [...new Set(frames)].sort((a, b) => a - b),
+        xTickText: String,
+        series: views.map((v) => ({ label: v.label, color: colorOf(v.label), points: v.points, dash: '', legend: v.label })),
+      }),
+    );
+  }
+
   /** Sub-pixel honesty: the share of predictions per fractional-part bin, and the mean error per bin of the truth's fraction. */
   function renderSubpixel(): void {
     const host = document.getElementById('subpixel')!;
@@ -311,6 +336,7 @@
       renderCurves();
       renderSparsify();
       renderSubpixel();
+      renderFlicker();
     });
   }
   bindSelect('sel-dataset', 'dataset');
@@ -322,6 +348,7 @@
   renderCurves();
   renderSparsify();
   renderSubpixel();
+  renderFlicker();
 
   // ---------------------------------------------------------------- pairs (pair-views.ts)
   document.querySelectorAll('details.pair').forEach((d) => {

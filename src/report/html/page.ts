@@ -108,6 +108,7 @@ ${tags.length ? html`<label>pairs<select id="sel-tag">${opt('', 'all pairs')}${t
 <figure><div id="scatter"></div><figcaption id="scatter-caption"></figcaption></figure>
 <figure><div id="curves"></div><figcaption>Bad-pixel rate (% of the region's pixels with |error| above the threshold or no prediction) against the threshold, one line per configuration.</figcaption></figure>
 <figure><div id="subpixel"></div><figcaption>Sub-pixel honesty, per configuration: the share of its predictions in each tenth of the fractional part (flat = honest; peaks at 0 and 1 = pulled towards whole pixels, summarised by subpix_lock in the legend), and its mean |error| by the fractional part of the truth.</figcaption></figure>
+<figure><div id="flicker"></div><figcaption>Flicker against frame, per configuration, for datasets with sequences (pairs with a group and a frame): the mean over the sequences of |change of the prediction − change of the truth| from the previous frame, in px.</figcaption></figure>
 <figure><div id="sparsify"></div><figcaption id="sparsify-caption">Sparsification: epe of the most confident share of the valid predictions kept, from all of them down to 5 %, one solid line per configuration with a confidence map; dashed, the same configuration's oracle (its smallest errors kept), the best any confidence could do. The closer the two, the better the confidence ranks the errors (conf_gap).</figcaption></figure>
 </div>
 </section>

@@ -164,6 +164,31 @@ export function subpixelView(jobs: readonly JobResult[], configs: readonly strin
   return out;
 }
 
+/** Flicker against frame per dataset, region and configuration: the mean over the dataset's sequences at each frame. */
+export function flickerView(jobs: readonly JobResult[], configs: readonly string[]): PlxReportHead['flicker'] {
+  const out: PlxReportHead['flicker'] = {};
+  for (const region of REGION_IDS) {
+    for (const label of configs) {
+      const acc = new Map<string, Map<number, [number, number]>>(); // dataset -> frame -> [sum, count]
+      for (const j of jobs) {
+        const v = j.scores[region].figures.flicker;
+        if (j.matcher !== label || j.frame === undefined || typeof v !== 'number') continue;
+        const byFrame = acc.get(j.dataset) ?? new Map<number, [number, number]>();
+        const cell = byFrame.get(j.frame) ?? [0, 0];
+        cell[0] += v;
+        cell[1]++;
+        byFrame.set(j.frame, cell);
+        acc.set(j.dataset, byFrame);
+      }
+      for (const [dataset, byFrame] of acc) {
+        const points = [...byFrame].sort((a, b) => a[0] - b[0]).map(([f, [sum, n]]): [number, number] => [f, sum / n]);
+        ((out[dataset] ??= {})[region] ??= []).push({ label, points });
+      }
+    }
+  }
+  return out;
+}
+
 /** The page's data object, without its `pairs` (written one view at a time). */
 export function reportData(
   rows: SummaryRow[],
@@ -171,7 +196,7 @@ export function reportData(
   datasets: string[],
   configs: string[],
   disparityMap: DisparityMapName,
-  curves: Pick<PlxReportHead, 'sparsify' | 'subpixel'> = { sparsify: {}, subpixel: {} },
+  curves: Pick<PlxReportHead, 'sparsify' | 'subpixel' | 'flicker'> = { sparsify: {}, subpixel: {}, flicker: {} },
 ): PlxReportHead {
   const metrics = metricsOf(set);
   const byId = <T>(f: (m: (typeof metrics)[number]) => T): Record<string, T> => Object.fromEntries(metrics.map((m) => [m.id, f(m)]));
@@ -199,6 +224,7 @@ export function reportData(
     shares: [...SPARSIFY_SHARES],
     sparsify: curves.sparsify,
     subpixel: curves.subpixel,
+    flicker: curves.flicker,
     regionKeys: (['visible', 'occluded', 'flat', 'jump', 'unknown'] as const).map((k): [string, string] => [k === 'unknown' ? 'no truth' : k, `rgb(${REGION_COLORS[k].join(',')})`]),
   };
 }
