@@ -13,9 +13,9 @@
  */
 import { MatcherFailure } from '../../src/core/errors.js';
 import type { MatcherPlugin, MatchInput, ParamValues } from '../../src/core/matcher.js';
-import { applyPostprocess, matchWithConfidence, POSTPROCESS_PARAMS, readPostprocess, type ConfidenceSink } from '../kernels/postprocess.js';
+import { applyPostprocess, matchWithConfidence, POSTPROCESS_PARAMS, readPostprocess } from '../kernels/postprocess.js';
 import { matchLevels } from '../kernels/range.js';
-import { copyRows, matchBySlices, type SliceFn, type StripSource } from '../kernels/slices.js';
+import { copyRows, matchBySlices, type SliceFn, type SliceRun, type StripSource } from '../kernels/slices.js';
 import { wasmPath } from '../sgm/wasm.js';
 import { BLOCK_COSTS, blockCostSlice, createBlockScratch, roundLuminance, type BlockCostKind } from './cost.js';
 import { blockWasmMaps, blockWasmModule } from './fast.js';
@@ -52,14 +52,9 @@ function warnOnce(msg: string): void {
   process.emitWarning(msg, { code: 'PARALLAX_BLOCK_WASM' });
 }
 
-/** The block matcher as a plain function (the plugin's match); stripRows is for tests (see kernels/slices.ts). */
-export function blockMatch(
-  input: MatchInput,
-  params: ParamValues,
-  signal?: AbortSignal,
-  stripRows?: number,
-  sink?: ConfidenceSink,
-): Float32Array {
+/** The block matcher as a plain function (the plugin's match); run.stripRows is for tests (see kernels/slices.ts). */
+export function blockMatch(input: MatchInput, params: ParamValues, signal?: AbortSignal, run: SliceRun = {}): Float32Array {
+  const { stripRows, sink } = run;
   const { width, height } = input;
   const { minDisparity, levels } = matchLevels(input);
   const opts = readBlockOptions(params);
@@ -158,6 +153,6 @@ export const blockMatcher: MatcherPlugin = {
     ...POSTPROCESS_PARAMS,
   ],
   match(input, params, signal) {
-    return matchWithConfidence((sink) => blockMatch(input, params, signal, undefined, sink));
+    return matchWithConfidence((sink) => blockMatch(input, params, signal, { sink }));
   },
 };

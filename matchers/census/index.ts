@@ -7,9 +7,9 @@
 import type { MatcherPlugin, MatchInput, ParamValues } from '../../src/core/matcher.js';
 import { boxSum } from '../kernels/box.js';
 import { censusTransform, hammingSlice } from '../kernels/census.js';
-import { matchWithConfidence, POSTPROCESS_PARAMS, readPostprocess, type ConfidenceSink } from '../kernels/postprocess.js';
+import { matchWithConfidence, POSTPROCESS_PARAMS, readPostprocess } from '../kernels/postprocess.js';
 import { matchLevels } from '../kernels/range.js';
-import { copyRowsU32, matchBySlices, type SliceFn, type StripSource } from '../kernels/slices.js';
+import { copyRowsU32, matchBySlices, type SliceFn, type SliceRun, type StripSource } from '../kernels/slices.js';
 
 export interface CensusOptions {
   /** Census window width and height (odd). */
@@ -27,14 +27,9 @@ export function readCensusOptions(params: ParamValues): CensusOptions {
   return { censusW: n('censusW', 9), censusH: n('censusH', 7), window: n('window', 5) };
 }
 
-/** The census matcher as a plain function (the plugin's match); stripRows is for tests (see kernels/slices.ts). */
-export function censusMatch(
-  input: MatchInput,
-  params: ParamValues,
-  signal?: AbortSignal,
-  stripRows?: number,
-  sink?: ConfidenceSink,
-): Float32Array {
+/** The census matcher as a plain function (the plugin's match); run.stripRows is for tests (see kernels/slices.ts). */
+export function censusMatch(input: MatchInput, params: ParamValues, signal?: AbortSignal, run: SliceRun = {}): Float32Array {
+  const { stripRows, sink } = run;
   const { width, height, left, right } = input;
   const { minDisparity, levels } = matchLevels(input);
   const opts = readCensusOptions(params);
@@ -81,6 +76,6 @@ export const censusMatcher: MatcherPlugin = {
     ...POSTPROCESS_PARAMS,
   ],
   match(input, params, signal) {
-    return matchWithConfidence((sink) => censusMatch(input, params, signal, undefined, sink));
+    return matchWithConfidence((sink) => censusMatch(input, params, signal, { sink }));
   },
 };

@@ -159,6 +159,8 @@ export function bpMatch(input: MatchInput, params: ParamValues, signal?: AbortSi
   return finishVolume(belief, { width, height, levels, minDisparity }, post, undefined, sink);
 }
 
+// The match's end and the plugin literal have sgm/index.ts's shape on purpose: each built-in
+// declares its own id, version and parameters in one object, as the contract asks.
 export const bpMatcher: MatcherPlugin = {
   id: 'bp',
   summary: 'loopy min-sum belief propagation, truncated linear or Potts smoothness, coarse to fine',

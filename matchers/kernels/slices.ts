@@ -41,6 +41,12 @@ export interface StripSource {
   strip(rows: Int32Array): SliceFn;
 }
 
+/** How a strip-wise match runs: strip height (tests), and where its confidence goes. */
+export interface SliceRun {
+  stripRows?: number;
+  sink?: ConfidenceSink;
+}
+
 export function matchBySlices(
   width: number,
   height: number,

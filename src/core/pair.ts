@@ -18,6 +18,15 @@ export interface PairEntry {
   readonly tags?: readonly string[];
 }
 
+/** A pair's sequence and tag fields as a job result carries them (absent ones left out). */
+export function pairFields(p: { readonly group?: string; readonly frame?: number; readonly tags?: readonly string[] }): { group?: string; frame?: number; tags?: string[] } {
+  return {
+    ...(p.group !== undefined ? { group: p.group } : {}),
+    ...(p.frame !== undefined ? { frame: p.frame } : {}),
+    ...(p.tags ? { tags: [...p.tags] } : {}),
+  };
+}
+
 /** A pair decoded into memory, ready for matching and scoring. */
 export interface LoadedPair {
   readonly dataset: string;

@@ -15,7 +15,7 @@
  */
 import type { FloatImage } from '../core/image.js';
 import { toLuminance } from '../core/image.js';
-import type { PairEntry } from '../core/pair.js';
+import { pairFields, type PairEntry } from '../core/pair.js';
 import { REGION_BIT, REGION_IDS, type RegionParams } from '../core/regions.js';
 import type { JobResult, PairScore } from '../core/score.js';
 import { pairCamera, type Manifest } from '../dataset/manifest.js';
@@ -93,8 +93,6 @@ export function brokenPairResult(cfg: RunConfig, dataset: string, entry: PairEnt
     scores,
     thresholds: [...set.thresholds],
     quantiles: [...set.quantiles],
-    ...(entry.group !== undefined ? { group: entry.group } : {}),
-    ...(entry.frame !== undefined ? { frame: entry.frame } : {}),
-    ...(entry.tags ? { tags: [...entry.tags] } : {}),
+    ...pairFields(entry),
   };
 }

@@ -5,7 +5,7 @@
  * all-invalid. Only an abort (AbortedError) propagates.
  */
 import { AbortedError } from '../core/errors.js';
-import type { LoadedPair } from '../core/pair.js';
+import { pairFields, type LoadedPair } from '../core/pair.js';
 import type { RegionMap } from '../core/regions.js';
 import type { JobResult } from '../core/score.js';
 import { scorePair } from '../metrics/score.js';
@@ -188,9 +188,7 @@ export function scoredOutcome(
     scores,
     thresholds: [...set.thresholds],
     quantiles: [...set.quantiles],
-    ...(pair.group !== undefined ? { group: pair.group } : {}),
-    ...(pair.frame !== undefined ? { frame: pair.frame } : {}),
-    ...(pair.tags ? { tags: [...pair.tags] } : {}),
+    ...pairFields(pair),
   };
   return { result, disparity, confidence };
 }

@@ -318,8 +318,8 @@ describe('strips (kernels/slices.ts)', () => {
     for (const cost of ['sad', 'zncc'] as const) {
       // kernel 'ts': strips belong to the TypeScript kernel (the wasm kernel works row by row)
       const params = { cost, window: 7, uniq: 5, lr: 1, kernel: 'ts' };
-      const whole = list(blockMatch(input, params, undefined, 37));
-      for (const rows of [1, 5, 16, 36]) expect(list(blockMatch(input, params, undefined, rows))).toEqual(whole);
+      const whole = list(blockMatch(input, params, undefined, { stripRows: 37 }));
+      for (const rows of [1, 5, 16, 36]) expect(list(blockMatch(input, params, undefined, { stripRows: rows }))).toEqual(whole);
     }
   });
 });

@@ -73,7 +73,7 @@ describe('strips (kernels/slices.ts)', () => {
     // Reference: the same matcher run as one strip covering the image (stripRows = height).
     const s = randomDotStereogram(48, 37, 2, 6, 13);
     const input = { width: 48, height: 37, left: s.left, right: s.right, minDisparity: -1, maxDisparity: 9 };
-    const whole = list(censusMatch(input, { window: 7 }, undefined, 37));
-    for (const rows of [1, 4, 20]) expect(list(censusMatch(input, { window: 7 }, undefined, rows))).toEqual(whole);
+    const whole = list(censusMatch(input, { window: 7 }, undefined, { stripRows: 37 }));
+    for (const rows of [1, 4, 20]) expect(list(censusMatch(input, { window: 7 }, undefined, { stripRows: rows }))).toEqual(whole);
   });
 });

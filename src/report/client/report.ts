@@ -331,24 +331,22 @@
     s.addEventListener('change', () => {
       if (key === 'stat') state.stat = s.value === 'pooled' ? 'pooled' : 'mean';
       else state[key] = s.value;
-      renderTable();
-      renderScatter();
-      renderCurves();
-      renderSparsify();
-      renderSubpixel();
-      renderFlicker();
+      renderAll();
     });
+  }
+  function renderAll(): void {
+    renderTable();
+    renderScatter();
+    renderCurves();
+    renderSparsify();
+    renderSubpixel();
+    renderFlicker();
   }
   bindSelect('sel-dataset', 'dataset');
   bindSelect('sel-region', 'region');
   bindSelect('sel-tag', 'tag');
   bindSelect('sel-stat', 'stat');
-  renderTable();
-  renderScatter();
-  renderCurves();
-  renderSparsify();
-  renderSubpixel();
-  renderFlicker();
+  renderAll();
 
   // ---------------------------------------------------------------- pairs (pair-views.ts)
   document.querySelectorAll('details.pair').forEach((d) => {
