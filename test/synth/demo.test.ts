@@ -96,10 +96,12 @@ describe('demo dataset (checks: the manifest form of the README, read back with 
 
   test('more pairs than the standard list adds seeded dock pairs', async () => {
     const d = tempDir();
-    await writeDemoDataset(d, { width: 48, height: 32, seed: 5, pairs: 10, samples: 1 });
+    // The standard list is eleven: eight pairs, then the three frames of the drive.
+    await writeDemoDataset(d, { width: 48, height: 32, seed: 5, pairs: 13, samples: 1 });
     const m = loadManifest(d);
-    expect(m.pairs.map((p) => p.id).slice(7)).toEqual(['dots-01', 'extra-09', 'extra-10']);
-    expect(m.pairs[8].tags!.length).toBeGreaterThan(0);
+    expect(m.pairs.map((p) => p.id).slice(7)).toEqual(['dots-01', 'drive-00', 'drive-01', 'drive-02', 'extra-12', 'extra-13']);
+    expect(m.pairs.filter((p) => p.frame !== undefined).map((p) => p.frame)).toEqual([0, 1, 2]);
+    expect(m.pairs[11].tags!.length).toBeGreaterThan(0);
   });
 
   test('bad sizes and counts are usage errors naming the option', async () => {
