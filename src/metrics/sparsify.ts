@@ -17,8 +17,8 @@
 /** The shares of the curves, from all predictions down to the most confident 5 %. */
 export const SPARSIFY_SHARES: readonly number[] = Array.from({ length: 20 }, (_, i) => (20 - i) / 20);
 
-/** The error bound and rate of conf_clean_share: at most 1 % of the kept pixels above 1 px. */
 // Named constants and a figures interface, the shape of power.ts's: each module's own numbers.
+/** The error bound and rate of conf_clean_share: at most 1 % of the kept pixels above 1 px. */
 export const CLEAN_ERROR_PX = 1;
 export const CLEAN_RATE = 0.01;
 

@@ -8,8 +8,6 @@ import { thresholdName } from '../metrics/types.js';
 import { keyThreshold } from '../metrics/catalogue.js';
 import { byNatural } from '../core/order.js';
 
-export { keyThreshold } from '../metrics/catalogue.js';
-
 function fmt(v: number | null | undefined, digits: number): string {
   return v === null || v === undefined || !Number.isFinite(v) ? '-' : v.toFixed(digits);
 }

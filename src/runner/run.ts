@@ -15,6 +15,7 @@ import { pruneCache } from './cache.js';
 import { watchInterrupts } from './interrupt.js';
 import { runScheduled, type ScheduleStats } from './scheduler.js';
 import { shardJobs, shardText } from './shard.js';
+import { framePlaces } from './sequence.js';
 import { latestJobs } from '../stats/aggregate.js';
 import { writePreview } from '../report/preview.js';
 import { writeRunOutputs, type WrittenOutputs } from './outputs.js';
@@ -50,11 +51,11 @@ const resultKey = (r: JobResult): string => jobKeyString({ dataset: r.dataset, p
 
 /** Shard units of framed pairs: their dataset and group (a sequence stays in one shard). */
 function sequenceUnits(plan: RunPlan): (dataset: string, pair: string) => string | undefined {
-  const units = new Map<string, string>();
-  for (const d of plan.datasets) {
-    for (const e of d.manifest.pairs) if (e.frame !== undefined && e.group !== undefined) units.set(`${d.manifest.name}\u0000${e.id}`, `${d.manifest.name}\u0000${e.group}`);
-  }
-  return (dataset, pair) => units.get(`${dataset}\u0000${pair}`);
+  const placeOf = framePlaces(plan.datasets.map((d) => d.manifest));
+  return (dataset, pair) => {
+    const place = placeOf(dataset, pair);
+    return place && `${dataset}\u0000${place.group}`;
+  };
 }
 
 /**

@@ -30,7 +30,7 @@ import { oneLineError, runJob, scoredOutcome, type JobOutcome } from './execute.
 import { groupByPair, type JobKey } from './jobs.js';
 import type { RunConfig, RunPlan } from './plan.js';
 import { MatchPool, sharePair, type SharedPair } from './pool.js';
-import { SequenceTracker, sequenceOrder } from './sequence.js';
+import { framePlaces, SequenceTracker, sequenceOrder } from './sequence.js';
 import { threadsPerJob } from './scale.js';
 
 export interface ScheduleContext {
@@ -283,11 +283,7 @@ class Scheduler {
 
   /** Pair groups in the order to start them: framed pairs of a sequence in frame order. */
   order(groups: JobKey[][]): JobKey[][] {
-    const frames = new Map<string, { group: string; frame: number }>();
-    for (const [name, m] of this.manifests) {
-      for (const e of m.pairs) if (e.frame !== undefined && e.group !== undefined) frames.set(`${name}\u0000${e.id}`, { group: e.group, frame: e.frame });
-    }
-    return sequenceOrder(groups, (dataset, pair) => frames.get(`${dataset}\u0000${pair}`));
+    return sequenceOrder(groups, framePlaces(this.manifests.values()));
   }
 }
 

@@ -41,10 +41,10 @@ export class SequenceTracker {
     own.settle(maps);
     const prevKey = frameKey(result.matcher, pair.dataset, pair.group, pair.frame - 1);
     const prev = this.frames.get(prevKey);
-    if (!prev || !maps) return;
-    const before = await prev.promise;
+    if (!prev) return;
     this.frames.delete(prevKey); // each frame has one successor
-    if (!before) return;
+    const before = await prev.promise;
+    if (!before || !maps) return;
     const f = flickerByRegion(before, maps);
     for (const id of REGION_IDS) result.scores[id].figures.flicker = f[id];
   }
@@ -55,11 +55,26 @@ export class SequenceTracker {
   }
 }
 
+/** Where a framed pair sits: its sequence (group) and frame index. */
+export interface FramePlace {
+  group: string;
+  frame: number;
+}
+
+/** The framed pairs of some manifests, by `dataset\0pair`: the one lookup behind frame order and sequence shards. */
+export function framePlaces(manifests: Iterable<{ name: string; pairs: readonly { id: string; group?: string; frame?: number }[] }>): (dataset: string, pair: string) => FramePlace | undefined {
+  const places = new Map<string, FramePlace>();
+  for (const m of manifests) {
+    for (const e of m.pairs) if (e.frame !== undefined && e.group !== undefined) places.set(`${m.name}\u0000${e.id}`, { group: e.group, frame: e.frame });
+  }
+  return (dataset, pair) => places.get(`${dataset}\u0000${pair}`);
+}
+
 /**
  * Pair groups of the job list in the order the scheduler starts them: as listed, except
  * that framed pairs of one dataset and group follow each other in frame order.
  */
-export function sequenceOrder(groups: JobKey[][], frameOf: (dataset: string, pair: string) => { group: string; frame: number } | undefined): JobKey[][] {
+export function sequenceOrder(groups: JobKey[][], frameOf: (dataset: string, pair: string) => FramePlace | undefined): JobKey[][] {
   const rank = groups.map((g, i) => ({ g, i, f: frameOf(g[0].dataset, g[0].pair) }));
   const firstOfSeq = new Map<string, number>();
   for (const r of rank) {

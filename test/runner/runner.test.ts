@@ -9,7 +9,7 @@ import { DEFAULT_THRESHOLDS } from '../../src/metrics/types.js';
 import type { MatcherPlugin } from '../../src/core/matcher.js';
 import { csvText } from '../../src/report/csv.js';
 import { pairsCsvHeader } from '../../src/report/pairs-csv.js';
-import { validateOutput, oneLineError } from '../../src/runner/execute.js';
+import { checkOutput, validateOutput, oneLineError } from '../../src/runner/execute.js';
 import { enumerateJobs, groupByPair, jobKeyString } from '../../src/runner/jobs.js';
 import { parseJournal } from '../../src/runner/journal.js';
 import { startPeakSampler } from '../../src/runner/memory.js';
@@ -85,6 +85,12 @@ describe('output validation', () => {
     expect(() => validateOutput(new Float32Array(5), 3, 2)).toThrow(/5 values, expected 3x2 = 6/);
     expect(() => validateOutput(new Float64Array(6), 3, 2)).toThrow(/Float64Array/);
     expect(() => validateOutput(undefined, 3, 2)).toThrow(/expected a Float32Array/);
+    // A confidence map must match the disparity's size (the contract, src/core/matcher.ts).
+    const c = new Float32Array(6);
+    expect(checkOutput({ disparity: a, confidence: c }, 3, 2)).toEqual({ disparity: a, confidence: c });
+    expect(checkOutput(a, 3, 2).confidence).toBeNull();
+    expect(() => checkOutput({ disparity: a, confidence: new Float32Array(5) }, 3, 2)).toThrow(/confidence that is not a Float32Array of 3x2/);
+    expect(() => checkOutput({ disparity: a, confidence: [1, 2, 3, 4, 5, 6] }, 3, 2)).toThrow(/confidence/);
   });
   it('error texts become one line', () => {
     expect(oneLineError(new Error('first\n  at x (y.js:1)\nmore'))).toBe('first | at x (y.js:1) | more');
@@ -225,7 +231,7 @@ describe('executeRun', () => {
 
 describe('console table', () => {
   it('shows the 2 px rate when measured, else the middle threshold (documented choice in README)', async () => {
-    const { keyThreshold } = await import('../../src/report/console-table.js');
+    const { keyThreshold } = await import('../../src/metrics/catalogue.js');
     expect(keyThreshold([0.25, 0.5, 1, 2, 3])).toBe(2);
     expect(keyThreshold([0.5, 1, 4])).toBe(1);
     expect(keyThreshold([3])).toBe(3);
