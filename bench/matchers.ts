@@ -87,7 +87,7 @@ function fmt(x: number | null | undefined, digits = 1): string {
 }
 
 function regionsOf(truth: Float32Array, gray: Float32Array, occ: Uint8Array | undefined, w: number, h: number): RegionMap {
-  return buildRegions(truth, gray, occ, w, h, { ...DEFAULT_REGION_PARAMS });
+  return buildRegions({ truth: truth, leftGray: gray, width: w, height: h, occlusion: occ }, { ...DEFAULT_REGION_PARAMS });
 }
 
 /** Demo pairs: datasets/demo, or a fresh rendering into `tmp`. */

@@ -145,12 +145,12 @@ export default async function (): Promise<void> {
   const { truth, pred, gray } = scoringScene();
   const params = DEFAULT_REGION_PARAMS;
   const thresholds = DEFAULT_THRESHOLDS;
-  const regions = buildRegions(truth, gray, undefined, W, H, params);
+  const regions = buildRegions({ truth: truth, leftGray: gray, width: W, height: H }, params);
 
-  const tRegions = best(RUNS, () => void buildRegions(truth, gray, undefined, W, H, params));
+  const tRegions = best(RUNS, () => void buildRegions({ truth: truth, leftGray: gray, width: W, height: H }, params));
   const tScore = best(RUNS, () => void scorePair(pred, truth, regions, { thresholds, quantiles: DEFAULT_QUANTILES, camera: CAMERA }));
   const tBoth = best(RUNS, () => {
-    const rg = buildRegions(truth, gray, undefined, W, H, params);
+    const rg = buildRegions({ truth: truth, leftGray: gray, width: W, height: H }, params);
     scorePair(pred, truth, rg, { thresholds, quantiles: DEFAULT_QUANTILES, camera: CAMERA });
   });
   const ours = scorePair(pred, truth, regions, { thresholds, quantiles: DEFAULT_QUANTILES, camera: CAMERA });

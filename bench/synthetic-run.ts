@@ -114,7 +114,7 @@ export async function buildSyntheticRun(o: SyntheticRunOptions): Promise<{ runDi
     await writeFile(join(datasetDir, `${ids[k]}-l.png`), png);
     await writeFile(join(datasetDir, `${ids[k]}-r.png`), png);
     await writeFile(join(datasetDir, `${ids[k]}-d.pfm`), encodePfm({ width: o.width, height: o.height, data: truth }));
-    const regions = buildRegions(truth, toLuminance(left), undefined, o.width, o.height, DEFAULT_REGION_PARAMS);
+    const regions = buildRegions({ truth: truth, leftGray: toLuminance(left), width: o.width, height: o.height }, DEFAULT_REGION_PARAMS);
     if (o.pairPreviews !== false) await writePairPreview(runDir, 'dock-yard', resultIds[k], left, regions);
     for (const c of o.configs) {
       const failed = c.failEvery !== undefined && (k + 1) % c.failEvery === 0;

@@ -11,6 +11,10 @@ export interface PairEntry {
   readonly right: string;
   readonly truth: string;
   readonly occlusion?: string;
+  /** Mask of pixels that leave every region (the pair's own, else the dataset's). */
+  readonly ignore?: string;
+  /** The user's own regions: name -> mask file (the dataset's, with the pair's added). */
+  readonly masks?: Readonly<Record<string, string>>;
   readonly camera?: Camera;
   readonly group?: string;
   /** Index within the group's sequence. */
@@ -41,6 +45,12 @@ export interface LoadedPair {
   readonly truth: DisparityMap;
   /** Non-zero = occluded in the right view; undefined when the dataset has no mask. */
   readonly occlusion?: Uint8Array;
+  /** Non-zero = ignored (leaves every region). */
+  readonly ignore?: Uint8Array;
+  /** The user's own regions of the dataset, in order, with this pair's mask (absent: the pair has none). */
+  readonly masks?: readonly { readonly name: string; readonly data: Uint8Array | null }[];
+  /** The truth is sparse: regions are found from the known samples (dataset/regions.ts). */
+  readonly sparseTruth?: boolean;
   readonly camera?: Camera;
   readonly disparityRange: DisparityRange;
   readonly group?: string;

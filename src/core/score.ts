@@ -1,5 +1,5 @@
-import type { RegionId } from './regions.js';
 import type { ParamValue } from './params.js';
+import type { DepthProfile } from '../metrics/depth-profile.js';
 
 /**
  * Raw sums of one region of one pair. Everything the per-pair figures and the pooled
@@ -29,6 +29,15 @@ export interface RegionSums {
    * means; see src/metrics/score.ts. Optional for sums written before it existed.
    */
   depthFail?: number;
+  /**
+   * Depth rates: pixels with a true depth (d + cxShift > eps), and of those the ones with
+   * no valid positive predicted depth or a relative depth error above 1 %, 2 %, 5 %.
+   * Optional for sums written before they existed.
+   */
+  depthPixels?: number;
+  depthBad1?: number;
+  depthBad2?: number;
+  depthBad5?: number;
 }
 
 /** Figures of one region of one pair. null = empty (region empty or no valid prediction). */
@@ -44,6 +53,12 @@ export interface RegionFigures {
   quantiles: (number | null)[];
   depth_relerr: number | null;
   depth_rmse_m: number | null;
+  /** Median relative depth error (fraction) over the pixels of depth_relerr; not pooled. */
+  depth_relmed?: number | null;
+  /** % of the pixels with a true depth whose depth is missing or off by more than 1 %, 2 %, 5 %. */
+  depth_over1pct?: number | null;
+  depth_over2pct?: number | null;
+  depth_over5pct?: number | null;
   /**
    * Sparsification (src/metrics/sparsify.ts), present when the job has a confidence map:
    * means of the confidence and oracle curves (px), their difference, the clean share (%),
@@ -70,9 +85,16 @@ export interface RegionFigures {
 export interface RegionScore {
   figures: RegionFigures;
   sums: RegionSums;
+  /** By fine distance bin (src/metrics/depth-profile.ts); a region's whole view, with a camera. */
+  profile?: DepthProfile;
 }
 
-export type PairScore = Record<RegionId, RegionScore>;
+/**
+ * Scores by slice key (src/core/regions.ts, sliceKey): `visible` for the whole region,
+ * `visible@2-4m` within a depth band, for every region of the job's `regions` and band of
+ * its `bands`.
+ */
+export type PairScore = Record<string, RegionScore>;
 
 
 /** One line of results.jsonl: one pair scored for one matcher configuration. */
@@ -100,8 +122,12 @@ export interface JobResult {
   peak_mb: number | null;
   /** Served from the result cache. */
   cached?: boolean;
-  /** Per region figures and sums. A failed job is scored as all-invalid. */
+  /** Per slice figures and sums. A failed job is scored as all-invalid. */
   scores: PairScore;
+  /** Region names of the scores in order (built-ins, then the dataset's named regions); absent = the built-ins. */
+  regions?: string[];
+  /** Depth band labels of the scores, nearest first; absent = none. */
+  bands?: string[];
   /** Thresholds used for the rates, in order. */
   thresholds: number[];
   /** Quantile levels (%) of figures.quantiles, in order. */

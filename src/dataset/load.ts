@@ -6,6 +6,7 @@
  */
 import { InputError } from '../core/errors.js';
 import { toLuminance } from '../core/image.js';
+import { depthToDisparityInPlace } from '../core/camera.js';
 import type { LoadedPair, PairEntry } from '../core/pair.js';
 import { readDisparityFile, readImageFile, readMaskFile } from '../io/files.js';
 import type { Manifest } from './manifest.js';
@@ -47,13 +48,23 @@ export async function loadPair(m: Manifest, entry: PairEntry, opts: LoadPairOpti
   assertSameSize(entry.left, left, entry.right, right);
   const truth = await readDisparityFile(entry.truth, truthReadOptions(m, opts.maxPixels));
   assertSameSize(entry.left, left, entry.truth, truth);
-  let occlusion: Uint8Array | undefined;
-  if (entry.occlusion) {
-    const mask = await readMaskFile(entry.occlusion, po);
-    assertSameSize(entry.left, left, entry.occlusion, mask);
-    occlusion = mask.data;
-  }
   const camera = pairCamera(m, entry);
+  if (m.truthKind === 'depth') {
+    if (!camera) throw new InputError(m.file, `depth truth of pair ${entry.id} needs a camera`);
+    depthToDisparityInPlace(truth.data, camera, m.depthUnit ?? 'm');
+  }
+  const mask = async (file: string): Promise<Uint8Array> => {
+    const got = await readMaskFile(file, po);
+    assertSameSize(entry.left, left, file, got);
+    return got.data;
+  };
+  const occlusion = entry.occlusion ? await mask(entry.occlusion) : undefined;
+  const ignore = entry.ignore ? await mask(entry.ignore) : undefined;
+  const masks: { name: string; data: Uint8Array | null }[] = [];
+  for (const name of m.regionNames) {
+    const file = entry.masks?.[name];
+    masks.push({ name, data: file !== undefined ? await mask(file) : null });
+  }
   return {
     dataset: m.name,
     id: entry.id,
@@ -65,6 +76,9 @@ export async function loadPair(m: Manifest, entry: PairEntry, opts: LoadPairOpti
     rightGray: toLuminance(right),
     truth,
     ...(occlusion ? { occlusion } : {}),
+    ...(ignore ? { ignore } : {}),
+    ...(masks.length ? { masks } : {}),
+    ...(m.sparseTruth ? { sparseTruth: true } : {}),
     ...(camera ? { camera } : {}),
     disparityRange: m.disparityRange,
     ...(entry.group !== undefined ? { group: entry.group } : {}),

@@ -3,8 +3,9 @@
  *
  * Every problem is reported as one line that names the manifest file and, for a
  * schema problem, the field path (e.g. `pairs[2].truth`). Paths inside the manifest
- * are relative to its folder and may not leave it, neither lexically nor after
- * following symbolic links.
+ * are relative to its data folder (the manifest's folder, or `dataRoot`, or the
+ * `--data-root` option) and may not leave it, neither lexically nor after following
+ * symbolic links.
  */
 import { readFileSync, realpathSync, statSync } from 'node:fs';
 import { dirname, extname, isAbsolute, join, relative, resolve, sep } from 'node:path';
@@ -14,6 +15,7 @@ import { InputError } from '../core/errors.js';
 import type { DisparityRange, PairEntry } from '../core/pair.js';
 import { issueText, type ZodIssueLike } from '../core/text.js';
 import { byCodeUnits } from '../core/order.js';
+import { REGION_IDS } from '../core/regions.js';
 export { formatFieldPath, issueMessage, issueText, type ZodIssueLike } from '../core/text.js';
 
 export const MANIFEST_FILE = 'dataset.json';
@@ -31,12 +33,20 @@ const cameraSchema = z.strictObject({
 
 const relPath = z.string().min(1, 'must be a non-empty path');
 
+/** Names of the user's own regions: plain words that cannot be taken for a built-in one. */
+export const MASK_NAME_PATTERN = /^[a-z][a-z0-9_-]{0,31}$/;
+const maskMap = z.record(z.string().regex(MASK_NAME_PATTERN, 'region names are 1-32 lower-case letters, digits, "_" or "-", starting with a letter'), relPath);
+
 const pairSchema = z.strictObject({
   id: z.string().regex(PAIR_ID_PATTERN, 'must be 1-128 letters, digits, ".", "_" or "-", starting with a letter or digit'),
   left: relPath,
   right: relPath,
   truth: relPath,
   occlusion: relPath.optional(),
+  /** Pixels that leave every region (the vehicle's own body, a sky band): non-zero = ignored. */
+  ignore: relPath.optional(),
+  /** The user's own regions: name -> mask file (non-zero = in the region). */
+  masks: maskMap.optional(),
   camera: cameraSchema.optional(),
   group: z.string().min(1).optional(),
   /** Index of the pair within its group's sequence (consecutive frames give flicker). */
@@ -48,6 +58,16 @@ export const manifestSchema = z.strictObject({
   name: z.string().regex(PAIR_ID_PATTERN, 'must be 1-128 letters, digits, ".", "_" or "-", starting with a letter or digit'),
   description: z.string().optional(),
   camera: cameraSchema.optional(),
+  /** The folder the paths are relative to: absolute, or relative to the manifest's folder. */
+  dataRoot: z.string().min(1).optional(),
+  /** What the truth files hold: disparity in px (default) or depth (needs a camera). */
+  truthKind: z.enum(['disparity', 'depth']).default('disparity'),
+  /** Unit of depth truth (and of depth predictions that do not say otherwise). */
+  depthUnit: z.enum(['m', 'mm']).optional(),
+  /** The truth is sparse (a lidar): no limit on its unknown share, regions found from the known samples. */
+  sparseTruth: z.boolean().default(false),
+  ignore: relPath.optional(),
+  masks: maskMap.optional(),
   disparityRange: z
     .tuple([finite, finite])
     .refine(([a, b]) => a <= b, 'must be [min, max] with min <= max'),
@@ -66,15 +86,25 @@ export type ManifestJson = z.infer<typeof manifestSchema>;
  * A loaded manifest: the schema's fields, with the file and folder it was read from and
  * the pairs' paths resolved to absolute paths (PairEntry: the schema's pair, resolved).
  */
-export type Manifest = Readonly<Omit<ManifestJson, 'pairs' | 'disparityRange'>> & {
+export type Manifest = Readonly<Omit<ManifestJson, 'pairs' | 'disparityRange' | 'ignore' | 'masks'>> & {
   /** Absolute path of the manifest file. */
   readonly file: string;
-  /** Absolute folder of the manifest (paths are relative to it). */
+  /** Absolute data folder: the paths are relative to it (the manifest's folder unless dataRoot or --data-root says otherwise). */
   readonly dir: string;
   readonly disparityRange: DisparityRange;
   /** Pairs in manifest order, paths resolved to absolute paths. */
   readonly pairs: readonly PairEntry[];
+  /** The user's own region names over all pairs (dataset-level and pair masks), sorted. */
+  readonly regionNames: readonly string[];
 };
+
+/** At most this many named regions (mask files) per dataset: each is a bit of the region map. */
+export const MAX_USER_REGIONS = 8;
+
+export interface ManifestOptions {
+  /** The data folder, overriding the manifest's dataRoot (the `--data-root` option). */
+  dataRoot?: string;
+}
 
 /** Resolve a folder or a file argument to the manifest file path. */
 export function manifestPath(pathOrDir: string): string {
@@ -131,7 +161,7 @@ export interface ManifestValidation {
  * paths leaving the folder, PNG truth without truthEncoding) instead of stopping at
  * the first; `manifest` is set only when there is none.
  */
-export function validateManifest(text: string, file: string): ManifestValidation {
+export function validateManifest(text: string, file: string, opts: ManifestOptions = {}): ManifestValidation {
   const problems: string[] = [];
   let json: unknown;
   try {
@@ -147,12 +177,34 @@ export function validateManifest(text: string, file: string): ManifestValidation
     return { problems };
   }
   const m = parsed.data;
-  const dir = dirname(resolve(file));
+  const manifestDir = dirname(resolve(file));
+  const dir = opts.dataRoot !== undefined ? resolve(opts.dataRoot) : m.dataRoot !== undefined ? resolve(manifestDir, m.dataRoot) : manifestDir;
   let realDir = dir;
   try {
     realDir = realpathSync(dir);
   } catch {
-    /* keep lexical */
+    problems.push(opts.dataRoot !== undefined ? `--data-root: no such folder "${opts.dataRoot}"` : `field dataRoot: no such folder "${m.dataRoot ?? dir}"`);
+  }
+  const inside = (field: string, v: string): string | undefined => {
+    const r = resolveInside(dir, realDir, v);
+    if ('problem' in r) {
+      problems.push(`field ${field}: ${r.problem}`);
+      return undefined;
+    }
+    return r.path;
+  };
+  const datasetIgnore = m.ignore !== undefined ? inside('ignore', m.ignore) : undefined;
+  const datasetMasks: Record<string, string> = {};
+  for (const [name, v] of Object.entries(m.masks ?? {})) {
+    const r = inside(`masks.${name}`, v);
+    if (r !== undefined) datasetMasks[name] = r;
+  }
+  const regionNames = new Set(Object.keys(m.masks ?? {}));
+  if (m.truthKind === 'depth') {
+    if (m.depthUnit === undefined) problems.push('field depthUnit: required when truthKind is "depth" ("m" or "mm")');
+    m.pairs.forEach((p, i) => {
+      if (!p.camera && !m.camera) problems.push(`field pairs[${i}].camera: depth truth needs a camera (focalPx, baselineM) for pair ${p.id}, here or at the dataset level`);
+    });
   }
   const seen = new Map<string, number>();
   const frames = new Map<string, number>();
@@ -168,36 +220,53 @@ export function validateManifest(text: string, file: string): ManifestValidation
       else if (other !== undefined) problems.push(`field pairs[${i}].frame: frame ${p.frame} of group "${p.group}" is also pairs[${other}]`);
       else frames.set(key, i);
     }
-    const fields = ['left', 'right', 'truth', 'occlusion'] as const;
+    const fields = ['left', 'right', 'truth', 'occlusion', 'ignore'] as const;
     const out: Record<string, string> = {};
     for (const f of fields) {
       const v = p[f];
       if (v === undefined) continue;
-      const r = resolveInside(dir, realDir, v);
-      if ('problem' in r) problems.push(`field pairs[${i}].${f}: ${r.problem}`);
-      else out[f] = r.path;
+      const r = inside(`pairs[${i}].${f}`, v);
+      if (r !== undefined) out[f] = r;
+    }
+    const masks: Record<string, string> = { ...datasetMasks };
+    for (const [name, v] of Object.entries(p.masks ?? {})) {
+      regionNames.add(name);
+      const r = inside(`pairs[${i}].masks.${name}`, v);
+      if (r !== undefined) masks[name] = r;
     }
     if (extname(p.truth).toLowerCase() === '.png' && m.truthEncoding === undefined) {
       problems.push(`field truthEncoding: required for PNG truth "${p.truth}" (pair ${p.id}); give its scale`);
     }
+    const ignore = out.ignore ?? datasetIgnore;
     pairs.push({
       id: p.id,
       left: out.left ?? '',
       right: out.right ?? '',
       truth: out.truth ?? '',
       ...(out.occlusion !== undefined ? { occlusion: out.occlusion } : {}),
+      ...(ignore !== undefined ? { ignore } : {}),
+      ...(Object.keys(masks).length ? { masks } : {}),
       ...(p.camera ? { camera: p.camera } : {}),
       ...(p.group !== undefined ? { group: p.group } : {}),
       ...(p.frame !== undefined ? { frame: p.frame } : {}),
       ...(p.tags ? { tags: p.tags } : {}),
     });
   });
+  for (const name of regionNames) {
+    if ((REGION_IDS as readonly string[]).includes(name)) problems.push(`field masks.${name}: "${name}" is a built-in region; give your region another name`);
+  }
+  if (regionNames.size > MAX_USER_REGIONS) problems.push(`field masks: ${regionNames.size} named regions, at most ${MAX_USER_REGIONS} are supported`);
   const manifest: Manifest = {
     file: resolve(file),
     dir,
     name: m.name,
     ...(m.description !== undefined ? { description: m.description } : {}),
     ...(m.camera ? { camera: m.camera } : {}),
+    ...(m.dataRoot !== undefined ? { dataRoot: m.dataRoot } : {}),
+    truthKind: m.truthKind,
+    ...(m.depthUnit !== undefined ? { depthUnit: m.depthUnit } : {}),
+    sparseTruth: m.sparseTruth,
+    regionNames: [...regionNames].sort(byCodeUnits),
     disparityRange: [m.disparityRange[0], m.disparityRange[1]],
     ...(m.truthEncoding ? { truthEncoding: m.truthEncoding } : {}),
     pairs,
@@ -219,10 +288,10 @@ export function readManifestBytes(file: string): Buffer {
  * Load a manifest from a dataset folder (reads its dataset.json) or a manifest file.
  * Throws an InputError (one line, naming the file and the field) on the first problem.
  */
-export function loadManifest(pathOrDir: string): Manifest {
+export function loadManifest(pathOrDir: string, opts: ManifestOptions = {}): Manifest {
   const file = manifestPath(pathOrDir);
   const bytes = readManifestBytes(file);
-  const v = validateManifest(bytes.toString('utf8'), file);
+  const v = validateManifest(bytes.toString('utf8'), file, opts);
   if (!v.manifest) {
     const first = v.problems[0] ?? 'invalid manifest';
     const more = v.problems.length > 1 ? ` (and ${v.problems.length - 1} more problem${v.problems.length > 2 ? 's' : ''}; see \`parallax dataset check\`)` : '';

@@ -33,53 +33,124 @@
  *
  * All inputs are flat row-major arrays of width * height values.
  */
-import { REGION_BIT, type RegionMap, type RegionParams } from '../core/regions.js';
+import { NO_DEPTH_BIN, REGION_BIT, REGION_IDS, type RegionMap, type RegionParams } from '../core/regions.js';
 import type { LoadedPair } from '../core/pair.js';
+import { DEFAULT_DEPTH_EPS, type Camera } from '../core/camera.js';
 import { UsageError } from '../core/errors.js';
+import { PROFILE_BINS_PER_OCTAVE, bandIndexOf, bandLabels } from '../core/depth-bands.js';
 import { deriveOcclusion } from './occlusion.js';
+import { nearestFill } from './sparse.js';
 
-export function buildRegions(
-  truth: Float32Array,
-  leftGray: Float32Array,
-  occlusion: Uint8Array | undefined,
-  width: number,
-  height: number,
-  params: RegionParams,
-): RegionMap {
+/** What the regions of one pair are built from (flat row-major arrays of width * height). */
+export interface RegionInput {
+  readonly truth: Float32Array;
+  readonly leftGray: Float32Array;
+  readonly width: number;
+  readonly height: number;
+  /** Non-zero = occluded; derived from the truth when absent. */
+  readonly occlusion?: Uint8Array | undefined;
+  /** Non-zero = ignored: such pixels leave every region. */
+  readonly ignore?: Uint8Array | undefined;
+  /** The user's named regions in bit order after the built-ins; a null mask = none in this pair. */
+  readonly masks?: readonly { readonly name: string; readonly data: Uint8Array | null }[] | undefined;
+  /** Sparse truth: jump and occlusion are derived from the truth filled by its nearest known sample. */
+  readonly sparse?: boolean | undefined;
+  /** With a camera, the true depth gives each pixel its band (of `bandEdges`) and fine depth bin. */
+  readonly camera?: Camera | undefined;
+  readonly bandEdges?: readonly number[] | undefined;
+  /** Truth with d + cxShiftPx <= this (px) has no true depth (default DEFAULT_DEPTH_EPS). */
+  readonly depthEps?: number | undefined;
+}
+
+
+/** The regions of one pair (see the file comment for every definition). */
+export function buildRegions(input: RegionInput, params: RegionParams): RegionMap {
+  const { truth, leftGray, width, height } = input;
   const n = width * height;
   if (!Number.isInteger(width) || !Number.isInteger(height) || width <= 0 || height <= 0) {
     throw new RangeError(`buildRegions: bad size ${width}x${height}`);
   }
-  if (truth.length !== n || leftGray.length !== n || (occlusion !== undefined && occlusion.length !== n)) {
+  const sized = (a: { length: number } | null | undefined): boolean => a === undefined || a === null || a.length === n;
+  if (truth.length !== n || leftGray.length !== n || !sized(input.occlusion) || !sized(input.ignore) || !(input.masks ?? []).every((m) => sized(m.data))) {
     throw new RangeError(`buildRegions: array sizes do not match ${width}x${height}`);
   }
   checkRegionParams(params);
+  const masks = input.masks ?? [];
+  if (REGION_IDS.length + masks.length > 16) throw new RangeError(`buildRegions: ${masks.length} named regions, at most ${16 - REGION_IDS.length}`);
 
-  const occ = occlusion ?? deriveOcclusion(truth, width, height, params.occlusionTol, params.occlusionTau);
+  // Sparse truth: the shape of the scene (jumps, occluders) from the nearest known sample.
+  const shape = input.sparse ? nearestFill(truth, width, height) : truth;
+  const occ = input.occlusion ?? deriveOcclusion(shape, width, height, params.occlusionTol, params.occlusionTau);
   const flat = flatMask(leftGray, width, height, params.flatWindow, params.flatThreshold);
-  const jump = jumpMask(truth, width, height, params.jumpGap, params.jumpRadius);
+  const jump = jumpMask(shape, width, height, params.jumpGap, params.jumpRadius);
 
   const VIS = REGION_BIT.known | REGION_BIT.visible;
   const OCC = REGION_BIT.known | REGION_BIT.occluded;
   const FLAT = REGION_BIT.flat;
   const JUMP = REGION_BIT.jump;
-  const bits = new Uint8Array(n);
+  const ignore = input.ignore;
+  const bits = new Uint16Array(n);
   for (let i = 0; i < n; i++) {
     const d = truth[i];
     if (!(d - d === 0)) continue; // NaN or infinite: unknown
+    if (ignore !== undefined && ignore[i] !== 0) continue;
     if (occ[i] !== 0) {
       bits[i] = OCC;
     } else {
       bits[i] = VIS | (flat[i] !== 0 ? FLAT : 0) | (jump[i] !== 0 ? JUMP : 0);
     }
   }
-  return { width, height, bits };
+  masks.forEach((m, k) => {
+    if (m.data === null) return;
+    const bit = 1 << (REGION_IDS.length + k);
+    const data = m.data;
+    for (let i = 0; i < n; i++) if (bits[i] !== 0 && data[i] !== 0) bits[i] |= bit;
+  });
+  const names = [...REGION_IDS, ...masks.map((m) => m.name)];
+  if (!input.camera) return { width, height, bits, names, band: null, bands: [], zbin: null };
+  const depth = depthLayers(truth, bits, input.camera, input.bandEdges ?? [], input.depthEps ?? DEFAULT_DEPTH_EPS);
+  return { width, height, bits, names, ...depth };
 }
 
-/** Throws a UsageError naming the offending RegionParams field. */
-/** Regions of a loaded pair: the manifest's occlusion mask, or one derived from the truth. */
-export function pairRegions(pair: LoadedPair, p: { regions: RegionParams }): RegionMap {
-  return buildRegions(pair.truth.data, pair.leftGray, pair.occlusion, pair.width, pair.height, p.regions);
+/**
+ * Band index and fine depth bin of every pixel in a region, from its true depth
+ * Z = fB / (d + cxShift) (none where d + cxShift <= eps).
+ */
+function depthLayers(truth: Float32Array, bits: Uint16Array, cam: Camera, edges: readonly number[], eps: number): Pick<RegionMap, 'band' | 'bands' | 'zbin'> {
+  const n = truth.length;
+  const fb = cam.focalPx * cam.baselineM;
+  const shift = cam.cxShiftPx;
+  const band = edges.length ? new Uint8Array(n) : null;
+  const zbin = new Int16Array(n).fill(NO_DEPTH_BIN);
+  for (let i = 0; i < n; i++) {
+    if (bits[i] === 0) continue;
+    const dt = truth[i] + shift;
+    if (!(dt > eps)) continue;
+    const z = fb / dt;
+    if (band !== null) band[i] = bandIndexOf(z, edges);
+    const k = Math.floor(PROFILE_BINS_PER_OCTAVE * Math.log2(z));
+    zbin[i] = k < -32767 ? -32767 : k > 32767 ? 32767 : k;
+  }
+  return { band, bands: bandLabels(edges), zbin };
+}
+
+/** Regions of a loaded pair: the manifest's masks, or ones derived from the truth; bands with a camera. */
+export function pairRegions(pair: LoadedPair, p: { regions: RegionParams; depthBands?: readonly number[] }): RegionMap {
+  return buildRegions(
+    {
+      truth: pair.truth.data,
+      leftGray: pair.leftGray,
+      width: pair.width,
+      height: pair.height,
+      occlusion: pair.occlusion,
+      ignore: pair.ignore,
+      masks: pair.masks,
+      sparse: pair.sparseTruth,
+      camera: pair.camera,
+      bandEdges: p.depthBands,
+    },
+    p.regions,
+  );
 }
 
 export function checkRegionParams(p: RegionParams): void {

@@ -36,6 +36,8 @@ export const predictionSourceSchema = z.object({
   scale: z.number().optional(),
   /** PNG code for "no answer" (default 0). */
   invalid: z.number().optional(),
+  /** The files hold depth in this unit (converted with the pair's camera), not disparity. */
+  depthUnit: z.enum(['m', 'mm']).optional(),
 });
 
 /** What a run measures (command line or experiment file), as stored for --resume. */
@@ -61,6 +63,12 @@ export const runSettingsSchema = z.object({
   baseDir: z.string(),
   /** Per-job time limit of command-line module plugins, ms (`--module-timeout`). */
   moduleTimeoutMs: z.number().optional(),
+  /** Depth band edges in metres (`--depth-bands`); absent = the default from the data's depth range. */
+  depthBands: z.array(z.number()).optional(),
+  /** The usable range's rule (`--usable-range`), e.g. `depth_over5pct<=10`; absent = that default. */
+  usableRange: z.string().optional(),
+  /** Data folder of every dataset (`--data-root`), absolute; absent = each manifest's own. */
+  dataRoot: z.string().optional(),
 });
 
 const configRecord = z.object({
@@ -79,10 +87,12 @@ const configRecord = z.object({
       command: z.array(z.string()).optional(),
       /** Module plugins: the per-job time limit, ms. */
       timeoutMs: z.number().optional(),
-      predictions: z.object({ dir: z.string(), scale: z.number().optional(), invalid: z.number().optional() }).optional(),
+      predictions: z.object({ dir: z.string(), scale: z.number().optional(), invalid: z.number().optional(), depthUnit: z.enum(['m', 'mm']).optional() }).optional(),
     }),
   ),
-  datasets: z.array(z.object({ name: z.string(), path: z.string(), manifest: z.string(), hash: z.string(), pairs: z.number() })),
+  datasets: z.array(z.object({ name: z.string(), path: z.string(), manifest: z.string(), hash: z.string(), pairs: z.number(), dataRoot: z.string().optional() })),
+  /** Depth band edges used (metres); absent = no bands. */
+  depthBands: z.array(z.number()).optional(),
 });
 
 export const runRecordSchema = z.object({

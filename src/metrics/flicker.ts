@@ -9,40 +9,42 @@
  * (finite) predictions in both, so that real motion in the truth is not counted. null
  * when no pixel qualifies.
  */
-import { REGION_BIT, REGION_IDS, type RegionId } from '../core/regions.js';
+import { REGION_BIT, mapSlices, patternTable, type RegionMap } from '../core/regions.js';
 
-/** One frame as flicker needs it: prediction, truth and region bits (same size for both frames). */
+/** One frame as flicker needs it: prediction, truth and regions (same size for both frames). */
 export interface FrameMaps {
   readonly pred: Float32Array;
   readonly truth: Float32Array;
-  readonly bits: Uint8Array;
+  readonly regions: RegionMap;
 }
 
-export function flickerByRegion(a: FrameMaps, b: FrameMaps): Record<RegionId, number | null> {
-  const n = b.bits.length;
-  const out = {} as Record<RegionId, number | null>;
-  const sums = new Float64Array(256);
-  const counts = new Float64Array(256);
-  if (a.bits.length === n) {
+/** Flicker of frame b against the previous frame a, per slice of b's regions (by slice key). */
+export function flickerBySlice(a: FrameMaps, b: FrameMaps): Record<string, number | null> {
+  const tb = patternTable(b.regions);
+  const codes = tb.codes;
+  const prev = a.regions.bits;
+  const n = codes.length;
+  const out: Record<string, number | null> = {};
+  const sums = new Float64Array(tb.count);
+  const counts = new Float64Array(tb.count);
+  if (prev.length === n) {
     for (let p = 0; p < n; p++) {
-      const bits = b.bits[p];
-      if (bits === 0 || (a.bits[p] & REGION_BIT.known) === 0) continue;
+      const c = codes[p];
+      if (c === 0 || (prev[p] & REGION_BIT.known) === 0) continue;
       const v = b.pred[p] - a.pred[p] - (b.truth[p] - a.truth[p]);
       if (!Number.isFinite(v)) continue;
-      sums[bits] += Math.abs(v);
-      counts[bits]++;
+      sums[c] += Math.abs(v);
+      counts[c]++;
     }
   }
-  for (const id of REGION_IDS) {
-    const bit = REGION_BIT[id];
+  for (const sl of mapSlices(b.regions)) {
     let s = 0;
     let c = 0;
-    for (let k = 1; k < 256; k++) {
-      if ((k & bit) === 0) continue;
+    for (const k of sl.patterns) {
       s += sums[k];
       c += counts[k];
     }
-    out[id] = c > 0 ? s / c : null;
+    out[sl.key] = c > 0 ? s / c : null;
   }
   return out;
 }

@@ -45,26 +45,31 @@
  * statistics including quantiles (read-modify-write chains through memory per pixel).
  * Whole-pair figures: bench/scoring.ts.
  */
-import { REGION_BIT, REGION_IDS, type RegionMap } from '../core/regions.js';
+import { mapSlices, patternTable, type PatternTable, type RegionMap } from '../core/regions.js';
 import type { PairScore, RegionFigures, RegionSums } from '../core/score.js';
+import { DEFAULT_DEPTH_EPS } from '../core/camera.js';
 import type { MetricSet } from './catalogue.js';
 import type { ScoreOptions } from './types.js';
-import { groupStats } from './segment-stats.js';
+import { groupStats, type SegmentStats } from './segment-stats.js';
 import { regionSparsify } from './sparsify.js';
-import { subpixelByRegion } from './subpixel.js';
+import { subpixelBySlice } from './subpixel.js';
+import { DepthProfiler } from './depth-profile.js';
 
-/** Default opts.depthEps (px): truth with d + cxShift <= this is left out of depth. */
-export const DEFAULT_DEPTH_EPS = 1e-6;
+export { DEFAULT_DEPTH_EPS };
+
+/** The shares of the true depth above which a depth error counts in depth_over1pct, depth_over2pct, depth_over5pct. */
+export const DEPTH_RATE_SHARES: readonly number[] = [0.01, 0.02, 0.05];
 
 let valsBuf = new Float64Array(0);
+let relBuf = new Float64Array(0);
 
 /**
- * Score one prediction against the truth, per region. With a confidence map (same size,
- * higher = more trusted) the figures also carry sparsification (sparsify.ts).
+ * Score one prediction against the truth, per slice (each region whole and within each
+ * depth band of the map). With a confidence map (same size, higher = more trusted) the
+ * figures also carry sparsification (sparsify.ts).
  */
 export function scorePair(pred: Float32Array | null, truth: Float32Array, regions: RegionMap, opts: ScoreOptions, confidence: Float32Array | null = null): PairScore {
-  const bits = regions.bits;
-  const n = bits.length;
+  const n = regions.bits.length;
   if (confidence !== null && confidence.length !== n) throw new RangeError(`scorePair: confidence has ${confidence.length} values, the regions ${n}`);
   if (truth.length !== n || (pred !== null && pred.length !== n)) {
     throw new RangeError(
@@ -79,54 +84,69 @@ export function scorePair(pred: Float32Array | null, truth: Float32Array, region
     if (!(q >= 0 && q <= 100)) throw new RangeError(`scorePair: quantile level ${q} % is not in [0, 100]`);
   }
   const levels = opts.quantiles.map((q) => q / 100);
+  const table = patternTable(regions);
+  const P = table.count;
 
-  // Pass 1: pixels per pattern, and the partition offsets of the error buffer.
-  const count = countPatterns(bits);
-  const start = new Int32Array(256);
-  const pos = new Int32Array(256);
+  // Pass 1: pixels per pattern, and the partition offsets of the error buffers.
+  const count = countPatterns(table.codes, P);
+  const start = new Int32Array(P);
+  const pos = new Int32Array(P);
+  const relPos = new Int32Array(P);
   let total = 0;
-  for (let b = 1; b < 256; b++) {
+  for (let b = 1; b < P; b++) {
     start[b] = total;
     pos[b] = total;
+    relPos[b] = total;
     total += count[b];
   }
   if (valsBuf.length < total) valsBuf = new Float64Array(total);
-  const vals = valsBuf;
-
-  const depth: DepthSums = { count: new Float64Array(256), rel: new Float64Array(256), sq: new Float64Array(256), fail: new Float64Array(256) };
+  const depth: DepthSums = { truthCount: new Float64Array(P), sq: new Float64Array(P), fail: new Float64Array(P) };
+  const profiler = opts.camera && regions.zbin ? new DepthProfiler(regions, table) : null;
 
   // Pass 2: signed errors of valid predictions into their pattern's partition.
   if (pred === null) {
-    // failed job: nothing valid
+    if (opts.camera) countTruthDepth(truth, table.codes, depth.truthCount, depthConstants(opts.camera, opts.depthEps), profiler);
   } else if (opts.camera) {
-    collectWithDepth(pred, truth, bits, vals, pos, { ...depthConstants(opts.camera, opts.depthEps), ...depth });
+    if (relBuf.length < total) relBuf = new Float64Array(total);
+    collectWithDepth(pred, truth, table.codes, valsBuf, pos, relBuf, relPos, depth, depthConstants(opts.camera, opts.depthEps), profiler);
   } else {
-    collect(pred, truth, bits, vals, pos);
+    collect(pred, truth, table.codes, valsBuf, pos);
   }
 
-  // Per region: the union of the partitions of the patterns that contain its bit.
-  const segs = regionSegments(start, pos);
-  const stats = groupStats(vals, segs.start, segs.end, segs.member, segs.n, REGION_IDS.length, thresholds, levels);
+  const slices = mapSlices(regions);
+  const nGroups = regions.names.length;
+  const views = regions.bands.length + 1;
+  const byView: { err: SegmentStats[]; rel: SegmentStats[] | null }[] = [];
+  for (let v = 0; v < views; v++) {
+    const segs = viewSegments(table, v, start, pos);
+    const err = groupStats(valsBuf, segs.start, segs.end, segs.member, segs.n, nGroups, thresholds, levels);
+    let rel: SegmentStats[] | null = null;
+    if (opts.camera && pred !== null) {
+      const rs = viewSegments(table, v, start, relPos);
+      rel = groupStats(relBuf, rs.start, rs.end, rs.member, rs.n, nGroups, DEPTH_RATE_SHARES, [0.5]);
+    }
+    byView.push({ err, rel });
+  }
 
-  const subpix = pred !== null ? subpixelByRegion(pred, truth, bits) : {};
-  const out = {} as PairScore;
-  REGION_IDS.forEach((id, g) => {
-    const bit = REGION_BIT[id];
+  const subpix = pred !== null ? subpixelBySlice(pred, truth, regions) : {};
+  const profiles = profiler?.byRegion() ?? null;
+  const out: PairScore = {};
+  for (const sl of slices) {
     let pixels = 0;
-    let depthCount = 0;
-    let depthSumRel = 0;
+    let truthCount = 0;
     let depthSumSq = 0;
     let depthFail = 0;
-    for (let b = 1; b < 256; b++) {
-      if ((b & bit) === 0 || count[b] === 0) continue;
+    for (const b of sl.patterns) {
       pixels += count[b];
-      depthCount += depth.count[b];
-      depthSumRel += depth.rel[b];
+      truthCount += depth.truthCount[b];
       depthSumSq += depth.sq[b];
       depthFail += depth.fail[b];
     }
-    const st = stats[g];
+    const st = byView[sl.view].err[sl.regionIndex];
+    const rel = byView[sl.view].rel?.[sl.regionIndex] ?? null;
     const invalid = pixels - st.count;
+    const depthCount = rel ? rel.count : 0;
+    const noDepth = truthCount - depthCount; // true depth, but no valid positive predicted depth
     const s: RegionSums = {
       pixels,
       valid: st.count,
@@ -135,31 +155,46 @@ export function scorePair(pred: Float32Array | null, truth: Float32Array, region
       sumErr: st.sum,
       bad: st.above.map((c) => c + invalid),
       depthCount,
-      depthSumRel,
+      depthSumRel: rel ? rel.sumAbs : 0,
       depthSumSq,
       depthFail,
+      depthPixels: opts.camera ? truthCount : 0,
+      depthBad1: opts.camera ? noDepth + (rel?.above[0] ?? 0) : 0,
+      depthBad2: opts.camera ? noDepth + (rel?.above[1] ?? 0) : 0,
+      depthBad5: opts.camera ? noDepth + (rel?.above[2] ?? 0) : 0,
     };
-    out[id] = { sums: s, figures: figuresFromSums(s, opts, st.quantiles) };
-    const sp = subpix[id];
-    if (sp) Object.assign(out[id].figures, sp);
+    const figures = figuresFromSums(s, opts, st.quantiles);
+    figures.depth_relmed = rel?.quantiles?.[0] ?? null;
+    out[sl.key] = { sums: s, figures };
+    const sp = subpix[sl.key];
+    if (sp) Object.assign(figures, sp);
     if (pred !== null && confidence !== null) {
-      const sp = regionSparsify(pred, truth, confidence, bits, bit);
-      if (sp) Object.assign(out[id].figures, sp);
+      const f = regionSparsify(pred, truth, confidence, table, sl.patterns);
+      if (f) Object.assign(figures, sl.view === 0 ? f : { conf_auc: f.conf_auc, conf_oracle_auc: f.conf_oracle_auc, conf_gap: f.conf_gap, conf_clean_share: f.conf_clean_share });
     }
-  });
+    if (profiles && sl.view === 0) {
+      const prof = profiles[sl.regionIndex];
+      if (prof) out[sl.key].profile = prof;
+    }
+  }
   return out;
 }
 
-/** Per-pattern depth sums: pixels in the depth means, sum of relative errors, sum of squared errors, failures. */
+/** Per-pattern depth sums: pixels with a true depth, sum of squared depth errors, failures. */
 interface DepthSums {
-  count: Float64Array;
-  rel: Float64Array;
+  truthCount: Float64Array;
   sq: Float64Array;
   fail: Float64Array;
 }
 
+interface DepthConstants {
+  fb: number;
+  shift: number;
+  eps: number;
+}
+
 /** fB, the disparity shift and the truth cut-off of the depth figures; a RangeError for a camera without a positive fB. */
-function depthConstants(cam: NonNullable<ScoreOptions['camera']>, depthEps: number | undefined): { fb: number; shift: number; eps: number } {
+function depthConstants(cam: NonNullable<ScoreOptions['camera']>, depthEps: number | undefined): DepthConstants {
   const fb = cam.focalPx * cam.baselineM;
   if (!(fb > 0) || !Number.isFinite(fb) || !Number.isFinite(cam.cxShiftPx)) {
     throw new RangeError('scorePair: camera needs focalPx * baselineM > 0 and a finite cxShiftPx');
@@ -168,22 +203,19 @@ function depthConstants(cam: NonNullable<ScoreOptions['camera']>, depthEps: numb
 }
 
 /**
- * The non-empty partitions as segments, each with the regions it belongs to as bits
- * (bit g = REGION_IDS[g]): segment = one pattern's partition [start, pos).
+ * The partitions [start, end) of the patterns of one view (band index, 0 = all) as
+ * segments, each with its region bits as the groups it belongs to.
  */
-function regionSegments(start: Int32Array, pos: Int32Array): { start: Int32Array; end: Int32Array; member: Int32Array; n: number } {
-  const segStart = new Int32Array(256);
-  const segEnd = new Int32Array(256);
-  const member = new Int32Array(256);
+function viewSegments(t: PatternTable, view: number, start: Int32Array, end: Int32Array): { start: Int32Array; end: Int32Array; member: Int32Array; n: number } {
+  const segStart = new Int32Array(t.count);
+  const segEnd = new Int32Array(t.count);
+  const member = new Int32Array(t.count);
   let n = 0;
-  for (let b = 1; b < 256; b++) {
-    if (pos[b] === start[b]) continue;
-    let m = 0;
-    for (let g = 0; g < REGION_IDS.length; g++) if ((b & REGION_BIT[REGION_IDS[g]]) !== 0) m |= 1 << g;
-    if (m === 0) continue;
+  for (let b = 1; b < t.count; b++) {
+    if (end[b] === start[b] || (view !== 0 && t.band[b] !== view)) continue;
     segStart[n] = start[b];
-    segEnd[n] = pos[b];
-    member[n] = m;
+    segEnd[n] = end[b];
+    member[n] = t.bits[b];
     n++;
   }
   return { start: segStart, end: segEnd, member, n };
@@ -214,7 +246,16 @@ export function figuresFromSums(sums: RegionSums, set: MetricSet, quantiles: rea
     quantiles: set.quantiles.map((_, k) => (q ? (q[k] ?? null) : null)),
     depth_relerr: depth ? sums.depthSumRel / sums.depthCount : null,
     depth_rmse_m: depth ? Math.sqrt(sums.depthSumSq / sums.depthCount) : null,
+    depth_relmed: null,
+    ...depthRates(sums),
   };
+}
+
+/** depth_over1pct, 2pct, 5pct from the sums: null without pixels that have a true depth. */
+function depthRates(s: RegionSums): Pick<RegionFigures, 'depth_over1pct' | 'depth_over2pct' | 'depth_over5pct'> {
+  const den = s.depthPixels ?? 0;
+  const rate = (bad: number | undefined): number | null => (den > 0 ? (100 * (bad ?? 0)) / den : null);
+  return { depth_over1pct: rate(s.depthBad1), depth_over2pct: rate(s.depthBad2), depth_over5pct: rate(s.depthBad5) };
 }
 
 /** All-zero sums for `nThresholds` thresholds. */
@@ -230,6 +271,10 @@ export function emptySums(nThresholds: number): RegionSums {
     depthSumRel: 0,
     depthSumSq: 0,
     depthFail: 0,
+    depthPixels: 0,
+    depthBad1: 0,
+    depthBad2: 0,
+    depthBad5: 0,
   };
 }
 
@@ -249,26 +294,30 @@ export function addSums(a: RegionSums, b: RegionSums): RegionSums {
     depthSumRel: a.depthSumRel + b.depthSumRel,
     depthSumSq: a.depthSumSq + b.depthSumSq,
     depthFail: (a.depthFail ?? 0) + (b.depthFail ?? 0),
+    depthPixels: (a.depthPixels ?? 0) + (b.depthPixels ?? 0),
+    depthBad1: (a.depthBad1 ?? 0) + (b.depthBad1 ?? 0),
+    depthBad2: (a.depthBad2 ?? 0) + (b.depthBad2 ?? 0),
+    depthBad5: (a.depthBad5 ?? 0) + (b.depthBad5 ?? 0),
   };
 }
 
-/** Pixels per region byte value; four tables break the increment chains of runs. */
-function countPatterns(bits: Uint8Array): Float64Array {
-  const c0 = new Int32Array(256);
-  const c1 = new Int32Array(256);
-  const c2 = new Int32Array(256);
-  const c3 = new Int32Array(256);
-  const n = bits.length;
+/** Pixels per pattern; four tables break the increment chains of runs. */
+function countPatterns(codes: Uint8Array | Uint16Array, P: number): Float64Array {
+  const c0 = new Int32Array(P);
+  const c1 = new Int32Array(P);
+  const c2 = new Int32Array(P);
+  const c3 = new Int32Array(P);
+  const n = codes.length;
   let i = 0;
   for (; i + 3 < n; i += 4) {
-    c0[bits[i]]++;
-    c1[bits[i + 1]]++;
-    c2[bits[i + 2]]++;
-    c3[bits[i + 3]]++;
+    c0[codes[i]]++;
+    c1[codes[i + 1]]++;
+    c2[codes[i + 2]]++;
+    c3[codes[i + 3]]++;
   }
-  for (; i < n; i++) c0[bits[i]]++;
-  const out = new Float64Array(256);
-  for (let b = 0; b < 256; b++) out[b] = c0[b] + c1[b] + c2[b] + c3[b];
+  for (; i < n; i++) c0[codes[i]]++;
+  const out = new Float64Array(P);
+  for (let b = 0; b < P; b++) out[b] = c0[b] + c1[b] + c2[b] + c3[b];
   return out;
 }
 
@@ -277,12 +326,12 @@ function countPatterns(bits: Uint8Array): Float64Array {
  * partition. The write pointer of the current pattern lives in a local while the pattern
  * stays the same (regions come in long runs), flushed when it changes.
  */
-function collect(pred: Float32Array, truth: Float32Array, bits: Uint8Array, vals: Float64Array, pos: Int32Array): void {
-  const n = bits.length;
+function collect(pred: Float32Array, truth: Float32Array, codes: Uint8Array | Uint16Array, vals: Float64Array, pos: Int32Array): void {
+  const n = codes.length;
   let cur = 0;
   let w = pos[0];
   for (let i = 0; i < n; i++) {
-    const b = bits[i];
+    const b = codes[i];
     if (b !== cur) {
       pos[cur] = w;
       cur = b;
@@ -295,74 +344,66 @@ function collect(pred: Float32Array, truth: Float32Array, bits: Uint8Array, vals
   pos[cur] = w;
 }
 
+/** A failed job with a camera: only the pixels with a true depth (every one of them a depth failure of the rates). */
+function countTruthDepth(truth: Float32Array, codes: Uint8Array | Uint16Array, truthCount: Float64Array, k: DepthConstants, profiler: DepthProfiler | null): void {
+  for (let i = 0; i < codes.length; i++) {
+    const b = codes[i];
+    if (b === 0 || !(truth[i] + k.shift > k.eps)) continue;
+    truthCount[b]++;
+    profiler?.truthOnly(i, b);
+  }
+}
+
 /**
- * Pass 2 with a camera: as collect, plus the depth sums of the current pattern in locals
- * (flushed when the pattern changes; measured 25 % faster than updating the per-pattern
- * arrays per pixel).
+ * Pass 2 with a camera: as collect, plus per pattern the relative depth errors (into a
+ * second partitioned buffer: their count, sum, rates and median come from groupStats),
+ * the squared depth errors, the pixels with a true depth and the depth failures.
+ * Zp - Zt = fB/dp - fB/dt = fB (dt - dp) / (dp dt); |Zp - Zt| / Zt = |dt - dp| / dp: one
+ * division instead of three, the same quantities as the file comment defines.
  */
 function collectWithDepth(
   pred: Float32Array,
   truth: Float32Array,
-  bits: Uint8Array,
+  codes: Uint8Array | Uint16Array,
   vals: Float64Array,
   pos: Int32Array,
-  d: DepthSums & { fb: number; shift: number; eps: number },
+  rels: Float64Array,
+  relPos: Int32Array,
+  d: DepthSums,
+  k: DepthConstants,
+  profiler: DepthProfiler | null,
 ): void {
-  // Locals for the loop (the object is read once, not per pixel).
-  const { fb, shift, eps } = d;
-  const dCount = d.count;
-  const dRel = d.rel;
-  const dSq = d.sq;
-  const dFail = d.fail;
-  const n = bits.length;
-  let cur = 0;
-  let w = pos[0];
-  let rel = 0;
-  let sq = 0;
-  let cnt = 0;
-  let fail = 0;
+  const { fb, shift, eps } = k;
+  const { truthCount, sq, fail } = d;
+  const n = codes.length;
   for (let i = 0; i < n; i++) {
-    const b = bits[i];
-    if (b !== cur) {
-      pos[cur] = w;
-      dRel[cur] += rel;
-      dSq[cur] += sq;
-      dCount[cur] += cnt;
-      dFail[cur] += fail;
-      cur = b;
-      w = pos[b];
-      rel = 0;
-      sq = 0;
-      cnt = 0;
-      fail = 0;
-    }
+    const b = codes[i];
     if (b === 0) continue;
     const p = pred[i];
     const t = truth[i];
     const e = p - t;
+    const dt = t + shift;
+    const hasDepth = dt > eps;
+    if (hasDepth) truthCount[b]++;
     if (e - e === 0) {
-      vals[w++] = e;
-      const dt = t + shift;
-      if (dt > eps) {
+      vals[pos[b]++] = e;
+      if (hasDepth) {
         const dp = p + shift;
         if (dp > 0) {
-          // Zp - Zt = fB/dp - fB/dt = fB (dt - dp) / (dp dt); |Zp - Zt| / Zt = |dt - dp| / dp.
-          // One division instead of three; same quantities as the file comment defines.
           const diff = dt - dp;
           const inv = 1 / (dp * dt);
           const dz = fb * diff * inv;
-          rel += Math.abs(diff) * dt * inv;
-          sq += dz * dz;
-          cnt++;
+          const rel = Math.abs(diff) * dt * inv;
+          rels[relPos[b]++] = rel;
+          sq[b] += dz * dz;
+          profiler?.add(i, b, rel, Math.abs(dz), fb / dt);
         } else {
-          fail++;
+          fail[b]++;
+          profiler?.truthOnly(i, b);
         }
       }
+    } else if (hasDepth) {
+      profiler?.truthOnly(i, b);
     }
   }
-  pos[cur] = w;
-  dRel[cur] += rel;
-  dSq[cur] += sq;
-  dCount[cur] += cnt;
-  dFail[cur] += fail;
 }

@@ -13,6 +13,7 @@
  * - conf_clean_share is the largest share (%) of the N, kept in confidence order, whose
  *   rate over 1 px is at most 1 % (the density at which the output is clean enough to use).
  */
+import type { PatternTable } from '../core/regions.js';
 
 /** The shares of the curves, from all predictions down to the most confident 5 %. */
 export const SPARSIFY_SHARES: readonly number[] = Array.from({ length: 20 }, (_, i) => (20 - i) / 20);
@@ -68,19 +69,22 @@ let absBuf = new Float64Array(0);
 let confBuf = new Float64Array(0);
 
 /**
- * The sparsification figures of one region (pixels whose region byte has `bit`), from
+ * The sparsification figures of one slice (the pixels of the given patterns), from
  * the prediction, the truth and the confidence maps; null when no pixel of the region
  * has a valid prediction.
  */
-export function regionSparsify(pred: Float32Array, truth: Float32Array, conf: Float32Array, bits: Uint8Array, bit: number): SparsifyFigures | null {
-  const len = bits.length;
+export function regionSparsify(pred: Float32Array, truth: Float32Array, conf: Float32Array, table: PatternTable, patterns: Int32Array): SparsifyFigures | null {
+  const codes = table.codes;
+  const len = codes.length;
   if (absBuf.length < len) {
     absBuf = new Float64Array(len);
     confBuf = new Float64Array(len);
   }
+  const want = new Uint8Array(table.count);
+  for (const p of patterns) want[p] = 1;
   let n = 0;
   for (let p = 0; p < len; p++) {
-    if ((bits[p] & bit) === 0) continue;
+    if (want[codes[p]] === 0) continue;
     const e = pred[p] - truth[p];
     if (!Number.isFinite(e)) continue;
     const c = conf[p];

@@ -10,7 +10,7 @@
  * - err_by_truth_frac: mean |d - t| per bin of the truth's fractional part frac(t)
  *   (null for an empty bin): a locking matcher errs most where the truth is half-way.
  */
-import { REGION_BIT, REGION_IDS, type RegionId } from '../core/regions.js';
+import { mapSlices, patternTable, type RegionMap } from '../core/regions.js';
 
 export const SUBPIX_BINS = 10;
 
@@ -32,7 +32,7 @@ const TABLE_N = 4096;
 const COS_T = Float64Array.from({ length: TABLE_N }, (_, k) => Math.cos((TWO_PI * k) / TABLE_N));
 const SIN_T = Float64Array.from({ length: TABLE_N }, (_, k) => Math.sin((TWO_PI * k) / TABLE_N));
 
-/** Per region bit pattern (256): cos and sin sums, counts, and the two histograms. */
+/** Per pattern of the map's PatternTable: cos and sin sums, counts, and the two histograms. */
 interface PatternSums {
   cos: Float64Array;
   sin: Float64Array;
@@ -42,14 +42,14 @@ interface PatternSums {
   errCount: Float64Array;
 }
 
-function patternSums(pred: Float32Array, truth: Float32Array, bits: Uint8Array): PatternSums {
+function patternSums(pred: Float32Array, truth: Float32Array, bits: Uint8Array | Uint16Array, P: number): PatternSums {
   const s: PatternSums = {
-    cos: new Float64Array(256),
-    sin: new Float64Array(256),
-    n: new Float64Array(256),
-    hist: new Float64Array(256 * SUBPIX_BINS),
-    errSum: new Float64Array(256 * SUBPIX_BINS),
-    errCount: new Float64Array(256 * SUBPIX_BINS),
+    cos: new Float64Array(P),
+    sin: new Float64Array(P),
+    n: new Float64Array(P),
+    hist: new Float64Array(P * SUBPIX_BINS),
+    errSum: new Float64Array(P * SUBPIX_BINS),
+    errCount: new Float64Array(P * SUBPIX_BINS),
   };
   const { cos, sin, n, hist, errSum, errCount } = s;
   for (let p = 0; p < bits.length; p++) {
@@ -78,23 +78,28 @@ function patternSums(pred: Float32Array, truth: Float32Array, bits: Uint8Array):
   return s;
 }
 
-/** The sub-pixel figures of every region; a region without a valid prediction gets none. */
-export function subpixelByRegion(pred: Float32Array, truth: Float32Array, bits: Uint8Array): Partial<Record<RegionId, SubpixelFigures>> {
-  const s = patternSums(pred, truth, bits);
-  const out: Partial<Record<RegionId, SubpixelFigures>> = {};
-  for (const id of REGION_IDS) {
-    const bit = REGION_BIT[id];
+/**
+ * The sub-pixel figures of every slice of the map (by slice key); a slice without a valid
+ * prediction gets none. Within a depth band only subpix_lock (the histograms are the
+ * report's, drawn for the whole region).
+ */
+export function subpixelBySlice(pred: Float32Array, truth: Float32Array, map: RegionMap): Record<string, Partial<SubpixelFigures>> {
+  const t = patternTable(map);
+  const s = patternSums(pred, truth, t.codes, t.count);
+  const out: Record<string, Partial<SubpixelFigures>> = {};
+  for (const sl of mapSlices(map)) {
     let c = 0;
     let si = 0;
     let n = 0;
     const hist = new Array<number>(SUBPIX_BINS).fill(0);
     const errSum = new Array<number>(SUBPIX_BINS).fill(0);
     const errCount = new Array<number>(SUBPIX_BINS).fill(0);
-    for (let b = 1; b < 256; b++) {
-      if ((b & bit) === 0 || s.n[b] === 0) continue;
+    for (const b of sl.patterns) {
+      if (s.n[b] === 0) continue;
       c += s.cos[b];
       si += s.sin[b];
       n += s.n[b];
+      if (sl.view !== 0) continue;
       for (let k = 0; k < SUBPIX_BINS; k++) {
         hist[k] += s.hist[b * SUBPIX_BINS + k];
         errSum[k] += s.errSum[b * SUBPIX_BINS + k];
@@ -102,7 +107,10 @@ export function subpixelByRegion(pred: Float32Array, truth: Float32Array, bits: 
       }
     }
     if (n === 0) continue;
-    out[id] = { subpix_lock: Math.hypot(c, si) / n, frac_hist: hist, err_by_truth_frac: errSum.map((e, k) => (errCount[k] > 0 ? e / errCount[k] : null)) };
+    out[sl.key] =
+      sl.view === 0
+        ? { subpix_lock: Math.hypot(c, si) / n, frac_hist: hist, err_by_truth_frac: errSum.map((e, k) => (errCount[k] > 0 ? e / errCount[k] : null)) }
+        : { subpix_lock: Math.hypot(c, si) / n };
   }
   return out;
 }

@@ -136,13 +136,13 @@ export function blockMeanThumb(img: FloatImage, pf: number, f: number): FloatIma
 }
 
 /** Region bits sampled at the centre of each thumbnail block. */
-export function regionsToThumb(bits: Uint8Array, width: number, height: number, f: number): Uint8Array {
+export function regionsToThumb(bits: Uint8Array | Uint16Array, width: number, height: number, f: number): Uint8Array {
   const w = Math.ceil(width / f);
   const h = Math.ceil(height / f);
   const out = new Uint8Array(w * h);
   for (let ty = 0; ty < h; ty++) {
     const cy = Math.min(height - 1, ty * f + (f >> 1));
-    for (let tx = 0; tx < w; tx++) out[ty * w + tx] = bits[cy * width + Math.min(width - 1, tx * f + (f >> 1))];
+    for (let tx = 0; tx < w; tx++) out[ty * w + tx] = bits[cy * width + Math.min(width - 1, tx * f + (f >> 1))] & 0xff; // the built-in regions
   }
   return out;
 }

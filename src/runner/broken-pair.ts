@@ -16,24 +16,38 @@
 import type { FloatImage } from '../core/image.js';
 import { toLuminance } from '../core/image.js';
 import { pairFields, type PairEntry } from '../core/pair.js';
-import { REGION_BIT, REGION_IDS, type RegionParams } from '../core/regions.js';
+import { REGION_BIT, REGION_IDS, slicesOf, type RegionMap, type RegionParams } from '../core/regions.js';
+import { bandLabels } from '../core/depth-bands.js';
+import { depthToDisparityInPlace } from '../core/camera.js';
 import type { JobResult, PairScore } from '../core/score.js';
 import { pairCamera, type Manifest } from '../dataset/manifest.js';
 import { truthReadOptions } from '../dataset/load.js';
-import { buildRegions } from '../dataset/regions.js';
+import { buildRegions, type RegionInput } from '../dataset/regions.js';
 import { readDisparityFile, readImageFile, readMaskFile } from '../io/files.js';
 import { emptySums, figuresFromSums, scorePair } from '../metrics/score.js';
 import type { RunConfig } from './plan.js';
 import type { MetricSet } from '../metrics/catalogue.js';
 
-/** Scores of a pair that cannot be scored: every region empty (0 pixels, empty figures). */
-export function unscoredPair(set: MetricSet): PairScore {
+/** Scores of a pair that cannot be scored: every slice empty (0 pixels, empty figures). */
+export function unscoredPair(set: MetricSet, layout: SliceLayout = {}): PairScore {
   const out = {} as PairScore;
-  for (const id of REGION_IDS) {
+  for (const sl of slicesOf(layout)) {
     const sums = emptySums(set.thresholds.length);
-    out[id] = { sums, figures: figuresFromSums(sums, set, null) };
+    out[sl.key] = { sums, figures: figuresFromSums(sums, set, null) };
   }
   return out;
+}
+
+/** The region names and band labels a result carries (absent when the built-ins only, or no bands). */
+export interface SliceLayout {
+  regions?: string[];
+  bands?: string[];
+}
+
+/** The layout fields of a job result for a region map. */
+export function layoutOf(map: Pick<RegionMap, 'names' | 'bands'>): SliceLayout {
+  const builtIn = map.names.length === REGION_IDS.length;
+  return { ...(builtIn ? {} : { regions: [...map.names] }), ...(map.bands.length ? { bands: [...map.bands] } : {}) };
 }
 
 /**
@@ -43,20 +57,20 @@ export function unscoredPair(set: MetricSet): PairScore {
 export function truthOnlyScores(
   truth: FloatImage,
   leftGray: Float32Array | undefined,
-  occlusion: Uint8Array | undefined,
+  input: Omit<RegionInput, 'truth' | 'leftGray' | 'width' | 'height'>,
   regionParams: RegionParams,
   set: MetricSet,
-  camera?: { focalPx: number; baselineM: number; cxShiftPx: number },
-): PairScore {
+): { scores: PairScore } & SliceLayout {
   const n = truth.width * truth.height;
   const gray = leftGray ?? new Float32Array(n);
-  const regions = buildRegions(truth.data, gray, occlusion, truth.width, truth.height, regionParams);
+  const regions = buildRegions({ ...input, truth: truth.data, leftGray: gray, width: truth.width, height: truth.height }, regionParams);
   if (!leftGray) {
-    const clear = ~REGION_BIT.flat & 0xff;
+    const clear = ~REGION_BIT.flat & 0xffff;
     const bits = regions.bits;
     for (let i = 0; i < n; i++) bits[i] = bits[i] & clear;
   }
-  return scorePair(null, truth.data, regions, { thresholds: set.thresholds, quantiles: set.quantiles, ...(camera ? { camera } : {}) });
+  const camera = input.camera;
+  return { scores: scorePair(null, truth.data, regions, { thresholds: set.thresholds, quantiles: set.quantiles, ...(camera ? { camera } : {}) }), ...layoutOf(regions) };
 }
 
 async function tryRead<T>(f: () => Promise<T>): Promise<T | undefined> {
@@ -68,18 +82,32 @@ async function tryRead<T>(f: () => Promise<T>): Promise<T | undefined> {
 }
 
 /** Read what can be read of a broken pair and score it as all-invalid (see the file comment). */
-export async function brokenPairScores(m: Manifest, entry: PairEntry, regionParams: RegionParams, set: MetricSet): Promise<PairScore> {
+export async function brokenPairScores(m: Manifest, entry: PairEntry, plan: { regions: RegionParams; depthBands?: readonly number[] }, set: MetricSet): Promise<{ scores: PairScore } & SliceLayout> {
+  const camera = pairCamera(m, entry);
+  const bandEdges = camera ? plan.depthBands : undefined;
+  const nullMasks = m.regionNames.map((name) => ({ name, data: null }));
+  const layout: SliceLayout = {
+    ...(m.regionNames.length ? { regions: [...REGION_IDS, ...m.regionNames] } : {}),
+    ...(bandEdges?.length ? { bands: bandLabels(bandEdges) } : {}),
+  };
   const truth = await tryRead(() => readDisparityFile(entry.truth, truthReadOptions(m)));
-  if (!truth) return unscoredPair(set);
+  if (!truth || (m.truthKind === 'depth' && !camera)) return { scores: unscoredPair(set, layout), ...layout };
+  if (m.truthKind === 'depth' && camera) depthToDisparityInPlace(truth.data, camera, m.depthUnit ?? 'm');
   const same = (s: { width: number; height: number } | undefined): boolean => s !== undefined && s.width === truth.width && s.height === truth.height;
   const left = await tryRead(() => readImageFile(entry.left));
   const mask = entry.occlusion ? await tryRead(() => readMaskFile(entry.occlusion!)) : undefined;
-  const camera = pairCamera(m, entry);
-  return truthOnlyScores(truth, same(left) ? toLuminance(left!) : undefined, same(mask) ? mask!.data : undefined, regionParams, set, camera);
+  const ignore = entry.ignore ? await tryRead(() => readMaskFile(entry.ignore!)) : undefined;
+  return truthOnlyScores(
+    truth,
+    same(left) ? toLuminance(left!) : undefined,
+    { occlusion: same(mask) ? mask!.data : undefined, ignore: same(ignore) ? ignore!.data : undefined, masks: nullMasks, sparse: m.sparseTruth, camera, bandEdges },
+    plan.regions,
+    set,
+  );
 }
 
 /** The failed result of one configuration on a broken pair. */
-export function brokenPairResult(cfg: RunConfig, dataset: string, entry: PairEntry, error: string, scores: PairScore, set: MetricSet): JobResult {
+export function brokenPairResult(cfg: RunConfig, dataset: string, entry: PairEntry, error: string, scored: { scores: PairScore } & SliceLayout, set: MetricSet): JobResult {
   return {
     matcher: cfg.label,
     matcherId: cfg.matcherId,
@@ -90,7 +118,7 @@ export function brokenPairResult(cfg: RunConfig, dataset: string, entry: PairEnt
     error: `pair not loaded: ${error}`,
     time_ms: null,
     peak_mb: null,
-    scores,
+    ...scored,
     thresholds: [...set.thresholds],
     quantiles: [...set.quantiles],
     ...pairFields(entry),

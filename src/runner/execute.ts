@@ -9,6 +9,7 @@ import { pairFields, type LoadedPair } from '../core/pair.js';
 import type { RegionMap } from '../core/regions.js';
 import type { JobResult } from '../core/score.js';
 import { scorePair } from '../metrics/score.js';
+import { layoutOf } from './broken-pair.js';
 import type { MatchInput } from '../core/matcher.js';
 import { startPeakSampler } from './memory.js';
 import type { MatcherRunConfig, RunConfig } from './plan.js';
@@ -186,6 +187,7 @@ export function scoredOutcome(
     peak_mb: peakMb,
     ...(got.cached ? { cached: true } : {}),
     scores,
+    ...layoutOf(regions),
     thresholds: [...set.thresholds],
     quantiles: [...set.quantiles],
     ...pairFields(pair),

@@ -7,7 +7,8 @@ import { InputError, UsageError } from '../core/errors.js';
 import type { ParamValue } from '../core/params.js';
 import type { RegionParams } from '../core/regions.js';
 import { datasetHash } from '../dataset/hash.js';
-import { loadManifest, sortedPairs, type Manifest } from '../dataset/manifest.js';
+import { loadManifest, pairCamera, sortedPairs, type Manifest } from '../dataset/manifest.js';
+import { defaultDepthBands } from '../core/depth-bands.js';
 import type { MatcherPlugin } from '../core/matcher.js';
 import { checkConfigName } from '../plugins/params.js';
 import { resolveMatcherEntries, resolveMatchers, type MatcherConfig, type MatcherSource } from '../plugins/registry.js';
@@ -59,6 +60,8 @@ export interface RunPlan {
   /** Quantile levels in %. */
   readonly quantiles: readonly number[];
   readonly regions: RegionParams;
+  /** Depth band edges in metres (the settings' or the default from the data's depth range); empty = no bands. */
+  readonly depthBands: readonly number[];
   /** Every job, sorted (see jobs.ts). */
   readonly jobs: readonly JobKey[];
   /** The settings the plan was made from (kept in run.json for --resume). */
@@ -122,7 +125,7 @@ export async function planRun(settings: RunSettings, cwd = process.cwd()): Promi
   const datasets: PlannedDataset[] = [];
   const names = new Map<string, string>();
   for (const path of settings.datasets) {
-    const manifest = loadManifest(path);
+    const manifest = loadManifest(path, settings.dataRoot !== undefined ? { dataRoot: settings.dataRoot } : {});
     const other = names.get(manifest.name);
     if (other !== undefined) throw new UsageError('--dataset', `${path} and ${other} are both named "${manifest.name}"; dataset names must differ`);
     names.set(manifest.name, path);
@@ -141,5 +144,12 @@ export async function planRun(settings: RunSettings, cwd = process.cwd()): Promi
   const name = safeRunName(settings.name ?? [datasets[0].manifest.name, ...configs.map((c) => c.label)].join('-'));
   const runDir = settings.out ?? resolve(cwd, 'reports', name);
   const jobs = enumerateJobs(pairLists, configs.map((c) => c.label));
-  return { name, runDir, datasets, configs, thresholds: settings.thresholds, quantiles: settings.quantiles, regions: settings.regions, jobs, settings, warnings };
+  const depthBands = settings.depthBands ?? defaultBandsOf(datasets.map((d) => d.manifest));
+  return { name, runDir, datasets, configs, thresholds: settings.thresholds, quantiles: settings.quantiles, regions: settings.regions, depthBands, jobs, settings, warnings };
+}
+
+/** The default depth bands of a run: from the cameras and disparity ranges of its datasets. */
+export function defaultBandsOf(manifests: readonly Manifest[]): number[] {
+  const cameras = manifests.flatMap((m) => m.pairs.map((p) => pairCamera(m, p)).filter((c) => c !== undefined));
+  return defaultDepthBands(cameras, manifests.map((m) => m.disparityRange));
 }

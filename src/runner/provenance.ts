@@ -3,6 +3,7 @@
  * commit (when the tool runs from a git checkout), configuration, dataset hashes, Node
  * version, CPU, OS, times.
  */
+import { dirname } from 'node:path';
 import { execFileSync } from 'node:child_process';
 import { cpus, platform, release, arch, totalmem } from 'node:os';
 import type { RunPlan } from './plan.js';
@@ -62,7 +63,8 @@ export function runRecord(plan: RunPlan, started: Date): RunRecord {
               },
             },
       ),
-      datasets: plan.datasets.map((d) => ({ name: d.manifest.name, path: d.path, manifest: d.manifest.file, hash: d.hash, pairs: d.manifest.pairs.length })),
+      datasets: plan.datasets.map((d) => ({ name: d.manifest.name, path: d.path, manifest: d.manifest.file, hash: d.hash, pairs: d.manifest.pairs.length, ...(d.manifest.dir !== dirname(d.manifest.file) ? { dataRoot: d.manifest.dir } : {}) })),
+      ...(plan.depthBands.length ? { depthBands: [...plan.depthBands] } : {}),
     },
     jobs: { total: plan.jobs.length, ok: 0, failed: 0 },
     environment: {

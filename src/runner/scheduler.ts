@@ -187,7 +187,7 @@ class Scheduler {
       if (this.signal.aborted || isAbort(e)) throw new AbortedError();
       const message = oneLineError(e);
       this.ctx.onPairError?.(manifest.name, entry.id, message);
-      const scores = await brokenPairScores(manifest, entry, this.plan.regions, this.plan);
+      const scores = await brokenPairScores(manifest, entry, this.plan, this.plan);
       for (const key of group) {
         this.checkAbort();
         const cfg = this.configs.get(key.label)!;

@@ -9,8 +9,7 @@
 import type { LoadedPair } from '../core/pair.js';
 import type { RegionMap } from '../core/regions.js';
 import type { JobResult } from '../core/score.js';
-import { flickerByRegion, type FrameMaps } from '../metrics/flicker.js';
-import { REGION_IDS } from '../core/regions.js';
+import { flickerBySlice, type FrameMaps } from '../metrics/flicker.js';
 import type { JobKey } from './jobs.js';
 
 const frameKey = (label: string, dataset: string, group: string, frame: number): string => `${label}\u0000${dataset}\u0000${group}\u0000${frame}`;
@@ -37,7 +36,7 @@ export class SequenceTracker {
    */
   async finish(own: Pending | undefined, result: JobResult, disparity: Float32Array | null, pair: LoadedPair, regions: RegionMap): Promise<void> {
     if (!own || pair.frame === undefined || pair.group === undefined) return;
-    const maps: FrameMaps | null = disparity ? { pred: disparity, truth: pair.truth.data, bits: regions.bits } : null;
+    const maps: FrameMaps | null = disparity ? { pred: disparity, truth: pair.truth.data, regions } : null;
     own.settle(maps);
     const prevKey = frameKey(result.matcher, pair.dataset, pair.group, pair.frame - 1);
     const prev = this.frames.get(prevKey);
@@ -45,8 +44,11 @@ export class SequenceTracker {
     this.frames.delete(prevKey); // each frame has one successor
     const before = await prev.promise;
     if (!before || !maps) return;
-    const f = flickerByRegion(before, maps);
-    for (const id of REGION_IDS) result.scores[id].figures.flicker = f[id];
+    const f = flickerBySlice(before, maps);
+    for (const [key, v] of Object.entries(f)) {
+      const sc = result.scores[key];
+      if (sc) sc.figures.flicker = v;
+    }
   }
 
   /** A job that ended without finish (abort, error): release whoever waits for it. */

@@ -44,7 +44,7 @@ function render(variant: DockVariant, seed: number): Pair {
     left,
     right: toLuminance(r.right),
     truth: r.truth,
-    regions: buildRegions(r.truth, left, r.occlusion, W, H, { ...DEFAULT_REGION_PARAMS }),
+    regions: buildRegions({ truth: r.truth, leftGray: left, width: W, height: H, occlusion: r.occlusion }, { ...DEFAULT_REGION_PARAMS }),
     maxD: Math.ceil(mx) + 8,
   };
 }

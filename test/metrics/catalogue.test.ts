@@ -7,7 +7,7 @@ import { readFileSync } from 'node:fs';
 import { describe, expect, it } from 'vitest';
 import { catalogueMarkdown, entryOf, findMetric, metricsOf, pooledFrom, readSums, sumColumnCount, levelMapOf } from '../../src/metrics/catalogue.js';
 import { scorePair } from '../../src/metrics/score.js';
-import { REGION_BIT } from '../../src/core/regions.js';
+import { REGION_BIT, plainRegionMap } from '../../src/core/regions.js';
 
 describe('metric catalogue', () => {
   it('resolves one column per threshold and per quantile level, in catalogue order', () => {
@@ -25,7 +25,7 @@ describe('metric catalogue', () => {
     // equal the figures of the concatenated pixels exactly up to rounding.
     const set = { thresholds: [1], quantiles: [50] };
     const K = REGION_BIT.known;
-    const map = (n: number) => ({ width: n, height: 1, bits: new Uint8Array(n).fill(K) });
+    const map = (n: number) => plainRegionMap(n, 1, new Uint8Array(n).fill(K));
     const a = scorePair(Float32Array.of(1, 3, NaN), new Float32Array(3), map(3), set);
     const b = scorePair(Float32Array.of(-0.5, 2), new Float32Array(2), map(2), set);
     const all = scorePair(Float32Array.of(1, 3, NaN, -0.5, 2), new Float32Array(5), map(5), set);

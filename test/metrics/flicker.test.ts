@@ -5,7 +5,13 @@
  */
 import { describe, expect, it } from 'vitest';
 import { REGION_BIT } from '../../src/core/regions.js';
-import { flickerByRegion } from '../../src/metrics/flicker.js';
+import { flickerBySlice } from '../../src/metrics/flicker.js';
+import { plainRegionMap } from '../../src/core/regions.js';
+
+/** A one-row region map of the built-in regions for the bits. */
+function row(bits: Uint8Array): ReturnType<typeof plainRegionMap> {
+  return plainRegionMap(bits.length, 1, bits);
+}
 import { createPrng } from '../../src/stats/prng.js';
 
 const K = REGION_BIT.known | REGION_BIT.visible;
@@ -26,7 +32,7 @@ describe('flicker', () => {
   it('is 0 when the predictions follow the truth exactly, however the scene moves', () => {
     const [ta, tb] = frames(5000);
     const bits = new Uint8Array(5000).fill(K);
-    const f = flickerByRegion({ pred: ta, truth: ta, bits }, { pred: tb, truth: tb, bits });
+    const f = flickerBySlice({ pred: ta, truth: ta, regions: row(bits) }, { pred: tb, truth: tb, regions: row(bits) });
     expect(f.known).toBe(0);
     expect(f.visible).toBe(0);
     expect(f.occluded).toBeNull(); // no pixel of that region
@@ -40,7 +46,7 @@ describe('flicker', () => {
     const pa = Float32Array.from(ta, (t) => t + sigma * gaussian(rng));
     const pb = Float32Array.from(tb, (t) => t + sigma * gaussian(rng));
     const bits = new Uint8Array(n).fill(K);
-    const f = flickerByRegion({ pred: pa, truth: ta, bits }, { pred: pb, truth: tb, bits });
+    const f = flickerBySlice({ pred: pa, truth: ta, regions: row(bits) }, { pred: pb, truth: tb, regions: row(bits) });
     const expected = (2 * sigma) / Math.sqrt(Math.PI);
     expect(Math.abs(f.known! - expected) / expected).toBeLessThan(0.03);
   });
@@ -49,9 +55,9 @@ describe('flicker', () => {
     // Pixel 0: known in both, changes by 1 against a still truth -> |1|. Pixel 1: not known
     // in frame a. Pixel 2: no answer in frame b. Mean over the one pixel left: 1.
     const truth = Float32Array.from([5, 5, 5]);
-    const f = flickerByRegion(
-      { pred: Float32Array.from([5, 5, 5]), truth, bits: Uint8Array.from([K, 0, K]) },
-      { pred: Float32Array.from([6, 9, NaN]), truth, bits: Uint8Array.from([K, K, K]) },
+    const f = flickerBySlice(
+      { pred: Float32Array.from([5, 5, 5]), truth, regions: row(Uint8Array.from([K, 0, K])) },
+      { pred: Float32Array.from([6, 9, NaN]), truth, regions: row(Uint8Array.from([K, K, K])) },
     );
     expect(f.known).toBe(1);
   });

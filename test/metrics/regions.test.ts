@@ -26,7 +26,7 @@ describe('buildRegions', () => {
     for (let y = 0; y < h; y++) for (let x = 0; x < w; x++) gray[y * w + x] = x < 20 ? 100 : (x % 4 < 2 ? 0 : 255);
     const truth = new Float32Array(w * h).fill(3); // constant truth: no jumps
     const occ = new Uint8Array(w * h); // nothing occluded
-    const r = buildRegions(truth, gray, occ, w, h, params({ flatWindow: 5, flatThreshold: 4 }));
+    const r = buildRegions({ truth: truth, leftGray: gray, width: w, height: h, occlusion: occ }, params({ flatWindow: 5, flatThreshold: 4 }));
     for (let y = 0; y < h; y++) {
       // x <= 15: the 5-wide window (x-2..x+2) and the gradient (x-1..x+1) stay in the constant part
       for (let x = 0; x <= 15; x++) expect(r.bits[y * w + x]).toBe(K | V | F);
@@ -44,7 +44,7 @@ describe('buildRegions', () => {
     for (let i = 0; i < w * h; i++) gray[i] = (i * 37) % 251; // textured: not flat
     const occ = new Uint8Array(w * h);
     occ[3 * w + 11] = 1; // one occluded pixel inside the band: occluded, not jump
-    const r = buildRegions(truth, gray, occ, w, h, params({ jumpGap: 2, jumpRadius: 2, flatThreshold: 0 }));
+    const r = buildRegions({ truth: truth, leftGray: gray, width: w, height: h, occlusion: occ }, params({ jumpGap: 2, jumpRadius: 2, flatThreshold: 0 }));
     for (let y = 0; y < h; y++) {
       for (let x = 0; x < w; x++) {
         const b = r.bits[y * w + x];
@@ -78,7 +78,7 @@ describe('buildRegions', () => {
   it('infinite and NaN truth are not known; no jump against unknown neighbours', () => {
     const w = 6, h = 1;
     const truth = Float32Array.of(1, Infinity, 1, NaN, -Infinity, 1);
-    const r = buildRegions(truth, new Float32Array(w), new Uint8Array(w), w, h, params({ jumpRadius: 0 }));
+    const r = buildRegions({ truth, leftGray: new Float32Array(w), occlusion: new Uint8Array(w), width: w, height: h }, params({ jumpRadius: 0 }));
     // known pixels x = 0, 2, 5; gray constant -> flat; neighbours unknown -> no jump
     expect(Array.from(r.bits)).toEqual([K | V | F, 0, K | V | F, 0, 0, K | V | F]);
   });
@@ -89,14 +89,14 @@ describe('buildRegions', () => {
     const truth = Float32Array.of(2, 2, 2, 2, 2, 2, 5, 5, 5, 5);
     const gray = new Float32Array(10);
     const p = params({ jumpRadius: 0, jumpGap: 100, flatThreshold: 0 });
-    const r = buildRegions(truth, gray, undefined, 10, 1, p);
+    const r = buildRegions({ truth: truth, leftGray: gray, width: 10, height: 1 }, p);
     expect(Array.from(r.bits)).toEqual([K | O, K | O, K | V, K | O, K | O, K | O, K | V, K | V, K | V, K | V]);
     const mask = new Uint8Array(10);
     mask[7] = 255; // any non-zero byte = occluded
-    const r2 = buildRegions(truth, gray, mask, 10, 1, p);
+    const r2 = buildRegions({ truth: truth, leftGray: gray, width: 10, height: 1, occlusion: mask }, p);
     expect(Array.from(r2.bits)).toEqual([K | V, K | V, K | V, K | V, K | V, K | V, K | V, K | O, K | V, K | V]);
     // flat and jump only on visible pixels: with a huge threshold every visible pixel is flat
-    const r3 = buildRegions(truth, gray, undefined, 10, 1, { ...p, flatThreshold: 1e9, jumpGap: 1, jumpRadius: 9 });
+    const r3 = buildRegions({ truth: truth, leftGray: gray, width: 10, height: 1 }, { ...p, flatThreshold: 1e9, jumpGap: 1, jumpRadius: 9 });
     for (let x = 0; x < 10; x++) {
       const b = r3.bits[x];
       if (b & O) expect(b & (F | J | V)).toBe(0);
@@ -106,10 +106,10 @@ describe('buildRegions', () => {
 
   it('rejects bad parameters with a UsageError naming the field (common practice)', () => {
     const t = new Float32Array(4);
-    expect(() => buildRegions(t, t, undefined, 2, 2, params({ flatWindow: 4 }))).toThrow(UsageError);
-    expect(() => buildRegions(t, t, undefined, 2, 2, params({ flatWindow: 4 }))).toThrow(/regions\.flatWindow/);
-    expect(() => buildRegions(t, t, undefined, 2, 2, params({ jumpRadius: -1 }))).toThrow(/regions\.jumpRadius/);
-    expect(() => buildRegions(t, t, undefined, 2, 3, params())).toThrow(RangeError);
+    expect(() => buildRegions({ truth: t, leftGray: t, width: 2, height: 2 }, params({ flatWindow: 4 }))).toThrow(UsageError);
+    expect(() => buildRegions({ truth: t, leftGray: t, width: 2, height: 2 }, params({ flatWindow: 4 }))).toThrow(/regions\.flatWindow/);
+    expect(() => buildRegions({ truth: t, leftGray: t, width: 2, height: 2 }, params({ jumpRadius: -1 }))).toThrow(/regions\.jumpRadius/);
+    expect(() => buildRegions({ truth: t, leftGray: t, width: 2, height: 3 }, params())).toThrow(RangeError);
   });
 
   it('texture energy, jump mask and region bits agree with numpy/scipy on random data', () => {
@@ -130,7 +130,7 @@ describe('buildRegions', () => {
     const energy = textureEnergy(gray, w, h, p.flatWindow);
     const jm = jumpMask(truth, w, h, p.jumpGap, p.jumpRadius);
     const occ = deriveOcclusion(truth, w, h, p.occlusionTol, p.occlusionTau);
-    const bits = buildRegions(truth, gray, undefined, w, h, p).bits;
+    const bits = buildRegions({ truth: truth, leftGray: gray, width: w, height: h }, p).bits;
     const ref = runNumpy({ gray, truth, occ }, `
 from scipy import ndimage
 w, h, win, thr, gap, rad = ${w}, ${h}, ${p.flatWindow}, ${p.flatThreshold}, ${p.jumpGap}, ${p.jumpRadius}

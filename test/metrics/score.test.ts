@@ -2,14 +2,14 @@ import { describe, expect, it } from 'vitest';
 import { scorePair, figuresFromSums, addSums, emptySums } from '../../src/metrics/score.js';
 import { buildRegions } from '../../src/dataset/regions.js';
 import { depthFromDisparity } from '../../src/core/camera.js';
-import { DEFAULT_REGION_PARAMS, REGION_BIT, REGION_IDS, type RegionMap } from '../../src/core/regions.js';
+import { DEFAULT_REGION_PARAMS, REGION_BIT, REGION_IDS, plainRegionMap, type RegionMap } from '../../src/core/regions.js';
 import { closeRel, rng, runNumpy } from './helpers.js';
 
 const K = REGION_BIT.known;
 const V = REGION_BIT.visible;
 
 function map(bits: number[]): RegionMap {
-  return { width: bits.length, height: 1, bits: Uint8Array.from(bits) };
+  return plainRegionMap(bits.length, 1, Uint8Array.from(bits));
 }
 
 describe('scorePair worked examples (arithmetic by hand in the comments)', () => {
@@ -58,7 +58,7 @@ describe('scorePair worked examples (arithmetic by hand in the comments)', () =>
     // known: x=0, 2, 3 (Inf truth dropped). valid: only x=0 (e=0). pixels 3, coverage 33.33 %.
     // over1px: x=2, x=3 invalid -> bad 2 -> 66.67 %. epe 0, bias 0, q50 0.
     const truth = Float32Array.of(2, Infinity, 4, 1);
-    const regions = buildRegions(truth, new Float32Array(4), new Uint8Array(4), 4, 1, {
+    const regions = buildRegions({ truth, leftGray: new Float32Array(4), occlusion: new Uint8Array(4), width: 4, height: 1 }, {
       ...DEFAULT_REGION_PARAMS,
       jumpGap: 100,
       flatThreshold: 0,
@@ -231,7 +231,7 @@ print(json.dumps(out))
     it(`counts exact, means to 1e-9 relative, quantiles equal (seed ${seed}${emptyJump ? ', empty jump region' : ''})`, () => {
       const { truth, pred, bits } = makeCase(seed, emptyJump);
       const ref = runNumpy({ truth, pred, bits }, SCRIPT);
-      const regions: RegionMap = { width: W, height: H, bits };
+      const regions: RegionMap = plainRegionMap(W, H, bits);
       const runs = {
         pred: scorePair(pred, truth, regions, { thresholds: THRESH, quantiles: QUANT, camera: CAM }),
         nopred: scorePair(null, truth, regions, { thresholds: THRESH, quantiles: QUANT, camera: CAM }),

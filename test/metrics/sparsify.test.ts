@@ -5,7 +5,7 @@
  * scorePair; plus two properties of the definition.
  */
 import { describe, expect, it } from 'vitest';
-import { REGION_BIT, REGION_IDS, type RegionMap } from '../../src/core/regions.js';
+import { REGION_BIT, REGION_IDS, type RegionMap, plainRegionMap } from '../../src/core/regions.js';
 import { scorePair } from '../../src/metrics/score.js';
 import { sparsify } from '../../src/metrics/sparsify.js';
 import { closeRel, rng, runNumpy } from './helpers.js';
@@ -69,7 +69,7 @@ describe('sparsification', () => {
     const regions = REGION_IDS.map((id) => [id, REGION_BIT[id]]);
     const meta = new TextEncoder().encode(JSON.stringify({ regions }));
     const ref = runNumpy({ truth, pred, conf, bits, meta }, SCRIPT);
-    const score = scorePair(pred, truth, { width: W, height: H, bits } as RegionMap, { thresholds: [1, 2], quantiles: [50] }, conf);
+    const score = scorePair(pred, truth, plainRegionMap(W, H, bits), { thresholds: [1, 2], quantiles: [50] }, conf);
     let checked = 0;
     for (const id of REGION_IDS) {
       const f = score[id].figures;
@@ -90,7 +90,7 @@ describe('sparsification', () => {
     }
     expect(checked).toBeGreaterThanOrEqual(4);
     // Without a confidence map there are no sparsification figures.
-    expect(scorePair(pred, truth, { width: W, height: H, bits } as RegionMap, { thresholds: [1], quantiles: [50] }).known.figures.conf_auc).toBeUndefined();
+    expect(scorePair(pred, truth, plainRegionMap(W, H, bits), { thresholds: [1], quantiles: [50] }).known.figures.conf_auc).toBeUndefined();
   });
 
   it('a confidence equal to -|error| ranks exactly like the oracle: conf_gap = 0', () => {

@@ -114,7 +114,7 @@ describe('broken pairs', () => {
   it('with truth but no left image: regions from the truth, flat empty, all-invalid rates', () => {
     // Hand-made 4x1 truth: two finite values, one NaN (unknown), one finite.
     const truth = { width: 4, height: 1, data: new Float32Array([1, 1, NaN, 1]) };
-    const s = truthOnlyScores(truth, undefined, undefined, DEFAULT_REGION_PARAMS, { thresholds: [1, 2], quantiles: DEFAULT_QUANTILES });
+    const s = truthOnlyScores(truth, undefined, {}, DEFAULT_REGION_PARAMS, { thresholds: [1, 2], quantiles: DEFAULT_QUANTILES }).scores;
     // known = finite truth = 3 pixels (README, "Regions and metrics"); failed job = every known pixel bad.
     expect(s.known.figures.pixels).toBe(3);
     expect(s.known.figures.coverage).toBe(0);
@@ -123,7 +123,7 @@ describe('broken pairs', () => {
     // flat needs the left image: empty without it (documented choice).
     expect(s.flat.figures.pixels).toBe(0);
     // With a left image of constant luminance every visible pixel is flat (zero gradient < threshold).
-    const withLeft = truthOnlyScores(truth, new Float32Array(4).fill(100), undefined, DEFAULT_REGION_PARAMS, { thresholds: [1, 2], quantiles: DEFAULT_QUANTILES });
+    const withLeft = truthOnlyScores(truth, new Float32Array(4).fill(100), {}, DEFAULT_REGION_PARAMS, { thresholds: [1, 2], quantiles: DEFAULT_QUANTILES }).scores;
     expect(withLeft.flat.figures.pixels).toBe(withLeft.visible.figures.pixels);
     expect(withLeft.flat.figures.pixels).toBeGreaterThan(0);
   });

@@ -118,7 +118,7 @@ export async function pairThumbsFromDataset(
     assertSameSize(d.truthPath, truth, d.occlusionPath, mask);
     occ = mask.data;
   }
-  const regions = buildRegions(truth.data, toLuminance(left), occ, truth.width, truth.height, regionParamsOf(info));
+  const regions = buildRegions({ truth: truth.data, leftGray: toLuminance(left), width: truth.width, height: truth.height, occlusion: occ }, regionParamsOf(info));
   const leftThumb = downscaleRaster(left, f);
   const regionBits = regionsToThumb(regions.bits, truth.width, truth.height, f);
   const leftPng = encodePng(leftThumb);
