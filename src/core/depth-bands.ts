@@ -7,7 +7,6 @@
  * depth cut-off) is in no band. Labels write the edges as given: `0-0.5m`, `2-4m`,
  * `8m+`.
  */
-import type { Camera } from './camera.js';
 import { UsageError } from './errors.js';
 
 /** Fine depth bins of the usable range: this many per doubling of distance (a bin spans 5.9 %). */
@@ -45,29 +44,25 @@ export function bandIndexOf(z: number, edges: readonly number[]): number {
 }
 
 /**
- * Default edges from the depth range the data can hold: the camera's depth at the far
- * and near ends of the disparity range, Z = fB / (d + cxShift). The edges are the
- * doublings 2^k m strictly inside that range, at most six, nearest first (the last band
- * takes what lies beyond). Empty without a camera.
+ * Default edges for depths mostly between `near` and `far` (metres; e.g. the 2nd and
+ * 98th percentiles of the true depths): the doublings 2^k m strictly inside (near, far),
+ * or, when fewer than two fit, the steps 1, 1.5, 2, 3, 4, 6, 8 x 10^k m inside it; at
+ * most six, nearest first. The first band takes what lies nearer, the last what lies
+ * beyond. Empty when near >= far.
  */
-export function defaultDepthBands(cameras: readonly Camera[], disparityRanges: readonly (readonly [number, number])[]): number[] {
-  let zMin = Infinity;
-  let zMax = 0;
-  for (const cam of cameras) {
-    const fb = cam.focalPx * cam.baselineM;
-    for (const [lo, hi] of disparityRanges) {
-      const near = hi + cam.cxShiftPx;
-      const far = lo + cam.cxShiftPx;
-      if (near > 0) zMin = Math.min(zMin, fb / near);
-      zMax = Math.max(zMax, far > 0 ? fb / far : Infinity);
-    }
-  }
-  if (!(zMin < zMax)) return [];
-  const edges: number[] = [];
-  for (let k = Math.floor(Math.log2(zMin)) + 1; edges.length < 6; k++) {
-    const e = 2 ** k;
-    if (e >= zMax) break;
-    edges.push(e);
-  }
-  return edges;
+export function bandsForRange(near: number, far: number): number[] {
+  if (!(near > 0 && far > near && far < Infinity)) return [];
+  const inside = (cands: number[]): number[] => cands.filter((e) => e > near && e < far).slice(0, MAX_DEFAULT_EDGES);
+  const lo = Math.floor(Math.log10(near)) - 1;
+  const hi = Math.ceil(Math.log10(far)) + 1;
+  const doublings: number[] = [];
+  for (let k = Math.floor(Math.log2(near)); 2 ** k < far; k++) doublings.push(2 ** k);
+  const twice = inside(doublings);
+  if (twice.length >= 2) return twice;
+  const steps: number[] = [];
+  for (let k = lo; k <= hi; k++) for (const m of [1, 1.5, 2, 3, 4, 6, 8]) steps.push(Number((m * 10 ** k).toPrecision(6)));
+  return inside(steps);
 }
+
+/** The most edges a default gives (seven bands). */
+const MAX_DEFAULT_EDGES = 6;

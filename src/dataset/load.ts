@@ -8,6 +8,7 @@ import { InputError } from '../core/errors.js';
 import { toLuminance } from '../core/image.js';
 import { depthToDisparityInPlace } from '../core/camera.js';
 import type { LoadedPair, PairEntry } from '../core/pair.js';
+import type { DisparityMap } from '../core/image.js';
 import { readDisparityFile, readImageFile, readMaskFile } from '../io/files.js';
 import type { Manifest } from './manifest.js';
 import { pairCamera } from './manifest.js';
@@ -40,19 +41,29 @@ export function truthReadOptions(m: Manifest, maxPixels?: number): { pngScale?: 
   };
 }
 
+/**
+ * A pair's truth as disparity (px, NaN = unknown): depth truth (truthKind "depth") is
+ * converted with the pair's camera, d = focalPx * baselineM / Z - cxShiftPx.
+ */
+export async function readTruth(m: Manifest, entry: PairEntry, maxPixels?: number): Promise<DisparityMap> {
+  const truth = await readDisparityFile(entry.truth, truthReadOptions(m, maxPixels));
+  if (m.truthKind === 'depth') {
+    const camera = pairCamera(m, entry);
+    if (!camera) throw new InputError(m.file, `depth truth of pair ${entry.id} needs a camera`);
+    depthToDisparityInPlace(truth.data, camera, m.depthUnit ?? 'm');
+  }
+  return truth;
+}
+
 /** Load one pair. Throws InputError for missing, unreadable or mismatched files. */
 export async function loadPair(m: Manifest, entry: PairEntry, opts: LoadPairOptions = {}): Promise<LoadedPair> {
   const po = opts.maxPixels !== undefined ? { maxPixels: opts.maxPixels } : undefined;
   const left = await readImageFile(entry.left, po);
   const right = await readImageFile(entry.right, po);
   assertSameSize(entry.left, left, entry.right, right);
-  const truth = await readDisparityFile(entry.truth, truthReadOptions(m, opts.maxPixels));
+  const truth = await readTruth(m, entry, opts.maxPixels);
   assertSameSize(entry.left, left, entry.truth, truth);
   const camera = pairCamera(m, entry);
-  if (m.truthKind === 'depth') {
-    if (!camera) throw new InputError(m.file, `depth truth of pair ${entry.id} needs a camera`);
-    depthToDisparityInPlace(truth.data, camera, m.depthUnit ?? 'm');
-  }
   const mask = async (file: string): Promise<Uint8Array> => {
     const got = await readMaskFile(file, po);
     assertSameSize(entry.left, left, file, got);

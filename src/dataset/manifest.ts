@@ -157,12 +157,62 @@ export interface ManifestValidation {
 }
 
 /**
- * Validate manifest text. Collects every problem (schema issues, duplicate ids,
- * paths leaving the folder, PNG truth without truthEncoding) instead of stopping at
- * the first; `manifest` is set only when there is none.
+ * The folder a manifest's paths are relative to: --data-root, else the manifest's
+ * dataRoot (relative to the manifest), else the manifest's own folder; with its real path.
  */
-export function validateManifest(text: string, file: string, opts: ManifestOptions = {}): ManifestValidation {
+function dataFolder(file: string, field: string | undefined, option: string | undefined): { dir: string; realDir: string; problem?: string } {
+  const manifestDir = dirname(resolve(file));
+  const dir = option !== undefined ? resolve(option) : field !== undefined ? resolve(manifestDir, field) : manifestDir;
+  try {
+    return { dir, realDir: realpathSync(dir) };
+  } catch {
+    if (option !== undefined) return { dir, realDir: dir, problem: `--data-root: no such folder "${option}"` };
+    if (field !== undefined) return { dir, realDir: dir, problem: `field dataRoot: no such folder "${field}"` };
+    return { dir, realDir: dir }; // the manifest's own folder: reading its files reports what is missing
+  }
+}
+
+/** Duplicate pair ids, and frame indices without a group or used twice within one group. */
+function pairIdentityProblems(list: readonly { id: string; group?: string | undefined; frame?: number | undefined }[]): string[] {
   const problems: string[] = [];
+  const seen = new Map<string, number>();
+  const frames = new Map<string, number>();
+  list.forEach((p, i) => {
+    const first = seen.get(p.id);
+    if (first !== undefined) problems.push(`field pairs[${i}].id: duplicate pair id "${p.id}" (also pairs[${first}])`);
+    else seen.set(p.id, i);
+    if (p.frame === undefined) return;
+    const key = `${p.group ?? ''}\u0000${p.frame}`;
+    const other = frames.get(key);
+    if (p.group === undefined) problems.push(`field pairs[${i}].frame: a frame index needs the pair's "group" (the sequence it belongs to)`);
+    else if (other !== undefined) problems.push(`field pairs[${i}].frame: frame ${p.frame} of group "${p.group}" is also pairs[${other}]`);
+    else frames.set(key, i);
+  });
+  return problems;
+}
+
+/** Depth truth needs its unit, and a camera for every pair (its own or the dataset's). */
+function depthTruthProblems(m: { depthUnit?: string | undefined; camera?: unknown; pairs: readonly { id: string; camera?: unknown }[] }): string[] {
+  const problems: string[] = [];
+  if (m.depthUnit === undefined) problems.push('field depthUnit: required when truthKind is "depth" ("m" or "mm")');
+  m.pairs.forEach((p, i) => {
+    if (!p.camera && !m.camera) problems.push(`field pairs[${i}].camera: depth truth needs a camera (focalPx, baselineM) for pair ${p.id}, here or at the dataset level`);
+  });
+  return problems;
+}
+
+/** Named regions may not reuse a built-in region's name, and there are at most MAX_USER_REGIONS of them. */
+function regionNameProblems(names: ReadonlySet<string>): string[] {
+  const problems: string[] = [];
+  for (const name of names) {
+    if ((REGION_IDS as readonly string[]).includes(name)) problems.push(`field masks.${name}: "${name}" is a built-in region; give your region another name`);
+  }
+  if (names.size > MAX_USER_REGIONS) problems.push(`field masks: ${names.size} named regions, at most ${MAX_USER_REGIONS} are supported`);
+  return problems;
+}
+
+/** The manifest text as JSON checked against the schema, or its problems. */
+function parseManifestJson(text: string): { data: z.infer<typeof manifestSchema> } | { problems: string[] } {
   let json: unknown;
   try {
     json = JSON.parse(text);
@@ -170,21 +220,22 @@ export function validateManifest(text: string, file: string, opts: ManifestOptio
     return { problems: [`not valid JSON (${(e as Error).message.split('\n')[0]})`] };
   }
   const parsed = manifestSchema.safeParse(json);
-  if (!parsed.success) {
-    for (const issue of parsed.error.issues) {
-      problems.push(issueText(issue as ZodIssueLike));
-    }
-    return { problems };
-  }
+  if (!parsed.success) return { problems: parsed.error.issues.map((issue) => issueText(issue as ZodIssueLike)) };
+  return { data: parsed.data };
+}
+
+/**
+ * Validate manifest text. Collects every problem (schema issues, duplicate ids,
+ * paths leaving the folder, PNG truth without truthEncoding) instead of stopping at
+ * the first; `manifest` is set only when there is none.
+ */
+export function validateManifest(text: string, file: string, opts: ManifestOptions = {}): ManifestValidation {
+  const parsed = parseManifestJson(text);
+  if ('problems' in parsed) return { problems: parsed.problems };
   const m = parsed.data;
-  const manifestDir = dirname(resolve(file));
-  const dir = opts.dataRoot !== undefined ? resolve(opts.dataRoot) : m.dataRoot !== undefined ? resolve(manifestDir, m.dataRoot) : manifestDir;
-  let realDir = dir;
-  try {
-    realDir = realpathSync(dir);
-  } catch {
-    problems.push(opts.dataRoot !== undefined ? `--data-root: no such folder "${opts.dataRoot}"` : `field dataRoot: no such folder "${m.dataRoot ?? dir}"`);
-  }
+  const problems: string[] = [];
+  const { dir, realDir, problem } = dataFolder(file, m.dataRoot, opts.dataRoot);
+  if (problem !== undefined) problems.push(problem);
   const inside = (field: string, v: string): string | undefined => {
     const r = resolveInside(dir, realDir, v);
     if ('problem' in r) {
@@ -200,26 +251,10 @@ export function validateManifest(text: string, file: string, opts: ManifestOptio
     if (r !== undefined) datasetMasks[name] = r;
   }
   const regionNames = new Set(Object.keys(m.masks ?? {}));
-  if (m.truthKind === 'depth') {
-    if (m.depthUnit === undefined) problems.push('field depthUnit: required when truthKind is "depth" ("m" or "mm")');
-    m.pairs.forEach((p, i) => {
-      if (!p.camera && !m.camera) problems.push(`field pairs[${i}].camera: depth truth needs a camera (focalPx, baselineM) for pair ${p.id}, here or at the dataset level`);
-    });
-  }
-  const seen = new Map<string, number>();
-  const frames = new Map<string, number>();
+  if (m.truthKind === 'depth') problems.push(...depthTruthProblems(m));
+  problems.push(...pairIdentityProblems(m.pairs));
   const pairs: PairEntry[] = [];
   m.pairs.forEach((p, i) => {
-    const first = seen.get(p.id);
-    if (first !== undefined) problems.push(`field pairs[${i}].id: duplicate pair id "${p.id}" (also pairs[${first}])`);
-    else seen.set(p.id, i);
-    if (p.frame !== undefined) {
-      const key = `${p.group ?? ''}\u0000${p.frame}`;
-      const other = frames.get(key);
-      if (p.group === undefined) problems.push(`field pairs[${i}].frame: a frame index needs the pair's "group" (the sequence it belongs to)`);
-      else if (other !== undefined) problems.push(`field pairs[${i}].frame: frame ${p.frame} of group "${p.group}" is also pairs[${other}]`);
-      else frames.set(key, i);
-    }
     const fields = ['left', 'right', 'truth', 'occlusion', 'ignore'] as const;
     const out: Record<string, string> = {};
     for (const f of fields) {
@@ -252,10 +287,7 @@ export function validateManifest(text: string, file: string, opts: ManifestOptio
       ...(p.tags ? { tags: p.tags } : {}),
     });
   });
-  for (const name of regionNames) {
-    if ((REGION_IDS as readonly string[]).includes(name)) problems.push(`field masks.${name}: "${name}" is a built-in region; give your region another name`);
-  }
-  if (regionNames.size > MAX_USER_REGIONS) problems.push(`field masks: ${regionNames.size} named regions, at most ${MAX_USER_REGIONS} are supported`);
+  problems.push(...regionNameProblems(regionNames));
   const manifest: Manifest = {
     file: resolve(file),
     dir,

@@ -18,15 +18,15 @@
 import type { RegionFigures, RegionSums } from '../core/score.js';
 
 /** Sums a pooled figure may name: the scalar fields of RegionSums, or `bad` (the rate family's count). */
-export type SumName = 'pixels' | 'valid' | 'sumAbs' | 'sumSq' | 'sumErr' | 'depthCount' | 'depthSumRel' | 'depthSumSq' | 'bad';
+export type SumName = (typeof SCALAR_SUMS)[number] | 'bad';
 
 /** The scalar sums, in the order of the sum columns (the rate counts follow them). */
-export const SCALAR_SUMS = ['pixels', 'valid', 'sumAbs', 'sumSq', 'sumErr', 'depthCount', 'depthSumRel', 'depthSumSq'] as const;
+export const SCALAR_SUMS = ['pixels', 'valid', 'sumAbs', 'sumSq', 'sumErr', 'depthCount', 'depthSumRel', 'depthSumSq', 'depthPixels', 'depthBad1', 'depthBad2', 'depthBad5'] as const;
 
 export type Better = 'lower' | 'higher' | 'abs-lower';
 
 /** Scalar fields of RegionFigures that a metric reads. */
-type ScalarFigure = 'coverage' | 'epe' | 'rmse' | 'bias' | 'depth_relerr' | 'depth_rmse_m' | 'conf_auc' | 'conf_oracle_auc' | 'conf_gap' | 'conf_clean_share' | 'subpix_lock' | 'flicker';
+type ScalarFigure = 'coverage' | 'epe' | 'rmse' | 'bias' | 'depth_relerr' | 'depth_rmse_m' | 'depth_relmed' | 'depth_over1pct' | 'depth_over2pct' | 'depth_over5pct' | 'conf_auc' | 'conf_oracle_auc' | 'conf_gap' | 'conf_clean_share' | 'subpix_lock' | 'flicker';
 
 interface EntryBase {
   /** Id in files, CSV and the CLI; a family's id has `{}` where the level goes. */
@@ -119,6 +119,42 @@ export const METRIC_CATALOGUE = [
     description: 'root mean square of Z_pred - Z_true over the same pixels as depth_relerr',
     read: { region: 'depth_rmse_m' },
     pool: { num: 'depthSumSq', den: 'depthCount', scale: 1, sqrt: true },
+  },
+  {
+    id: 'depth_relmed',
+    unit: 'fraction',
+    better: 'lower',
+    label: 'Median relative depth error',
+    description: 'median of |Z_pred - Z_true| / Z_true over the same pixels as depth_relerr (numpy linear method); robust to the few far-off pixels that dominate the mean; not pooled',
+    read: { region: 'depth_relmed' },
+    pool: null,
+  },
+  {
+    id: 'depth_over1pct',
+    unit: '%',
+    better: 'lower',
+    label: 'Depth off by over 1 %',
+    description: "share of the region's pixels with a true depth whose predicted depth is missing (invalid, or not positive) or differs from the truth by more than 1 % of the true depth",
+    read: { region: 'depth_over1pct' },
+    pool: { num: 'depthBad1', den: 'depthPixels', scale: 100, sqrt: false },
+  },
+  {
+    id: 'depth_over2pct',
+    unit: '%',
+    better: 'lower',
+    label: 'Depth off by over 2 %',
+    description: 'as depth_over1pct, with 2 % of the true depth',
+    read: { region: 'depth_over2pct' },
+    pool: { num: 'depthBad2', den: 'depthPixels', scale: 100, sqrt: false },
+  },
+  {
+    id: 'depth_over5pct',
+    unit: '%',
+    better: 'lower',
+    label: 'Depth off by over 5 %',
+    description: 'as depth_over1pct, with 5 % of the true depth',
+    read: { region: 'depth_over5pct' },
+    pool: { num: 'depthBad5', den: 'depthPixels', scale: 100, sqrt: false },
   },
   {
     id: 'conf_auc',
@@ -363,7 +399,7 @@ export function metricValue(m: Metric, fig: RegionFigures, map: LevelMap, cost: 
 
 /** Fill `out` (length sumColumnCount(set)) with one pair's sums in column order. */
 export function readSums(s: RegionSums, map: LevelMap, out: Float64Array): void {
-  for (let c = 0; c < SCALAR_SUMS.length; c++) out[c] = s[SCALAR_SUMS[c]];
+  for (let c = 0; c < SCALAR_SUMS.length; c++) out[c] = s[SCALAR_SUMS[c]] ?? 0; // sums of older results lack the newer fields
   for (let k = 0; k < map.rate.length; k++) out[SCALAR_SUMS.length + k] = s.bad[map.rate[k]] ?? 0;
 }
 

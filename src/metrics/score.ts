@@ -108,12 +108,11 @@ export function scorePair(pred: Float32Array | null, truth: Float32Array, region
     if (opts.camera) countTruthDepth(truth, table.codes, depth.truthCount, depthConstants(opts.camera, opts.depthEps), profiler);
   } else if (opts.camera) {
     if (relBuf.length < total) relBuf = new Float64Array(total);
-    collectWithDepth(pred, truth, table.codes, valsBuf, pos, relBuf, relPos, depth, depthConstants(opts.camera, opts.depthEps), profiler);
+    collectWithDepth(pred, truth, { codes: table.codes, vals: valsBuf, pos, rels: relBuf, relPos }, depth, depthConstants(opts.camera, opts.depthEps), profiler);
   } else {
     collect(pred, truth, table.codes, valsBuf, pos);
   }
 
-  const slices = mapSlices(regions);
   const nGroups = regions.names.length;
   const views = regions.bands.length + 1;
   const byView: { err: SegmentStats[]; rel: SegmentStats[] | null }[] = [];
@@ -128,6 +127,27 @@ export function scorePair(pred: Float32Array | null, truth: Float32Array, region
     byView.push({ err, rel });
   }
 
+  return assembleSlices({ pred, truth, regions, opts, confidence, table, count, depth, byView, profiler });
+}
+
+/** What scorePair has computed, for assembleSlices. */
+interface SliceInputs {
+  pred: Float32Array | null;
+  truth: Float32Array;
+  regions: RegionMap;
+  opts: ScoreOptions;
+  confidence: Float32Array | null;
+  table: PatternTable;
+  count: Float64Array;
+  depth: DepthSums;
+  byView: { err: SegmentStats[]; rel: SegmentStats[] | null }[];
+  profiler: DepthProfiler | null;
+}
+
+/** Each slice's sums and figures from the per-view statistics (plus sub-pixel, sparsification and the depth profile). */
+function assembleSlices(x: SliceInputs): PairScore {
+  const { pred, truth, regions, opts, confidence, table, count, depth, byView, profiler } = x;
+  const slices = mapSlices(regions);
   const subpix = pred !== null ? subpixelBySlice(pred, truth, regions) : {};
   const profiles = profiler?.byRegion() ?? null;
   const out: PairScore = {};
@@ -354,6 +374,15 @@ function countTruthDepth(truth: Float32Array, codes: Uint8Array | Uint16Array, t
   }
 }
 
+/** Where collectWithDepth writes: the pattern codes, the error buffer and the relative depth error buffer with their write positions per pattern. */
+interface DepthWriters {
+  codes: Uint8Array | Uint16Array;
+  vals: Float64Array;
+  pos: Int32Array;
+  rels: Float64Array;
+  relPos: Int32Array;
+}
+
 /**
  * Pass 2 with a camera: as collect, plus per pattern the relative depth errors (into a
  * second partitioned buffer: their count, sum, rates and median come from groupStats),
@@ -361,18 +390,8 @@ function countTruthDepth(truth: Float32Array, codes: Uint8Array | Uint16Array, t
  * Zp - Zt = fB/dp - fB/dt = fB (dt - dp) / (dp dt); |Zp - Zt| / Zt = |dt - dp| / dp: one
  * division instead of three, the same quantities as the file comment defines.
  */
-function collectWithDepth(
-  pred: Float32Array,
-  truth: Float32Array,
-  codes: Uint8Array | Uint16Array,
-  vals: Float64Array,
-  pos: Int32Array,
-  rels: Float64Array,
-  relPos: Int32Array,
-  d: DepthSums,
-  k: DepthConstants,
-  profiler: DepthProfiler | null,
-): void {
+function collectWithDepth(pred: Float32Array, truth: Float32Array, w: DepthWriters, d: DepthSums, k: DepthConstants, profiler: DepthProfiler | null): void {
+  const { codes, vals, pos, rels, relPos } = w;
   const { fb, shift, eps } = k;
   const { truthCount, sq, fail } = d;
   const n = codes.length;

@@ -4,6 +4,7 @@
  * headline figures, the pairs that changed most, and the full table folded away.
  */
 import type { Comparison, ConfigComparison, MetricDelta } from '../stats/compare.js';
+import { ALL_BANDS, sliceKey } from '../core/regions.js';
 import type { GateOutcome } from '../stats/gates.js';
 import { entryOf, thresholdName } from '../metrics/catalogue.js';
 
@@ -48,8 +49,8 @@ export function headlineRows(cfg: ConfigComparison, thresholds: readonly number[
   const want = new Set<string>();
   for (const r of ['known', 'visible']) for (const m of ['coverage', 'epe', ...thresholds.map(thresholdName)]) want.add(`${r}/${m}`);
   want.add('known/time_ms');
-  for (const g of gates) want.add(`${g.gate.region}/${g.gate.metric}`);
-  return cfg.deltas.filter((d) => want.has(`${d.region}/${d.metric}`) && d.n > 0);
+  for (const g of gates) want.add(`${sliceKey(g.gate.region, g.gate.band)}/${g.gate.metric}`);
+  return cfg.deltas.filter((d) => want.has(`${sliceKey(d.region, d.band)}/${d.metric}`) && d.n > 0);
 }
 
 /** Every row with data; cost figures only once (under `known`), they do not depend on the region. */
@@ -58,7 +59,7 @@ export function allRows(cfg: ConfigComparison): MetricDelta[] {
     const e = entryOf(id);
     return e !== undefined && 'job' in e.read;
   };
-  return cfg.deltas.filter((d) => d.n > 0 && (!perJob(d.metric) || d.region === 'known'));
+  return cfg.deltas.filter((d) => d.n > 0 && (!perJob(d.metric) || (d.region === 'known' && d.band === ALL_BANDS)));
 }
 
 /**
@@ -95,7 +96,7 @@ function deltaTable(rows: MetricDelta[], level: number): string[] {
   for (const d of rows) {
     const ci = d.changeCi ? `${fmtNum(d.changeCi.lo, true)} … ${fmtNum(d.changeCi.hi, true)}` : '–';
     const units = d.unit === 'group' ? `${d.n} (${d.units} groups)` : String(d.n);
-    out.push(`| ${d.region} | ${mdCell(metricLabel(d.metric))} | ${fmtNum(d.base)} | ${fmtNum(d.cand)} | ${fmtNum(d.change, true)} | ${ci} | ${fmtP(d.p)} | ${units} | ${verdict(d)} |`);
+    out.push(`| ${mdCell(sliceKey(d.region, d.band))} | ${mdCell(metricLabel(d.metric))} | ${fmtNum(d.base)} | ${fmtNum(d.cand)} | ${fmtNum(d.change, true)} | ${ci} | ${fmtP(d.p)} | ${units} | ${verdict(d)} |`);
   }
   return out;
 }
@@ -135,7 +136,7 @@ function gateRows(gates: readonly GateOutcome[]): string[] {
     const why = g.belowNoise
       ? `${g.reason}; the allowance is below the smallest change these pairs can detect, so a worsening near the allowance passes or fails by chance${g.unitsNeeded !== null ? ` (about ${g.unitsNeeded} pairs would make it detectable)` : ''}`
       : g.reason;
-    L.push(`| ${mdCell(g.label)} | ${g.gate.region}/${g.gate.metric} | ${fmtNum(g.worsening, true)} | ${fmtNum(g.gate.allowance)} | ${fmtNum(g.smallest)} | ${g.pass ? 'pass' : '**FAIL**'}${g.belowNoise ? ' ⚠' : ''} | ${mdCell(why)} |`);
+    L.push(`| ${mdCell(g.label)} | ${mdCell(sliceKey(g.gate.region, g.gate.band))}/${g.gate.metric} | ${fmtNum(g.worsening, true)} | ${fmtNum(g.gate.allowance)} | ${fmtNum(g.smallest)} | ${g.pass ? 'pass' : '**FAIL**'}${g.belowNoise ? ' ⚠' : ''} | ${mdCell(why)} |`);
   }
   L.push('');
   return L;
@@ -213,7 +214,7 @@ export function compareConsole(c: Comparison, gates: readonly GateOutcome[], all
     const rows = [['region', 'metric', 'baseline', 'candidate', 'change', `${Math.round(c.level * 100)}% interval`, 'p', 'pairs']];
     for (const d of all ? allRows(cfg) : headlineRows(cfg, c.thresholds, gates)) {
       rows.push([
-        d.region,
+        sliceKey(d.region, d.band),
         metricLabel(d.metric),
         fmtNum(d.base),
         fmtNum(d.cand),
@@ -231,7 +232,7 @@ export function compareConsole(c: Comparison, gates: readonly GateOutcome[], all
   }
   if (gates.length) {
     L.push('', 'gates:');
-    for (const g of gates) L.push(`  ${g.pass ? 'pass' : 'FAIL'}  ${g.label}  ${g.gate.region}/${g.gate.metric}:${g.gate.allowance}  ${g.reason}${g.belowNoise ? `  (allowance below the smallest detectable change ${fmtNum(g.smallest)}: near it, chance decides)` : ''}`);
+    for (const g of gates) L.push(`  ${g.pass ? 'pass' : 'FAIL'}  ${g.label}  ${sliceKey(g.gate.region, g.gate.band)}/${g.gate.metric}:${g.gate.allowance}  ${g.reason}${g.belowNoise ? `  (allowance below the smallest detectable change ${fmtNum(g.smallest)}: near it, chance decides)` : ''}`);
   }
   return L.join('\n') + '\n';
 }

@@ -7,6 +7,7 @@ import type { SummaryRow } from '../stats/aggregate.js';
 import { thresholdName } from '../metrics/types.js';
 import { keyThreshold } from '../metrics/catalogue.js';
 import { byNatural } from '../core/order.js';
+import { ALL_BANDS } from '../core/regions.js';
 
 function fmt(v: number | null | undefined, digits: number): string {
   return v === null || v === undefined || !Number.isFinite(v) ? '-' : v.toFixed(digits);
@@ -30,7 +31,7 @@ export function consoleTable(rows: readonly SummaryRow[], thresholds: readonly n
   const out: string[][] = [];
   const cells = new Map<string, { known?: SummaryRow; visible?: SummaryRow }>();
   for (const r of rows) {
-    if (r.tag !== null || (r.region !== 'known' && r.region !== 'visible')) continue;
+    if (r.tag !== null || r.band !== ALL_BANDS || (r.region !== 'known' && r.region !== 'visible')) continue;
     const key = `${r.matcher}\u0000${r.dataset}`;
     const c = cells.get(key) ?? {};
     c[r.region] = r;

@@ -4,6 +4,7 @@
  * figures) for each gate that fails.
  */
 import type { Comparison } from '../stats/compare.js';
+import { sliceKey } from '../core/regions.js';
 import type { GateOutcome } from '../stats/gates.js';
 import { fmtNum, fmtP } from './compare-md.js';
 
@@ -25,8 +26,8 @@ export function junitXml(c: Comparison, gates: readonly GateOutcome[], suiteName
   L.push(`  <testsuite name="${xmlText(suiteName)}" tests="${gates.length}" failures="${failures}" errors="0" skipped="0">`);
   for (const g of gates) {
     const cfg = c.configs.find((x) => x.label === g.label);
-    const d = cfg?.deltas.find((x) => x.region === g.gate.region && x.metric === g.gate.metric);
-    const name = `${g.gate.region}/${g.gate.metric}:${g.gate.allowance}`;
+    const d = cfg?.deltas.find((x) => x.region === g.gate.region && x.band === g.gate.band && x.metric === g.gate.metric);
+    const name = `${sliceKey(g.gate.region, g.gate.band)}/${g.gate.metric}:${g.gate.allowance}`;
     const figures = d
       ? `baseline ${fmtNum(d.base)}, candidate ${fmtNum(d.cand)}, change ${fmtNum(d.change, true)}, ${Math.round(c.level * 100)} % interval ${d.changeCi ? `[${fmtNum(d.changeCi.lo, true)}, ${fmtNum(d.changeCi.hi, true)}]` : '–'}, p ${fmtP(d.p)}, pairs ${d.n}, smallest detectable ${fmtNum(g.smallest)}`
       : 'no figures';

@@ -1,18 +1,20 @@
 /**
- * pairs.csv: the tidy per-pair table, one row per configuration, pair and region.
- * Columns: matcher, dataset, pair, region, status, pixels, then one column per metric
- * of the run's metric set in catalogue order (src/metrics/catalogue.ts). An empty
- * figure (null) is an empty cell. Rows are sorted by matcher, dataset, pair
- * (code-unit order), then region in REGION_IDS order. A pure function of the results.
+ * pairs.csv: the tidy per-pair table, one row per configuration, pair, region and depth
+ * band. Columns: matcher, dataset, pair, region, band, status, pixels, then one column
+ * per metric of the run's metric set in catalogue order (src/metrics/catalogue.ts). An
+ * empty figure (null) is an empty cell. `band` is `all` for the whole region, else the
+ * band's label (`2-4m`, `8m+`). Rows are sorted by matcher, dataset, pair (code-unit
+ * order), then region in the job's region order, the whole region before its bands
+ * (nearest first). A pure function of the results.
  */
-import { REGION_IDS } from '../core/regions.js';
+import { slicesOf } from '../core/regions.js';
 import type { JobResult } from '../core/score.js';
 import { levelMapOf, metricsOf, metricValue, type MetricSet } from '../metrics/catalogue.js';
 import { byCodeUnits, byNatural } from '../core/order.js';
 import { csvText, type CsvCell } from './csv.js';
 
 export function pairsCsvHeader(set: MetricSet): string[] {
-  return ['matcher', 'dataset', 'pair', 'region', 'status', 'pixels', ...metricsOf(set).map((m) => m.id)];
+  return ['matcher', 'dataset', 'pair', 'region', 'band', 'status', 'pixels', ...metricsOf(set).map((m) => m.id)];
 }
 
 /** Round to 6 significant digits for the table (the journal keeps full precision). */
@@ -28,9 +30,11 @@ export function pairsCsvRows(results: readonly JobResult[], set: MetricSet): Csv
   const rows: CsvCell[][] = [];
   for (const r of sorted) {
     const levels = levelMapOf(r, set);
-    for (const region of REGION_IDS) {
-      const f = r.scores[region].figures;
-      rows.push([r.matcher, r.dataset, r.pair, region, r.status, f.pixels, ...metrics.map((m) => tableNumber(metricValue(m, f, levels, r)))]);
+    for (const sl of slicesOf(r)) {
+      const sc = r.scores[sl.key];
+      if (!sc) continue;
+      const f = sc.figures;
+      rows.push([r.matcher, r.dataset, r.pair, sl.region, sl.band, r.status, f.pixels, ...metrics.map((m) => tableNumber(metricValue(m, f, levels, r)))]);
     }
   }
   return rows;

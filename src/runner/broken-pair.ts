@@ -18,12 +18,11 @@ import { toLuminance } from '../core/image.js';
 import { pairFields, type PairEntry } from '../core/pair.js';
 import { REGION_BIT, REGION_IDS, slicesOf, type RegionMap, type RegionParams } from '../core/regions.js';
 import { bandLabels } from '../core/depth-bands.js';
-import { depthToDisparityInPlace } from '../core/camera.js';
 import type { JobResult, PairScore } from '../core/score.js';
 import { pairCamera, type Manifest } from '../dataset/manifest.js';
-import { truthReadOptions } from '../dataset/load.js';
+import { readTruth } from '../dataset/load.js';
 import { buildRegions, type RegionInput } from '../dataset/regions.js';
-import { readDisparityFile, readImageFile, readMaskFile } from '../io/files.js';
+import { readImageFile, readMaskFile } from '../io/files.js';
 import { emptySums, figuresFromSums, scorePair } from '../metrics/score.js';
 import type { RunConfig } from './plan.js';
 import type { MetricSet } from '../metrics/catalogue.js';
@@ -90,9 +89,8 @@ export async function brokenPairScores(m: Manifest, entry: PairEntry, plan: { re
     ...(m.regionNames.length ? { regions: [...REGION_IDS, ...m.regionNames] } : {}),
     ...(bandEdges?.length ? { bands: bandLabels(bandEdges) } : {}),
   };
-  const truth = await tryRead(() => readDisparityFile(entry.truth, truthReadOptions(m)));
-  if (!truth || (m.truthKind === 'depth' && !camera)) return { scores: unscoredPair(set, layout), ...layout };
-  if (m.truthKind === 'depth' && camera) depthToDisparityInPlace(truth.data, camera, m.depthUnit ?? 'm');
+  const truth = await tryRead(() => readTruth(m, entry));
+  if (!truth) return { scores: unscoredPair(set, layout), ...layout };
   const same = (s: { width: number; height: number } | undefined): boolean => s !== undefined && s.width === truth.width && s.height === truth.height;
   const left = await tryRead(() => readImageFile(entry.left));
   const mask = entry.occlusion ? await tryRead(() => readMaskFile(entry.occlusion!)) : undefined;

@@ -7,8 +7,8 @@ import { InputError, UsageError } from '../core/errors.js';
 import type { ParamValue } from '../core/params.js';
 import type { RegionParams } from '../core/regions.js';
 import { datasetHash } from '../dataset/hash.js';
-import { loadManifest, pairCamera, sortedPairs, type Manifest } from '../dataset/manifest.js';
-import { defaultDepthBands } from '../core/depth-bands.js';
+import { loadManifest, sortedPairs, type Manifest } from '../dataset/manifest.js';
+import { defaultDepthBandsOf } from '../dataset/depth-range.js';
 import type { MatcherPlugin } from '../core/matcher.js';
 import { checkConfigName } from '../plugins/params.js';
 import { resolveMatcherEntries, resolveMatchers, type MatcherConfig, type MatcherSource } from '../plugins/registry.js';
@@ -144,12 +144,7 @@ export async function planRun(settings: RunSettings, cwd = process.cwd()): Promi
   const name = safeRunName(settings.name ?? [datasets[0].manifest.name, ...configs.map((c) => c.label)].join('-'));
   const runDir = settings.out ?? resolve(cwd, 'reports', name);
   const jobs = enumerateJobs(pairLists, configs.map((c) => c.label));
-  const depthBands = settings.depthBands ?? defaultBandsOf(datasets.map((d) => d.manifest));
+  const depthBands = settings.depthBands ?? (await defaultDepthBandsOf(datasets.map((d) => d.manifest)));
   return { name, runDir, datasets, configs, thresholds: settings.thresholds, quantiles: settings.quantiles, regions: settings.regions, depthBands, jobs, settings, warnings };
 }
 
-/** The default depth bands of a run: from the cameras and disparity ranges of its datasets. */
-export function defaultBandsOf(manifests: readonly Manifest[]): number[] {
-  const cameras = manifests.flatMap((m) => m.pairs.map((p) => pairCamera(m, p)).filter((c) => c !== undefined));
-  return defaultDepthBands(cameras, manifests.map((m) => m.disparityRange));
-}

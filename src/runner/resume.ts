@@ -22,7 +22,7 @@ export function resumeSettings(runDir: string): { settings: RunSettings; shard: 
 
 /**
  * Everything in a run's configuration that changes its tables: thresholds, region
- * parameters, each configuration (label, id, kind, parameters, code hash, prediction
+ * parameters, depth bands, each configuration (label, id, kind, parameters, code hash, prediction
  * source) and each dataset (name, content hash, pair count). Paths and times are left out.
  */
 export function configFingerprint(config: RunConfigRecord): string {
@@ -30,6 +30,7 @@ export function configFingerprint(config: RunConfigRecord): string {
     thresholds: config.thresholds,
     quantiles: config.quantiles,
     regions: Object.fromEntries(Object.entries(config.regions).sort(([a], [b]) => byCodeUnits(a, b))),
+    depthBands: config.depthBands ?? [],
     matchers: [...config.matchers]
       .map((m) => ({ label: m.label, matcherId: m.matcherId, kind: m.kind, params: m.params, codeHash: m.codeHash ?? null, predictions: m.predictions ?? null }))
       .sort((a, b) => byCodeUnits(a.label, b.label)),
@@ -45,6 +46,7 @@ export function configDifference(a: RunConfigRecord, b: RunConfigRecord): string
   const fa = JSON.parse(configFingerprint(a)) as { regions: unknown; matchers: { label: string }[]; datasets: { name: string }[] };
   const fb = JSON.parse(configFingerprint(b)) as typeof fa;
   if (JSON.stringify(fa.regions) !== JSON.stringify(fb.regions)) return 'region parameters differ';
+  if (JSON.stringify(a.depthBands ?? []) !== JSON.stringify(b.depthBands ?? [])) return `depth bands differ (${(a.depthBands ?? []).join(',') || 'none'} vs ${(b.depthBands ?? []).join(',') || 'none'})`;
   const ds = (x: typeof fa): string => JSON.stringify(x.datasets);
   if (ds(fa) !== ds(fb)) {
     const names = new Set([...fa.datasets, ...fb.datasets].map((d) => d.name));

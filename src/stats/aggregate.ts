@@ -1,6 +1,6 @@
 /**
  * Aggregation of per-pair results into one summary row per
- * (configuration, dataset, region[, tag]).
+ * (configuration, dataset, region, depth band[, tag]): one row per slice (src/core/regions.ts).
  *
  * - mean: the mean over pairs of each per-pair figure. A pair whose figure is empty
  *   (null: empty region, or no valid prediction for error figures) is left out, and
@@ -19,7 +19,7 @@
  *   manifest's groups when any pair of the cell has a `group`.
  */
 import type { JobResult } from '../core/score.js';
-import { REGION_IDS, type RegionId } from '../core/regions.js';
+import { ALL_BANDS, sliceKey, slicesOf, type Slice } from '../core/regions.js';
 import { InputError } from '../core/errors.js';
 import { detectability } from './power.js';
 import { bcaIntervals, type BootstrapOptions, type Interval, type UnitMatrix, type TotalsStat } from './bootstrap.js';
@@ -48,7 +48,9 @@ export interface SummaryRow {
   matcher: string;
   matcherId: string;
   dataset: string;
-  region: RegionId;
+  region: string;
+  /** `all` for the whole region, else the depth band's label (`2-4m`). */
+  band: string;
   /** null = all pairs; otherwise only pairs carrying this manifest tag. */
   tag: string | null;
   /** Pairs whose region is non-empty. */
@@ -104,7 +106,7 @@ export interface CellMatrix extends UnitMatrix {
   unitKeys: string[];
 }
 
-export function cellMatrix(jobs: readonly JobResult[], region: RegionId, set: MetricSet, byGroup: boolean): CellMatrix {
+export function cellMatrix(jobs: readonly JobResult[], key: string, set: MetricSet, byGroup: boolean): CellMatrix {
   const metrics = metricsOf(set);
   const M = metrics.length;
   const sumCols = sumColumnCount(set);
@@ -124,7 +126,8 @@ export function cellMatrix(jobs: readonly JobResult[], region: RegionId, set: Me
     const levels = jobLevels(j, set);
     const u = unitIndex.get(byGroup && j.group !== undefined ? `group:${j.group}` : `pair:${j.dataset}/${j.pair}`)!;
     const base = u * cols;
-    const score = j.scores[region];
+    const score = j.scores[key];
+    if (!score) continue; // a pair without this slice (no camera: no bands) adds nothing
     const nonEmpty = score.sums.pixels > 0;
     const cost = measuredCost(j);
     for (let m = 0; m < M; m++) {
@@ -155,12 +158,12 @@ export function cellStats(cm: CellMatrix, set: MetricSet): TotalsStat[] {
 
 function summarizeCell(
   jobs: readonly JobResult[],
-  region: RegionId,
+  slice: Slice,
   tag: string | null,
   opts: AggregateOptions,
 ): SummaryRow {
   const byGroup = jobs.some((j) => j.group !== undefined);
-  const cm = cellMatrix(jobs, region, opts, byGroup);
+  const cm = cellMatrix(jobs, slice.key, opts, byGroup);
   const stats = cellStats(cm, opts);
   // Point figures from the totals, summed in sorted unit order.
   const tot = new Float64Array(cm.cols);
@@ -187,14 +190,15 @@ function summarizeCell(
   let nPairs = 0;
   let nFailed = 0;
   for (const j of jobs) {
-    if (j.scores[region].sums.pixels > 0) nPairs++;
+    if ((j.scores[slice.key]?.sums.pixels ?? 0) > 0) nPairs++;
     if (j.status === 'failed') nFailed++;
   }
   return {
     matcher: jobs[0].matcher,
     matcherId: jobs[0].matcherId,
     dataset: jobs[0].dataset,
-    region,
+    region: slice.region,
+    band: slice.band,
     tag,
     n_pairs: nPairs,
     n_jobs: jobs.length,
@@ -215,21 +219,35 @@ export function latestJobs(results: readonly JobResult[]): JobResult[] {
   return [...byKey.values()];
 }
 
+/** The slices of a list of jobs: each job's own (slicesOf), in first-seen order. */
+export function jobSlices(jobs: readonly JobResult[]): Slice[] {
+  const seen = new Map<string, Slice>();
+  for (const j of jobs) for (const sl of slicesOf(j)) if (!seen.has(sl.key)) seen.set(sl.key, sl);
+  return [...seen.values()];
+}
+
+/** The whole-region slice of a region. */
+export function wholeRegion(region: string): Slice {
+  return { key: sliceKey(region, ALL_BANDS), region, band: ALL_BANDS };
+}
+
 /**
- * One row per (matcher label, dataset, region), rows sorted by matcher, dataset,
- * then region in REGION_IDS order; with `byTag`, rows per tag follow each untagged row set.
+ * One row per (matcher label, dataset, slice), rows sorted by matcher, dataset, then
+ * region in the jobs' region order, the whole region before its bands; with `byTag`,
+ * rows per tag follow each untagged row set.
  */
 export function aggregate(results: JobResult[], opts: AggregateOptions): SummaryRow[] {
   const jobs = sortJobs(latestJobs(results));
   const cells = groupBy(jobs, (j) => `${j.matcher}\u0000${j.dataset}`);
   const rows: SummaryRow[] = [];
   for (const list of cells.values()) {
-    for (const region of REGION_IDS) rows.push(summarizeCell(list, region, null, opts));
+    const slices = jobSlices(list);
+    for (const sl of slices) rows.push(summarizeCell(list, sl, null, opts));
     if (opts.byTag ?? jobs.some((j) => j.tags !== undefined && j.tags.length > 0)) {
       const tags = [...new Set(list.flatMap((j) => j.tags ?? []))].sort(cmp);
       for (const tag of tags) {
         const sub = list.filter((j) => (j.tags ?? []).includes(tag));
-        for (const region of REGION_IDS) rows.push(summarizeCell(sub, region, tag, opts));
+        for (const sl of slices) rows.push(summarizeCell(sub, sl, tag, opts));
       }
     }
   }

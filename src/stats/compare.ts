@@ -14,12 +14,12 @@
  * runs are scored on the same pairs.
  */
 import type { JobResult } from '../core/score.js';
-import { REGION_IDS, type RegionId } from '../core/regions.js';
+import { type Slice } from '../core/regions.js';
 import { detectability, type Detectability } from './power.js';
 import { bcaIntervals, DEFAULT_LEVEL, type BootstrapOptions, type Interval, type TotalsStat } from './bootstrap.js';
 import { signFlipTest, type SignFlipOptions } from './permutation.js';
 import { measuredCost, metricsOf, metricValue, pooledFrom, readSums, sumColumnCount, worseningSign, findMetric, type LevelMap, type Metric, type MetricSet } from '../metrics/catalogue.js';
-import { cmp, jobLevels, latestJobs, sortJobs } from './aggregate.js';
+import { cmp, jobLevels, jobSlices, latestJobs, sortJobs } from './aggregate.js';
 import { byNatural } from '../core/order.js';
 import { metricSetOf, type RunConfigRecord, type RunRecord } from '../io/run-record.js';
 
@@ -59,7 +59,9 @@ export function comparabilityProblems(base: RunInfoLike, cand: RunInfoLike): str
 }
 
 export interface MetricDelta {
-  region: RegionId;
+  region: string;
+  /** `all` for the whole region, else a depth band's label. */
+  band: string;
   metric: string;
   /** Means over the compared pairs. For bias these are mean |bias|. */
   base: number | null;
@@ -118,7 +120,7 @@ export interface Comparison {
   /** `label: dataset/pair` entries present in one run only (configs in common). */
   pairsOnlyInBase: string[];
   pairsOnlyInCand: string[];
-  headline: { region: RegionId; metric: string };
+  headline: { region: string; metric: string };
   resamples: number;
   level: number;
 }
@@ -127,7 +129,7 @@ export interface CompareOptions {
   bootstrap?: BootstrapOptions;
   permutation?: SignFlipOptions;
   /** Region and metric for the list of most-changed pairs (default known/epe). */
-  headline?: { region: RegionId; metric: string };
+  headline?: { region: string; metric: string };
   /** How many most-changed pairs to list (default 5). */
   top?: number;
   /** Explicit pairings [baseline label, candidate label]; the other labels pair with themselves. */
@@ -147,8 +149,9 @@ function byLabel(results: JobResult[]): Map<string, Map<string, JobResult>> {
 }
 
 /** A job's figure as compared: null when empty; for bias its magnitude. */
-function pairValue(j: JobResult, region: RegionId, metric: Metric, levels: LevelMap): number | null {
-  const s = j.scores[region];
+function pairValue(j: JobResult, key: string, metric: Metric, levels: LevelMap): number | null {
+  const s = j.scores[key];
+  if (!s) return null;
   if (!metric.perJob && !(s.sums.pixels > 0)) return null;
   const v = metricValue(metric, s.figures, levels, measuredCost(j));
   if (v === null || !Number.isFinite(v)) return null;
@@ -193,8 +196,9 @@ function pairUp(base: Map<string, JobResult>, cand: Map<string, JobResult>, set:
   };
 }
 
-/** Every metric's paired change on one region (see the module comment). */
-function regionDeltas(p: Paired, region: RegionId, set: MetricSet, opts: CompareOptions): MetricDelta[] {
+/** Every metric's paired change on one slice (see the module comment). */
+function regionDeltas(p: Paired, slice: Slice, set: MetricSet, opts: CompareOptions): MetricDelta[] {
+  const region = slice.key;
   const metrics = metricsOf(set);
   const M = metrics.length;
   const nSum = sumColumnCount(set);
@@ -214,9 +218,12 @@ function regionDeltas(p: Paired, region: RegionId, set: MetricSet, opts: Compare
       data[row + 4 * m + 2] += b;
       data[row + 4 * m + 3] += c;
     }
-    readSums(p.base[i].scores[region].sums, p.levelsB[i], sums);
+    const sb = p.base[i].scores[region];
+    const sc = p.cand[i].scores[region];
+    if (!sb || !sc) continue;
+    readSums(sb.sums, p.levelsB[i], sums);
     for (let k = 0; k < nSum; k++) data[row + 4 * M + k] += sums[k];
-    readSums(p.cand[i].scores[region].sums, p.levelsC[i], sums);
+    readSums(sc.sums, p.levelsC[i], sums);
     for (let k = 0; k < nSum; k++) data[row + 4 * M + nSum + k] += sums[k];
   }
   const stats: TotalsStat[] = metrics.map((_, m) => (t: Float64Array) => (t[4 * m + 1] > 0 ? t[4 * m] / t[4 * m + 1] : NaN));
@@ -240,7 +247,8 @@ function regionDeltas(p: Paired, region: RegionId, set: MetricSet, opts: Compare
     const sign = worseningSign(metric);
     const pool = metric.pool;
     return {
-      region,
+      region: slice.region,
+      band: slice.band,
       metric: metric.id,
       base: n > 0 ? tot[4 * m + 2] / n : null,
       cand: n > 0 ? tot[4 * m + 3] / n : null,
@@ -262,7 +270,7 @@ function regionDeltas(p: Paired, region: RegionId, set: MetricSet, opts: Compare
 
 /** Pairs whose status changed, and those that changed most on the headline figure (largest worsening first). */
 function pairChanges(p: Paired, set: MetricSet, opts: CompareOptions): { topChanges: PairChange[]; statusChanges: PairChange[] } {
-  const hl = opts.headline ?? { region: 'known' as RegionId, metric: 'epe' };
+  const hl = opts.headline ?? { region: 'known', metric: 'epe' };
   const hlMetric = findMetric(set, hl.metric);
   if (!hlMetric) throw new RangeError(`compare: headline metric ${hl.metric} is not in the metric set`);
   const changes: PairChange[] = [];
@@ -298,7 +306,7 @@ function compareConfig(
   opts: CompareOptions,
 ): ConfigComparison {
   const p = pairUp(base, cand, set);
-  const deltas = REGION_IDS.flatMap((region) => regionDeltas(p, region, set, opts));
+  const deltas = jobSlices([...p.base, ...p.cand]).flatMap((slice) => regionDeltas(p, slice, set, opts));
   const [baseLabel, candLabel] = labels;
   const label = baseLabel === candLabel ? candLabel : `${baseLabel} → ${candLabel}`;
   return { label, baseLabel, candLabel, pairs: p.common.length, deltas, ...pairChanges(p, set, opts) };

@@ -1,15 +1,19 @@
 /**
  * CI gates on a comparison: `region/metric:allowance`, the allowed worsening in the
  * metric's unit (percentage points for % metrics), judged per compared configuration.
+ * A gate may name a depth band of the region: `known@2-4m/depth_over5pct:1`.
  */
-import { REGION_IDS, type RegionId } from '../core/regions.js';
+import { ALL_BANDS, REGION_IDS } from '../core/regions.js';
+import { MASK_NAME_PATTERN } from '../dataset/manifest.js';
 import { UsageError } from '../core/errors.js';
 import { findMetric, metricsOf, type MetricSet } from '../metrics/catalogue.js';
 import type { Comparison } from './compare.js';
 import { unitsNeeded } from './power.js';
 
 export interface Gate {
-  region: RegionId;
+  region: string;
+  /** `all` (the whole region) or a depth band's label. */
+  band: string;
   metric: string;
   /** Allowed worsening in the metric's unit (percentage points for % metrics). */
   allowance: number;
@@ -21,16 +25,31 @@ export interface Gate {
 export function parseGate(text: string, set: MetricSet, option = '--gate'): Gate {
   const m = /^([^/\s]+)\/([^:\s]+):([^\s]+)$/.exec(text.trim());
   if (!m) throw new UsageError(option, `"${text}" is not region/metric:allowance (e.g. visible/over2px:0.5)`);
-  const [, region, metric, allow] = m as unknown as [string, string, string, string];
-  if (!(REGION_IDS as readonly string[]).includes(region)) {
-    throw new UsageError(option, `unknown region "${region}" in "${text}" (regions: ${REGION_IDS.join(', ')})`);
-  }
+  const [, slice, metric, allow] = m as unknown as [string, string, string, string];
+  const { region, band } = parseSlice(slice, text, option);
   if (!findMetric(set, metric)) {
     throw new UsageError(option, `unknown metric "${metric}" in "${text}" (metrics: ${metricsOf(set).map((x) => x.id).join(', ')})`);
   }
   const allowance = Number(allow);
   if (!Number.isFinite(allowance) || allowance < 0) throw new UsageError(option, `allowance in "${text}" must be a number >= 0`);
-  return { region: region as RegionId, metric, allowance, source: option };
+  return { region, band, metric, allowance, source: option };
+}
+
+/**
+ * `region` or `region@band` (e.g. `visible`, `dock-edge`, `known@2-4m`): a built-in region
+ * or a name a manifest may give its own, and a band label as the tables write it.
+ */
+export function parseSlice(slice: string, text: string, option: string): { region: string; band: string } {
+  const at = slice.indexOf('@');
+  const region = at < 0 ? slice : slice.slice(0, at);
+  const band = at < 0 ? ALL_BANDS : slice.slice(at + 1);
+  if (!(REGION_IDS as readonly string[]).includes(region) && !MASK_NAME_PATTERN.test(region)) {
+    throw new UsageError(option, `unknown region "${region}" in "${text}" (regions: ${REGION_IDS.join(', ')}, or a dataset's own)`);
+  }
+  if (band !== ALL_BANDS && !/^\d+(\.\d+)?(-\d+(\.\d+)?m|m\+)$/.test(band)) {
+    throw new UsageError(option, `"${band}" in "${text}" is not a depth band (e.g. 2-4m, 8m+, or all)`);
+  }
+  return { region, band };
 }
 
 /**
@@ -50,8 +69,9 @@ export function parseGateFile(text: string, file: string, set: MetricSet): Gate[
     const where = `--gate-file ${file} [${i}]`;
     if (typeof g === 'string') return parseGate(g, set, where);
     if (g && typeof g === 'object') {
-      const o = g as { region?: unknown; metric?: unknown; allowance?: unknown };
-      return parseGate(`${String(o.region)}/${String(o.metric)}:${String(o.allowance)}`, set, where);
+      const o = g as { region?: unknown; band?: unknown; metric?: unknown; allowance?: unknown };
+      const band = o.band === undefined || o.band === ALL_BANDS ? '' : `@${String(o.band)}`;
+      return parseGate(`${String(o.region)}${band}/${String(o.metric)}:${String(o.allowance)}`, set, where);
     }
     throw new UsageError(where, 'a gate is a string region/metric:allowance or an object { region, metric, allowance }');
   });
@@ -84,7 +104,11 @@ export function evaluateGates(c: Comparison, gates: readonly Gate[], strict: boo
   const alpha = 1 - c.level;
   for (const cfg of c.configs) {
     for (const g of gates) {
-      const d = cfg.deltas.find((x) => x.region === g.region && x.metric === g.metric)!;
+      const d = cfg.deltas.find((x) => x.region === g.region && x.band === g.band && x.metric === g.metric);
+      if (!d) {
+        const have = [...new Set(cfg.deltas.map((x) => (x.band === ALL_BANDS ? x.region : `${x.region}@${x.band}`)))];
+        throw new UsageError(g.source, `${g.region}${g.band === ALL_BANDS ? '' : `@${g.band}`} is not in the compared runs (they have ${have.slice(0, 12).join(', ')}${have.length > 12 ? ', ...' : ''})`);
+      }
       const w = d.worsening;
       const upper = d.worseningCi ? d.worseningCi.hi : null;
       let pass: boolean;

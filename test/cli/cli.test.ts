@@ -127,7 +127,7 @@ describe('experiment files', () => {
     const csv = readCsv(readFileSync(join(outDir, 'pairs.csv'), 'utf8'));
     // Threshold columns follow the experiment's thresholds.
     expect(csv.header.filter((h) => h.startsWith('over'))).toEqual(['over1px', 'over2px']);
-    const oracleRows = csv.rows.filter((x) => x.matcher === 'oracle' && x.region === 'known');
+    const oracleRows = csv.rows.filter((x) => x.matcher === 'oracle' && x.region === 'known' && x.band === 'all');
     expect(oracleRows).toHaveLength(2);
     // Output == truth: epe 0 (definition of end-point error).
     for (const row of oracleRows) expect(Number(row.epe)).toBe(0);

@@ -57,11 +57,11 @@ describe('a broken pair: recorded as failed, the other pair scored, tables and r
     expect(info.jobs).toMatchObject({ total: 2, ok: 1, failed: 1 });
     expect(info.broken_pairs.map((b: { pair: string }) => b.pair)).toEqual(['dock-1']);
     const rows = readCsv(readFileSync(join(dir, 'pairs.csv'), 'utf8')).rows;
-    expect(rows).toHaveLength(2 * 5); // 2 jobs x 5 regions
+    expect(rows.filter((r) => r.band === 'all')).toHaveLength(2 * 5); // 2 jobs x 5 regions
     expect(rows.filter((r) => r.pair === 'dock-2').every((r) => r.status === 'ok')).toBe(true);
     const failed = rows.filter((r) => r.pair === 'dock-1');
     expect(failed.every((r) => r.status === 'failed')).toBe(true);
-    return failed.find((r) => r.region === 'known')!;
+    return failed.find((r) => r.region === 'known' && r.band === 'all')!;
   }
 
   it('a truncated PFM truth: the pair cannot be scored (0 pixels, empty figures, out of the means)', () => {
@@ -79,7 +79,7 @@ describe('a broken pair: recorded as failed, the other pair scored, tables and r
     expect(known['over2px']).toBe('');
     // README, "Regions and metrics": an empty region is left out of means over pairs; n_pairs says how many.
     const summary = readCsv(readFileSync(join(out('trunc'), 'summary.csv'), 'utf8')).rows;
-    const row = summary.find((s) => s.region === 'known' && (s.tag ?? '') === '')!;
+    const row = summary.find((s) => s.region === 'known' && s.band === 'all' && (s.tag ?? '') === '')!;
     expect(row.n_pairs).toBe('1');
   });
 
@@ -131,8 +131,8 @@ describe('a broken pair: recorded as failed, the other pair scored, tables and r
     // Truth reads, left does not: flat region needs the left image and is empty.
     expectWentOn('missing', join(ds.dir, 'dock-1/left.png'));
     const rows = readCsv(readFileSync(join(out('missing'), 'pairs.csv'), 'utf8')).rows;
-    expect(rows.find((x) => x.pair === 'dock-1' && x.region === 'flat')!.pixels).toBe('0');
-    expect(rows.find((x) => x.pair === 'dock-1' && x.region === 'known')!.pixels).toBe(String(W * H));
+    expect(rows.find((x) => x.pair === 'dock-1' && x.region === 'flat' && x.band === 'all')!.pixels).toBe('0');
+    expect(rows.find((x) => x.pair === 'dock-1' && x.region === 'known' && x.band === 'all')!.pixels).toBe(String(W * H));
   });
 });
 

@@ -17,7 +17,7 @@ const root = mkdtempSync(join(tmpdir(), 'parallax-e2e-'));
 afterAll(() => rmSync(root, { recursive: true, force: true }));
 
 const PAIRS_COLUMNS =
-  'matcher,dataset,pair,region,status,pixels,coverage,epe,rmse,bias,over0.25px,over0.5px,over1px,over2px,over3px,q50,q68,q95,depth_relerr,depth_rmse_m,conf_auc,conf_oracle_auc,conf_gap,conf_clean_share,subpix_lock,flicker,time_ms,peak_mb';
+  'matcher,dataset,pair,region,band,status,pixels,coverage,epe,rmse,bias,over0.25px,over0.5px,over1px,over2px,over3px,q50,q68,q95,depth_relerr,depth_rmse_m,depth_relmed,depth_over1pct,depth_over2pct,depth_over5pct,conf_auc,conf_oracle_auc,conf_gap,conf_clean_share,subpix_lock,flicker,time_ms,peak_mb';
 
 beforeAll(() => {
   if (!builtCliExists()) throw new Error('dist/ is missing: run `npm run build` (npm test does it)');
@@ -42,13 +42,18 @@ describe('parallax demo (on a small synthetic dataset)', () => {
     expect(lines).toHaveLength(2 * n);
     const pairs = readFileSync(join(out, 'pairs.csv'), 'utf8');
     expect(pairs.split('\n')[0]).toBe(PAIRS_COLUMNS);
-    // one row per configuration, pair and region (5 regions, README "Outputs")
-    expect(readCsv(pairs).rows).toHaveLength(2 * n * 5);
+    // one row per configuration, pair and region (5 regions, README "Outputs") with
+    // band all, and more rows per depth band (the demo has a camera: default bands)
+    const pairRows = readCsv(pairs).rows;
+    expect(pairRows.filter((x) => x.band === 'all')).toHaveLength(2 * n * 5);
+    const bands = [...new Set(pairRows.map((x) => x.band))];
+    expect(bands.length).toBeGreaterThan(1);
+    for (const b of bands) if (b !== 'all') expect(b).toMatch(/^(\d+(\.\d+)?-\d+(\.\d+)?m|\d+(\.\d+)?m\+)$/);
     expect(existsSync(join(out, 'summary.csv'))).toBe(true);
     const summary = readCsv(readFileSync(join(out, 'summary.csv'), 'utf8'));
     // One row per configuration and region over all pairs (tag empty); rows per manifest
     // tag may follow (the synthetic pairs carry tags).
-    expect(summary.rows.filter((x) => x.tag === '').length).toBe(n * 5);
+    expect(summary.rows.filter((x) => x.tag === '' && x.band === 'all').length).toBe(n * 5);
     // The self-contained HTML report.
     expect(readFileSync(join(out, 'index.html'), 'utf8')).toMatch(/^<!DOCTYPE html>/i);
   });
@@ -74,7 +79,7 @@ describe('scoring predictions made elsewhere', () => {
     const r = parallax(['run', '-d', ds.dir, '--predictions', preds, '--label', 'net-v2', '--prediction-scale', '32', '--out', out, '--quiet'], root);
     expect(r.code).toBe(3); // README "Exit codes": a run with a failed job exits 3, its tables written
     expect(existsSync(join(out, 'index.html'))).toBe(true);
-    const rows = readCsv(readFileSync(join(out, 'pairs.csv'), 'utf8')).rows.filter((x) => x.region === 'known');
+    const rows = readCsv(readFileSync(join(out, 'pairs.csv'), 'utf8')).rows.filter((x) => x.region === 'known' && x.band === 'all');
     const by = new Map(rows.map((x) => [x.pair, x]));
     for (const id of ['bay-a', 'bay-c']) {
       // A perfect prediction: |e| = 0 everywhere, so epe = 0 and over0.25px = 0 % (README metric table).
@@ -113,7 +118,7 @@ describe('scoring predictions made elsewhere', () => {
     expect(r.code).toBe(3); // one pair has no prediction file: a failed job (README "Exit codes")
     const j = JSON.parse(r.stdout);
     expect(j.jobs).toEqual({ total: 4, ok: 3, failed: 1 });
-    expect(j.summary.length).toBe(5);
+    expect(j.summary.filter((x: { band: string }) => x.band === 'all').length).toBe(5);
   });
 });
 
@@ -164,7 +169,7 @@ describe('confidence maps from prediction folders and programs', () => {
     const r = parallax(['run', '-d', d.dir, '--predictions', dir, '--label', 'net', '--out', out, '-q'], root);
     expect(r.stderr).toBe(''); // the .conf.pfm files are not "files of no pair"
     expect(r.code).toBe(0);
-    const rows = readCsv(readFileSync(join(out, 'pairs.csv'), 'utf8')).rows.filter((x) => x.region === 'known');
+    const rows = readCsv(readFileSync(join(out, 'pairs.csv'), 'utf8')).rows.filter((x) => x.region === 'known' && x.band === 'all');
     expect(rows).toHaveLength(2);
     for (const row of rows) {
       expect(Number(row.conf_gap)).toBe(0);
@@ -199,7 +204,7 @@ describe('confidence maps from prediction folders and programs', () => {
     const r = parallax(['run', exp, '--no-cache', '-q'], root);
     expect(r.stderr).toBe('');
     expect(r.code).toBe(0);
-    const rows = readCsv(readFileSync(join(root, 'conf-prog-run', 'pairs.csv'), 'utf8')).rows.filter((x) => x.region === 'known');
+    const rows = readCsv(readFileSync(join(root, 'conf-prog-run', 'pairs.csv'), 'utf8')).rows.filter((x) => x.region === 'known' && x.band === 'all');
     const by = new Map(rows.map((x) => [x.matcher, x]));
     // With confidence: the exact half (even x) comes first, so the 50 % point of the curve is 0 and conf_gap is 0.
     expect(Number(by.get('with-conf')!.conf_gap)).toBe(0);
@@ -227,7 +232,7 @@ describe('sequences: flicker between consecutive frames', () => {
     const r = parallax(['run', '-d', d.dir, '--predictions', dir, '--label', 'noisy', '--jobs', '2', '--no-cache', '--out', out, '-q'], root);
     expect(r.stderr).toBe('');
     expect(r.code).toBe(0);
-    const rows = readCsv(readFileSync(join(out, 'pairs.csv'), 'utf8')).rows.filter((x) => x.region === 'known');
+    const rows = readCsv(readFileSync(join(out, 'pairs.csv'), 'utf8')).rows.filter((x) => x.region === 'known' && x.band === 'all');
     const by = new Map(rows.map((x) => [x.pair, x]));
     expect(by.get('seq-a')!.flicker).toBe('');
     for (const id of ['seq-b', 'seq-c', 'seq-d']) expect(Math.abs(Number(by.get(id)!.flicker) - 0.5642) / 0.5642, id).toBeLessThan(0.08);
@@ -260,7 +265,7 @@ describe('the demo sequence', () => {
     // Only the frames have predictions: the other pairs fail (exit 3), which is not what is checked here.
     const r = parallax(['run', '-d', data, '--predictions', preds, '--label', 'truth', '--out', out, '-q'], root);
     expect(r.code).toBe(3);
-    const rows = readCsv(readFileSync(join(out, 'pairs.csv'), 'utf8')).rows.filter((x) => x.region === 'known' && x.pair.startsWith('drive-'));
+    const rows = readCsv(readFileSync(join(out, 'pairs.csv'), 'utf8')).rows.filter((x) => x.region === 'known' && x.band === 'all' && x.pair.startsWith('drive-'));
     expect(rows.map((x) => x.flicker)).toEqual(['', '0', '0']);
   }, 60_000);
 });

@@ -12,7 +12,7 @@ import { REGION_BIT, plainRegionMap } from '../../src/core/regions.js';
 describe('metric catalogue', () => {
   it('resolves one column per threshold and per quantile level, in catalogue order', () => {
     const ids = metricsOf({ thresholds: [0.5, 2], quantiles: [50, 99.5] }).map((m) => m.id);
-    expect(ids).toEqual(['coverage', 'epe', 'rmse', 'bias', 'over0.5px', 'over2px', 'q50', 'q99.5', 'depth_relerr', 'depth_rmse_m', 'conf_auc', 'conf_oracle_auc', 'conf_gap', 'conf_clean_share', 'subpix_lock', 'flicker', 'time_ms', 'peak_mb']);
+    expect(ids).toEqual(['coverage', 'epe', 'rmse', 'bias', 'over0.5px', 'over2px', 'q50', 'q99.5', 'depth_relerr', 'depth_rmse_m', 'depth_relmed', 'depth_over1pct', 'depth_over2pct', 'depth_over5pct', 'conf_auc', 'conf_oracle_auc', 'conf_gap', 'conf_clean_share', 'subpix_lock', 'flicker', 'time_ms', 'peak_mb']);
     expect(entryOf('over0.7px')?.id).toBe('over{}px');
     expect(entryOf('q68')?.id).toBe('q{}');
     expect(entryOf('qx')).toBeUndefined();

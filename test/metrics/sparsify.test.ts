@@ -5,7 +5,7 @@
  * scorePair; plus two properties of the definition.
  */
 import { describe, expect, it } from 'vitest';
-import { REGION_BIT, REGION_IDS, type RegionMap, plainRegionMap } from '../../src/core/regions.js';
+import { REGION_BIT, REGION_IDS, plainRegionMap } from '../../src/core/regions.js';
 import { scorePair } from '../../src/metrics/score.js';
 import { sparsify } from '../../src/metrics/sparsify.js';
 import { closeRel, rng, runNumpy } from './helpers.js';

@@ -20,6 +20,7 @@ import { encodeNpy } from '../../src/io/npy.js';
 import { encodePngDisparity } from '../../src/io/png.js';
 import { writeDataset, type WrittenDataset } from '../dataset/fixture.js';
 import { planWith } from './plan-helpers.js';
+import { readCsv } from '../support/cli.js';
 import { DEFAULT_QUANTILES } from '../../src/metrics/catalogue.js';
 
 const root = mkdtempSync(join(tmpdir(), 'parallax-runner-'));
@@ -48,7 +49,7 @@ describe('pairs.csv header', () => {
   it('has exactly the agreed column order', () => {
     // Column order as the README's pairs.csv section states it, with the default thresholds and quantile levels.
     expect(pairsCsvHeader({ thresholds: DEFAULT_THRESHOLDS, quantiles: DEFAULT_QUANTILES }).join(',')).toBe(
-      'matcher,dataset,pair,region,status,pixels,coverage,epe,rmse,bias,over0.25px,over0.5px,over1px,over2px,over3px,q50,q68,q95,depth_relerr,depth_rmse_m,conf_auc,conf_oracle_auc,conf_gap,conf_clean_share,subpix_lock,flicker,time_ms,peak_mb',
+      'matcher,dataset,pair,region,band,status,pixels,coverage,epe,rmse,bias,over0.25px,over0.5px,over1px,over2px,over3px,q50,q68,q95,depth_relerr,depth_rmse_m,depth_relmed,depth_over1pct,depth_over2pct,depth_over5pct,conf_auc,conf_oracle_auc,conf_gap,conf_clean_share,subpix_lock,flicker,time_ms,peak_mb',
     );
   });
 });
@@ -184,7 +185,7 @@ describe('executeRun', () => {
     expect(out.aborted).toBe(true);
     expect(out.results).toHaveLength(1);
     expect(JSON.parse(readFileSync(join(runDir, 'run.json'), 'utf8')).status).toBe('aborted');
-    expect(readFileSync(join(runDir, 'pairs.csv'), 'utf8').trim().split('\n')).toHaveLength(1 + 5);
+    expect(readCsv(readFileSync(join(runDir, 'pairs.csv'), 'utf8')).rows.filter((x) => x.band === 'all')).toHaveLength(5); // the one job's five regions
   });
 
   it('imported predictions: PFM, NPY and PNG read, a missing or wrong-size file is a recorded failure', async () => {
@@ -245,6 +246,7 @@ describe('console table', () => {
       matcherId: 'block',
       dataset: 'dock',
       region,
+      band: 'all',
       tag: null,
       n_pairs: 2,
       n_jobs: 2,

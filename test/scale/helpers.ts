@@ -84,3 +84,9 @@ export function writeSlowModule(file: string): string {
   );
   return file;
 }
+
+/** Rows of pairs.csv per job: 5 regions, each whole and within each depth band of the run (run.json config.depthBands). */
+export function rowsPerJob(runDir: string): number {
+  const bands = (JSON.parse(readFileSync(join(runDir, 'run.json'), 'utf8')) as { config: { depthBands?: number[] } }).config.depthBands ?? [];
+  return 5 * (bands.length ? bands.length + 2 : 1);
+}

@@ -11,7 +11,7 @@ import { mkdtempSync, readFileSync, rmSync, existsSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
-import { exited, parallax, parallaxAsync, requireBuild, smallDataset, tableWithoutTimings, waitFor, wholeLines, writeSlowModule } from './helpers.js';
+import { exited, parallax, parallaxAsync, requireBuild, smallDataset, rowsPerJob, tableWithoutTimings, waitFor, wholeLines, writeSlowModule } from './helpers.js';
 
 const root = mkdtempSync(join(tmpdir(), 'parallax-interrupt-'));
 afterAll(() => rmSync(root, { recursive: true, force: true }));
@@ -94,7 +94,7 @@ describe('stopped with a signal', () => {
       expect(lines.length).toBeLessThan(TOTAL);
       // Partial tables from the journal: 5 region rows per finished job.
       expect(existsSync(join(dir, 'pairs.csv'))).toBe(true);
-      expect(tableWithoutTimings(join(dir, 'pairs.csv')).length - 1).toBe(lines.length * 5);
+      expect(tableWithoutTimings(join(dir, 'pairs.csv')).length - 1).toBe(lines.length * rowsPerJob(dir));
       expect(JSON.parse(readFileSync(join(dir, 'run.json'), 'utf8')).status).toBe('aborted');
       const r = parallax(['run', '--resume', dir, '--jobs', jobs, '--no-cache', '-q'], root);
       expect(r.stderr).toBe('');

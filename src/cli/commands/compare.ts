@@ -9,7 +9,7 @@ import { readFile } from 'node:fs/promises';
 import { join, resolve } from 'node:path';
 import type { CommandModule } from 'yargs';
 import { InputError, UsageError } from '../../core/errors.js';
-import { REGION_IDS, type RegionId } from '../../core/regions.js';
+import { sliceKey } from '../../core/regions.js';
 import { writeFileAtomic } from '../../io/files.js';
 import { compareConsole, compareMarkdown, type RunMeta } from '../../report/compare-md.js';
 import { junitXml } from '../../report/junit.js';
@@ -18,7 +18,7 @@ import { latestJobs } from '../../stats/aggregate.js';
 import { readRunFolder, type RunFolder } from '../../report/run-folder.js';
 import { DEFAULT_RESAMPLES, DEFAULT_SEED } from '../../stats/bootstrap.js';
 import { comparabilityProblems, compareRuns } from '../../stats/compare.js';
-import { evaluateGates, parseGate, parseGateFile, type Gate } from '../../stats/gates.js';
+import { evaluateGates, parseGate, parseGateFile, parseSlice, type Gate } from '../../stats/gates.js';
 import { findMetric } from '../../metrics/catalogue.js';
 import { metricSetOf } from '../../io/run-record.js';
 
@@ -68,14 +68,13 @@ export async function runCompare(a: CompareArgs, io: CompareIo): Promise<number>
     }
     gates.push(...parseGateFile(text, a.gateFile, set));
   }
-  let headline: { region: RegionId; metric: string } | undefined;
+  let headline: { region: string; metric: string } | undefined;
   if (a.headline) {
     const [r, m] = a.headline.split('/');
-    if (!(REGION_IDS as readonly string[]).includes(r ?? '') || !m || !findMetric(set, m)) {
-      throw new UsageError('--headline', `"${a.headline}" is not region/metric (e.g. visible/over2px)`);
-    }
-    headline = { region: r as RegionId, metric: m };
-  } else if (gates[0]) headline = { region: gates[0].region, metric: gates[0].metric };
+    if (!r || !m || !findMetric(set, m)) throw new UsageError('--headline', `"${a.headline}" is not region/metric (e.g. visible/over2px)`);
+    const sl = parseSlice(r, a.headline, '--headline');
+    headline = { region: sliceKey(sl.region, sl.band), metric: m };
+  } else if (gates[0]) headline = { region: sliceKey(gates[0].region, gates[0].band), metric: gates[0].metric };
   const pairings = parsePairings(a.pair ?? [], base, cand);
   const c = compareRuns(base, cand, { bootstrap: { resamples, seed: a.seed ?? DEFAULT_SEED }, pairings, ...(headline ? { headline } : {}) });
   if (c.configs.length === 0) {
