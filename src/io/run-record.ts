@@ -93,6 +93,8 @@ const configRecord = z.object({
   datasets: z.array(z.object({ name: z.string(), path: z.string(), manifest: z.string(), hash: z.string(), pairs: z.number(), dataRoot: z.string().optional() })),
   /** Depth band edges used (metres); absent = no bands. */
   depthBands: z.array(z.number()).optional(),
+  /** The usable range's rule; absent = the default (depth_over5pct<=10). */
+  usableRange: z.string().optional(),
 });
 
 export const runRecordSchema = z.object({
@@ -129,8 +131,9 @@ export type PredictionSource = z.infer<typeof predictionSourceSchema>;
 export type BrokenPair = NonNullable<RunRecord['broken_pairs']>[number];
 
 /** The metric set of a run: its thresholds and quantile levels. */
-export function metricSetOf(record: { config: Pick<RunConfigRecord, 'thresholds' | 'quantiles'> }): { thresholds: number[]; quantiles: number[] } {
-  return { thresholds: record.config.thresholds, quantiles: record.config.quantiles };
+export function metricSetOf(record: { config: Pick<RunConfigRecord, 'thresholds' | 'quantiles' | 'usableRange'> }): { thresholds: number[]; quantiles: number[]; usableRange?: string } {
+  const u = record.config.usableRange;
+  return { thresholds: record.config.thresholds, quantiles: record.config.quantiles, ...(u !== undefined ? { usableRange: u } : {}) };
 }
 
 /** Parse run.json text; an InputError naming `file` when it is not a run record of this format. */

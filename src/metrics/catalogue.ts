@@ -236,6 +236,8 @@ export interface MetricSet {
   readonly thresholds: readonly number[];
   /** Quantile levels in % (ascending, distinct, 0..100). */
   readonly quantiles: readonly number[];
+  /** The usable range's rule, e.g. `depth_over5pct<=10` (src/stats/usable-range.ts); absent = its default. */
+  readonly usableRange?: string;
 }
 
 /** Default bad-pixel thresholds in px (over0.25px ... over3px). */

@@ -8,6 +8,7 @@ import { thresholdName } from '../metrics/types.js';
 import { keyThreshold } from '../metrics/catalogue.js';
 import { byNatural } from '../core/order.js';
 import { ALL_BANDS } from '../core/regions.js';
+import { DEFAULT_USABLE_RULE, usableCell, usableRuleText } from '../stats/usable-range.js';
 
 function fmt(v: number | null | undefined, digits: number): string {
   return v === null || v === undefined || !Number.isFinite(v) ? '-' : v.toFixed(digits);
@@ -46,9 +47,11 @@ export function consoleTable(rows: readonly SummaryRow[], thresholds: readonly n
     const byRate = a === null || b === null ? (a === null ? 1 : 0) - (b === null ? 1 : 0) : a - b;
     return byNatural(any(x).dataset, any(y).dataset) || byRate || byNatural(any(x).matcher, any(y).matcher);
   });
+  const usable = ranked.some((c) => c.known?.usable);
+  if (usable) header.push('known usable m');
   for (const { known, visible } of ranked) {
     const any = (known ?? visible)!;
-    out.push([
+    const row = [
       any.matcher,
       any.dataset,
       String(any.n_jobs),
@@ -60,7 +63,13 @@ export function consoleTable(rows: readonly SummaryRow[], thresholds: readonly n
       fmt(m(visible, 'epe'), 3),
       fmt(m(visible, rate), 2),
       fmt(m(known, 'time_ms'), 1),
-    ]);
+    ];
+    if (usable) row.push(known?.usable ? usableCell(known.usable) : '-');
+    out.push(row);
   }
-  return alignColumns(header, out, header.map((_, i) => i >= 2)) + `sorted by known ${rate}, lowest first (pixels without an answer count as errors)\n`;
+  const rule = ranked.find((c) => c.known?.usable)?.known?.usable?.rule ?? DEFAULT_USABLE_RULE;
+  const usableNote = usable
+    ? `known usable m: the distance up to which ${usableRuleText(rule)} holds on known pixels, [95% interval over pairs]; >: holds to the farthest truth; <: fails at the nearest\n`
+    : '';
+  return alignColumns(header, out, header.map((_, i) => i >= 2)) + `sorted by known ${rate}, lowest first (pixels without an answer count as errors)\n` + usableNote;
 }

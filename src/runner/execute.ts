@@ -149,7 +149,7 @@ export async function runJob(
     peakMb = r.peakMb;
   } else {
     try {
-      ({ disparity, confidence } = await readPrediction(cfg.source, pair.dataset, pair.id, pair.width, pair.height));
+      ({ disparity, confidence } = await readPrediction(cfg.source, pair));
     } catch (e) {
       error = oneLineError(e);
     }

@@ -9,6 +9,8 @@
  *     "thresholds": [0.5, 1, 2], "quantiles": [50, 90], "regions": { "flatThreshold": 6 },
  *     "name": "dock-tuning", "out": "../reports/dock-tuning" }
  */
+import { parseDepthBands } from '../core/depth-bands.js';
+import { parseUsableRule, usableRuleText } from '../stats/usable-range.js';
 import { readFileSync } from 'node:fs';
 import { dirname, resolve } from 'node:path';
 import { z } from 'zod';
@@ -45,12 +47,19 @@ export const experimentFileSchema = z.strictObject({
         label: z.string().min(1),
         scale: positive.optional(),
         invalid: z.number().int().min(0).max(65535).optional(),
+        depthUnit: z.enum(['m', 'mm']).optional(),
       }),
     )
     .default([]),
   thresholds: z.array(positive).min(1).optional(),
   quantiles: z.array(z.number()).min(1).optional(),
   regions: regionParamsSchema.optional(),
+  /** Depth band edges in metres, increasing. */
+  depthBands: z.array(positive).min(1).optional(),
+  /** The usable range's rule, e.g. depth_over5pct<=10. */
+  usableRange: z.string().min(1).optional(),
+  /** The folder every dataset's paths are relative to (relative to this file). */
+  dataRoot: z.string().min(1).optional(),
   out: z.string().min(1).optional(),
 });
 
@@ -144,8 +153,12 @@ export function loadExperimentFile(path: string): RunSettings {
     throw new InputError(path, `field ${(e as Error).message}`);
   }
   let regions: RegionParams;
+  let depthBands: number[] | undefined;
+  let usableRange: string | undefined;
   try {
     regions = regionParams(f.regions);
+    if (f.depthBands) depthBands = parseDepthBands(f.depthBands.join(','), 'depthBands');
+    if (f.usableRange !== undefined) usableRange = usableRuleText(parseUsableRule(f.usableRange, 'usableRange'));
   } catch (e) {
     throw new InputError(path, `field ${(e as Error).message}`);
   }
@@ -159,10 +172,14 @@ export function loadExperimentFile(path: string): RunSettings {
       dir: resolve(base, p.dir),
       ...(p.scale !== undefined ? { scale: p.scale } : {}),
       ...(p.invalid !== undefined ? { invalid: p.invalid } : {}),
+      ...(p.depthUnit !== undefined ? { depthUnit: p.depthUnit } : {}),
     })),
     thresholds,
     quantiles,
     regions,
+    ...(depthBands ? { depthBands } : {}),
+    ...(usableRange !== undefined ? { usableRange } : {}),
+    ...(f.dataRoot !== undefined ? { dataRoot: resolve(base, f.dataRoot) } : {}),
     ...(f.out !== undefined ? { out: resolve(base, f.out) } : {}),
     ...(f.name !== undefined ? { name: f.name } : {}),
     baseDir: base,

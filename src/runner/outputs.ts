@@ -28,7 +28,7 @@ export interface WrittenOutputs {
  */
 export async function writeRunOutputs(runDir: string, results: readonly JobResult[], set: MetricSet): Promise<WrittenOutputs> {
   const jobs = latestJobs(results);
-  const metricSet: MetricSet = { thresholds: [...set.thresholds], quantiles: [...set.quantiles] };
+  const metricSet: MetricSet = { thresholds: [...set.thresholds], quantiles: [...set.quantiles], ...(set.usableRange !== undefined ? { usableRange: set.usableRange } : {}) };
   const files: string[] = [];
   await writeFileAtomic(join(runDir, PAIRS_CSV), pairsCsvText(jobs, metricSet));
   files.push(PAIRS_CSV);

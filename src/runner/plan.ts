@@ -62,6 +62,8 @@ export interface RunPlan {
   readonly regions: RegionParams;
   /** Depth band edges in metres (the settings' or the default from the data's depth range); empty = no bands. */
   readonly depthBands: readonly number[];
+  /** The usable range's rule as given (`--usable-range`); absent = the default. */
+  readonly usableRange?: string;
   /** Every job, sorted (see jobs.ts). */
   readonly jobs: readonly JobKey[];
   /** The settings the plan was made from (kept in run.json for --resume). */
@@ -145,6 +147,6 @@ export async function planRun(settings: RunSettings, cwd = process.cwd()): Promi
   const runDir = settings.out ?? resolve(cwd, 'reports', name);
   const jobs = enumerateJobs(pairLists, configs.map((c) => c.label));
   const depthBands = settings.depthBands ?? (await defaultDepthBandsOf(datasets.map((d) => d.manifest)));
-  return { name, runDir, datasets, configs, thresholds: settings.thresholds, quantiles: settings.quantiles, regions: settings.regions, depthBands, jobs, settings, warnings };
+  return { name, runDir, datasets, configs, thresholds: settings.thresholds, quantiles: settings.quantiles, regions: settings.regions, depthBands, ...(settings.usableRange !== undefined ? { usableRange: settings.usableRange } : {}), jobs, settings, warnings };
 }
 

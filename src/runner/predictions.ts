@@ -6,6 +6,7 @@
  * A confidence map may sit beside it as `<id>.conf.pfm` or `<id>.conf.npy` (same size,
  * higher = more trusted); it is read when present.
  */
+import { depthToDisparityInPlace, type Camera } from '../core/camera.js';
 import { existsSync, readdirSync } from 'node:fs';
 import { join } from 'node:path';
 import { UsageError } from '../core/errors.js';
@@ -99,15 +100,15 @@ export function predictionCoverage(src: PredictionSource, datasets: readonly Pai
 
 /**
  * Read one prediction. Throws (InputError) for a missing, unreadable or malformed
- * file; the runner records that as a failed job.
+ * file; the runner records that as a failed job. Depth predictions (src.depthUnit) are
+ * turned into disparity with the pair's camera, as depth truth is.
  */
 export async function readPrediction(
   src: PredictionSource,
-  dataset: string,
-  pair: string,
-  width: number,
-  height: number,
+  at: { dataset: string; id: string; width: number; height: number; camera?: Camera | undefined },
 ): Promise<{ disparity: Float32Array; confidence: Float32Array | null }> {
+  const { dataset, id: pair, width, height } = at;
+  if (src.depthUnit !== undefined && !at.camera) throw new Error(`depth predictions need a camera; pair ${pair} of ${dataset} has none in its manifest`);
   const file = findPredictionFile(src, dataset, pair);
   if (!file) throw new Error(`no prediction file ${pair}.{${PREDICTION_EXTENSIONS.join(',')}} in ${src.dir}`);
   const img: FloatImage = await readDisparityFile(file, {
@@ -118,6 +119,7 @@ export async function readPrediction(
   if (img.width !== width || img.height !== height) {
     throw new Error(`${file}: size ${img.width}x${img.height} differs from the pair's ${width}x${height}`);
   }
+  if (src.depthUnit !== undefined && at.camera) depthToDisparityInPlace(img.data, at.camera, src.depthUnit);
   const confFile = findFile(src, dataset, pair, CONFIDENCE_EXTENSIONS);
   if (confFile === undefined) return { disparity: img.data, confidence: null };
   const conf = await readDisparityFile(confFile, { maxPixels: Math.max(1, 4 * width * height) });

@@ -60,11 +60,13 @@ export function runRecord(plan: RunPlan, started: Date): RunRecord {
                 dir: cfg.source.dir,
                 ...(cfg.source.scale !== undefined ? { scale: cfg.source.scale } : {}),
                 ...(cfg.source.invalid !== undefined ? { invalid: cfg.source.invalid } : {}),
+                ...(cfg.source.depthUnit !== undefined ? { depthUnit: cfg.source.depthUnit } : {}),
               },
             },
       ),
       datasets: plan.datasets.map((d) => ({ name: d.manifest.name, path: d.path, manifest: d.manifest.file, hash: d.hash, pairs: d.manifest.pairs.length, ...(d.manifest.dir !== dirname(d.manifest.file) ? { dataRoot: d.manifest.dir } : {}) })),
       ...(plan.depthBands.length ? { depthBands: [...plan.depthBands] } : {}),
+      ...(plan.usableRange !== undefined ? { usableRange: plan.usableRange } : {}),
     },
     jobs: { total: plan.jobs.length, ok: 0, failed: 0 },
     environment: {

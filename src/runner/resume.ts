@@ -31,6 +31,7 @@ export function configFingerprint(config: RunConfigRecord): string {
     quantiles: config.quantiles,
     regions: Object.fromEntries(Object.entries(config.regions).sort(([a], [b]) => byCodeUnits(a, b))),
     depthBands: config.depthBands ?? [],
+    usableRange: config.usableRange ?? null,
     matchers: [...config.matchers]
       .map((m) => ({ label: m.label, matcherId: m.matcherId, kind: m.kind, params: m.params, codeHash: m.codeHash ?? null, predictions: m.predictions ?? null }))
       .sort((a, b) => byCodeUnits(a.label, b.label)),
@@ -46,6 +47,7 @@ export function configDifference(a: RunConfigRecord, b: RunConfigRecord): string
   const fa = JSON.parse(configFingerprint(a)) as { regions: unknown; matchers: { label: string }[]; datasets: { name: string }[] };
   const fb = JSON.parse(configFingerprint(b)) as typeof fa;
   if (JSON.stringify(fa.regions) !== JSON.stringify(fb.regions)) return 'region parameters differ';
+  if ((a.usableRange ?? null) !== (b.usableRange ?? null)) return `usable-range rules differ (${a.usableRange ?? 'default'} vs ${b.usableRange ?? 'default'})`;
   if (JSON.stringify(a.depthBands ?? []) !== JSON.stringify(b.depthBands ?? [])) return `depth bands differ (${(a.depthBands ?? []).join(',') || 'none'} vs ${(b.depthBands ?? []).join(',') || 'none'})`;
   const ds = (x: typeof fa): string => JSON.stringify(x.datasets);
   if (ds(fa) !== ds(fb)) {

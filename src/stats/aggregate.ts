@@ -17,6 +17,8 @@
  *   sum, so parallel, resumed and sharded runs give identical numbers.
  * - Confidence intervals (BCa bootstrap, see bootstrap.ts) resample pairs, or the
  *   manifest's groups when any pair of the cell has a `group`.
+ * - Whole regions whose pairs carry depth profiles also get their usable range
+ *   (usable-range.ts), by the metric set's rule.
  */
 import type { JobResult } from '../core/score.js';
 import { ALL_BANDS, sliceKey, slicesOf, type Slice } from '../core/regions.js';
@@ -25,6 +27,7 @@ import { detectability } from './power.js';
 import { bcaIntervals, type BootstrapOptions, type Interval, type UnitMatrix, type TotalsStat } from './bootstrap.js';
 import { levelMapOf, measuredCost, metricsOf, metricValue, pooledFrom, readSums, sumColumnCount, type LevelMap, type MetricSet } from '../metrics/catalogue.js';
 import { byCodeUnits, byNatural, groupBy } from '../core/order.js';
+import { DEFAULT_USABLE_RULE, parseUsableRule, usableRangeOf, type UsableRange } from './usable-range.js';
 
 export interface MetricSummary {
   /** Mean over pairs with a non-empty figure; null when no pair has one. */
@@ -63,6 +66,8 @@ export interface SummaryRow {
   n_units: number;
   /** Keyed by metric id (see src/metrics/catalogue.ts). */
   metrics: Record<string, MetricSummary>;
+  /** Whole regions with depth profiles: the usable range (usable-range.ts). */
+  usable?: UsableRange;
 }
 
 export interface AggregateOptions extends MetricSet {
@@ -193,6 +198,7 @@ function summarizeCell(
     if ((j.scores[slice.key]?.sums.pixels ?? 0) > 0) nPairs++;
     if (j.status === 'failed') nFailed++;
   }
+  const usable = slice.band === ALL_BANDS ? usableRangeOf(jobs, slice.key, opts.usableRange !== undefined ? parseUsableRule(opts.usableRange, 'usableRange') : DEFAULT_USABLE_RULE, { byGroup, ci: opts.ci ?? {} }) : null;
   return {
     matcher: jobs[0].matcher,
     matcherId: jobs[0].matcherId,
@@ -206,6 +212,7 @@ function summarizeCell(
     unit: byGroup ? 'group' : 'pair',
     n_units: cm.units,
     metrics,
+    ...(usable ? { usable } : {}),
   };
 }
 

@@ -9,6 +9,8 @@ import { UsageError } from '../../core/errors.js';
 import { DEFAULT_QUANTILES, DEFAULT_THRESHOLDS } from '../../metrics/catalogue.js';
 import { loadExperimentFile, parseQuantiles, parseThresholds, regionParams, type RunSettings } from '../../runner/experiment.js';
 import { planRun } from '../../runner/plan.js';
+import { parseDepthBands } from '../../core/depth-bands.js';
+import { parseUsableRule, usableRuleText } from '../../stats/usable-range.js';
 import { DEFAULT_MODULE_TIMEOUT_MS } from '../../plugins/registry.js';
 import { runSession } from '../session.js';
 import { cacheLine, resumePlan, scaleArgOptions, scaleFromArgs, type ScaleArgs } from '../scale-options.js';
@@ -26,6 +28,10 @@ export interface RunArgs {
   'prediction-scale'?: number;
   'prediction-invalid'?: number;
   'module-timeout'?: number;
+  'prediction-depth'?: string;
+  'depth-bands'?: string;
+  'usable-range'?: string;
+  'data-root'?: string;
   quiet: boolean;
   json: boolean;
 }
@@ -33,6 +39,13 @@ export interface RunArgs {
 function finiteOption(name: string, v: number | undefined, check: (v: number) => boolean, what: string): number | undefined {
   if (v === undefined) return undefined;
   if (!Number.isFinite(v) || !check(v)) throw new UsageError(`--${name}`, `must be ${what}, got ${String(v)}`);
+  return v;
+}
+
+/** `--prediction-depth m|mm`: the predictions hold depth in that unit. */
+function depthUnitOption(v: string | undefined): 'm' | 'mm' | undefined {
+  if (v === undefined) return undefined;
+  if (v !== 'm' && v !== 'mm') throw new UsageError('--prediction-depth', `must be m or mm (the unit of the depth the files hold), got "${v}"`);
   return v;
 }
 
@@ -48,6 +61,10 @@ export function settingsFromArgs(a: RunArgs, cwd = process.cwd()): RunSettings {
   if (a.quantiles !== undefined) s.quantiles = parseQuantiles(a.quantiles);
   if (a.out !== undefined) s.out = resolve(cwd, a.out);
   if (a.name !== undefined) s.name = a.name;
+  if (a['depth-bands'] !== undefined) s.depthBands = parseDepthBands(a['depth-bands']);
+  if (a['usable-range'] !== undefined) s.usableRange = usableRuleText(parseUsableRule(a['usable-range']));
+  if (a['data-root'] !== undefined) s.dataRoot = resolve(cwd, a['data-root']);
+  const depthUnit = depthUnitOption(a['prediction-depth']);
   const moduleTimeout = finiteOption('module-timeout', a['module-timeout'], (v) => Number.isInteger(v) && v > 0, 'a whole number of ms > 0');
   if (moduleTimeout !== undefined) s.moduleTimeoutMs = moduleTimeout;
   const scale = finiteOption('prediction-scale', a['prediction-scale'], (v) => v > 0, 'a number > 0');
@@ -60,9 +77,10 @@ export function settingsFromArgs(a: RunArgs, cwd = process.cwd()): RunSettings {
       dir: resolve(cwd, a.predictions),
       ...(scale !== undefined ? { scale } : {}),
       ...(invalid !== undefined ? { invalid } : {}),
+      ...(depthUnit !== undefined ? { depthUnit } : {}),
     });
-  } else if (scale !== undefined || invalid !== undefined) {
-    throw new UsageError(scale !== undefined ? '--prediction-scale' : '--prediction-invalid', 'applies to --predictions only');
+  } else if (scale !== undefined || invalid !== undefined || depthUnit !== undefined) {
+    throw new UsageError(scale !== undefined ? '--prediction-scale' : invalid !== undefined ? '--prediction-invalid' : '--prediction-depth', 'applies to --predictions only');
   }
   if (!s.datasets.length) throw new UsageError('--dataset', 'give at least one dataset folder or manifest (or an experiment file)');
   if (!s.matchers.length && !s.matcherEntries.length && !s.predictions.length) throw new UsageError('--matcher', 'give at least one matcher, or --predictions with --label');
@@ -83,6 +101,10 @@ export function runOptions<T>(y: Argv<T>): Argv<T & RunArgs> {
     .option('prediction-scale', { type: 'number', describe: 'PNG predictions: stored value = round(disparity * scale)' })
     .option('module-timeout', { type: 'number', describe: `Per-job time limit of module matchers in ms; past it the worker is ended and the job fails (default ${DEFAULT_MODULE_TIMEOUT_MS})` })
     .option('prediction-invalid', { type: 'number', describe: 'PNG predictions: code meaning "no answer" (default 0)' })
+    .option('prediction-depth', { type: 'string', describe: 'The predictions hold depth in this unit (m or mm), not disparity; converted with each pair\'s camera' })
+    .option('depth-bands', { type: 'string', describe: 'Depth band edges in metres, e.g. 0.5,1,2,4,8 (default: from the true depths of the data)' })
+    .option('usable-range', { type: 'string', describe: 'Rule of the usable range, <figure><=<limit> (default depth_over5pct<=10)' })
+    .option('data-root', { type: 'string', describe: "Folder every dataset's paths are relative to, instead of the manifest's dataRoot or folder" })
     .option('quiet', { alias: 'q', type: 'boolean', default: false, describe: 'No progress bar, no table' })
     .option('json', { type: 'boolean', default: false, describe: 'Print the summary as JSON to stdout' }) as unknown as Argv<T & RunArgs>;
 }
@@ -97,8 +119,12 @@ export const runCommand: CommandModule<object, RunArgs & ScaleArgs> = {
     let plan;
     if (a.resume !== undefined) {
       const given = a.experiment !== undefined || a.dataset?.length || a.matcher?.length || a.predictions !== undefined || a.label !== undefined;
-      if (given || a.thresholds !== undefined || a.quantiles !== undefined || a.out !== undefined || a.name !== undefined || a['module-timeout'] !== undefined) {
-        throw new UsageError('--resume', 'takes every setting from the run folder; give no experiment file, --dataset, --matcher, --predictions, --thresholds, --quantiles, --module-timeout, --out or --name');
+      const depthOptions = a['depth-bands'] !== undefined || a['usable-range'] !== undefined || a['data-root'] !== undefined || a['prediction-depth'] !== undefined;
+      if (given || depthOptions || a.thresholds !== undefined || a.quantiles !== undefined || a.out !== undefined || a.name !== undefined || a['module-timeout'] !== undefined) {
+        throw new UsageError(
+          '--resume',
+          'takes every setting from the run folder; give no experiment file, --dataset, --matcher, --predictions, --thresholds, --quantiles, --depth-bands, --usable-range, --data-root, --module-timeout, --out or --name',
+        );
       }
       plan = await resumePlan(a.resume, scale);
     } else {
