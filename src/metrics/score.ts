@@ -415,7 +415,7 @@ function collectWithDepth(pred: Float32Array, truth: Float32Array, w: DepthWrite
           const rel = Math.abs(diff) * dt * inv;
           rels[relPos[b]++] = rel;
           sq[b] += dz * dz;
-          profiler?.add(i, b, rel, Math.abs(dz), fb / dt);
+          profiler?.add(i, b, rel, Math.abs(dz), fb / (dt * dt)); // Zt^2 / (fB) = fB / dt^2
         } else {
           fail[b]++;
           profiler?.truthOnly(i, b);

@@ -12,6 +12,23 @@ interface PlxSummaryRow {
   unit: 'pair' | 'group';
   n_failed: number;
   m: Record<string, (number | null)[]>;
+  /** Whole regions with depth: the usable range [R (m), lo, hi, holds: to | beyond | nowhere]. */
+  usable: [number, number | null, number | null, string] | null;
+}
+
+/** Depth error by distance of one configuration (view-model.ts depthView). */
+interface PlxDepthView {
+  label: string;
+  /** Pooled epe of the region (px); null without a valid prediction. */
+  epe: number | null;
+  /** Fine-bin centres (m). */
+  z: number[];
+  /** Measured mean |Zp - Zt| per bin (m). */
+  measured: (number | null)[];
+  /** Mean Zt^2 / (f B) per bin (m per px): times a disparity error gives the depth error it predicts. */
+  perPx: (number | null)[];
+  /** Pixels with a true depth per bin. */
+  pixels: number[];
 }
 
 interface PlxFigureView {
@@ -47,7 +64,12 @@ interface PlxPairView {
 interface PlxReportHead {
   thresholds: number[];
   rateNames: string[];
+  /** Built-in regions, then the manifests' named regions. */
   regions: string[];
+  /** Depth band labels, nearest first (empty without a camera). */
+  bands: string[];
+  /** The usable range's rule, e.g. depth_over5pct<=10. */
+  usableRule: string;
   metrics: string[];
   units: Record<string, string>;
   headings: Record<string, string>;
@@ -56,7 +78,7 @@ interface PlxReportHead {
   level: number;
   datasets: string[];
   configs: string[];
-  /** summary[dataset][tag or ''][region] = one row per configuration. */
+  /** summary[dataset][tag or ''][slice key: region, or region@band] = one row per configuration. */
   summary: Record<string, Record<string, Record<string, PlxSummaryRow[]>>>;
   dispMap: string;
   dispColors: string[];
@@ -77,6 +99,8 @@ interface PlxReportHead {
   subpixel: Record<string, Record<string, PlxSubpixelView[]>>;
   /** flicker[dataset][region] = per configuration: [frame, mean flicker over the dataset's sequences at that frame]. */
   flicker: Record<string, Record<string, { label: string; points: [number, number][] }[]>>;
+  /** depth[dataset][region] = per configuration: its depth error by distance. */
+  depth: Record<string, Record<string, PlxDepthView[]>>;
 }
 
 /** Mean over pairs of a configuration's sub-pixel figures (src/metrics/subpixel.ts). */

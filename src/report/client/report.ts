@@ -12,11 +12,13 @@
     dataset: string;
     tag: string;
     region: string;
+    /** 'all' or a depth band label. */
+    band: string;
     stat: 'mean' | 'pooled';
     sort: string;
     dir: 'asc' | 'desc';
   }
-  const state: State = { dataset: data.datasets[0] || '', tag: '', region: 'known', stat: 'mean', sort: data.rankBy, dir: 'asc' };
+  const state: State = { dataset: data.datasets[0] || '', tag: '', region: 'known', band: 'all', stat: 'mean', sort: data.rankBy, dir: 'asc' };
   interface Cell {
     v: number | null;
     lo: number | null;
@@ -25,7 +27,9 @@
   }
 
   const cellsNow = (): Record<string, PlxSummaryRow[]> => (data.summary[state.dataset] || {})[state.tag] || {};
-  const rowsNow = (): PlxSummaryRow[] => cellsNow()[state.region] || [];
+  const keyOf = (region: string, band: string): string => (band === 'all' ? region : region + '@' + band);
+  const rowsNow = (): PlxSummaryRow[] => cellsNow()[keyOf(state.region, state.band)] || [];
+  const hasUsable = Object.values(data.summary).some((byTag) => Object.values(byTag).some((bySlice) => Object.values(bySlice).some((rows) => rows.some((r) => r.usable !== null))));
   function cell(row: PlxSummaryRow, metric: string): Cell {
     const m = row.m[metric];
     if (!m) return { v: null, lo: null, hi: null, n: 0 };
@@ -60,10 +64,16 @@
         }
         renderTable();
         renderScatter();
+        renderByBand();
       });
     }
     headRow.appendChild(th);
   });
+  if (hasUsable) {
+    const th = el('th', { scope: 'col', 'data-col': 'usable', title: 'The distance up to which ' + data.usableRule + ' holds on the region (whole region, all distances)' }, 'usable to');
+    th.appendChild(el('span', { class: 'unit' }, ' m'));
+    headRow.appendChild(th);
+  }
   thead.appendChild(headRow);
 
   function renderTable(): void {
@@ -99,8 +109,22 @@
         } else if (c.v !== null) td.appendChild(el('span', { class: 'ci' }, 'n=' + c.n));
         tr.appendChild(td);
       });
+      if (hasUsable) tr.appendChild(usableCell(rowFor(keyOf(state.region, 'all'), r.label)));
       tbody.appendChild(tr);
     });
+  }
+
+  const rowFor = (key: string, label: string): PlxSummaryRow | undefined => (cellsNow()[key] || []).filter((x) => x.label === label)[0];
+  /** "3.40 [3.10, 3.80]", ">12.3" (holds to the farthest truth), "<2.00" (fails at the nearest). */
+  function usableText(u: NonNullable<PlxSummaryRow['usable']>): string {
+    const mark = u[3] === 'beyond' ? '>' : u[3] === 'nowhere' ? '<' : '';
+    return mark + fmt(u[0]);
+  }
+  function usableCell(row: PlxSummaryRow | undefined): HTMLElement {
+    const u = row ? row.usable : null;
+    const td = el('td', { 'data-metric': 'usable', 'data-value': u ? String(u[0]) : '' }, u ? usableText(u) : '\u2013');
+    if (u && u[1] !== null && u[2] !== null) td.appendChild(el('span', { class: 'ci' }, '[' + fmt(u[1]) + ', ' + fmt(u[2]) + ']'));
+    return td;
   }
 
   /** What the table is sorted by, and the smallest change of that figure each configuration's pairs can see. */
@@ -206,6 +230,95 @@
       const right = X(p.t) > W * 0.62;
       svg.appendChild(sv('text', { x: X(p.t) + (right ? -7 : 7), y: Y(p.y) - 6, 'text-anchor': right ? 'end' : 'start' }, p.label.length > 28 ? p.label.slice(0, 27) + '\u2026' : p.label));
     });
+  }
+
+  /** The chosen figure against the depth bands, one line per configuration. */
+  function renderByBand(): void {
+    const host = document.getElementById('by-band');
+    if (!host) return;
+    clear(host);
+    const metric = state.sort === 'time_ms' || state.sort === 'peak_mb' ? data.rankBy : state.sort;
+    const bands = data.bands;
+    const series = rowsAt(state.region, 'all').map((r) => ({
+      label: r.label,
+      color: colorOf(r.label),
+      points: bands.flatMap((b, k): [number, number][] => {
+        const row = rowFor(keyOf(state.region, b), r.label);
+        const v = row ? cell(row, metric).v : null;
+        return v === null ? [] : [[k, v]];
+      }),
+      dash: '',
+      legend: r.label,
+    }));
+    const ys = series.flatMap((s) => s.points.map((p) => p[1]));
+    host.appendChild(
+      lineChart({
+        aria: metric + ' against distance',
+        xlab: 'true distance band',
+        ylab: state.stat + ' ' + metric + (data.units[metric] ? ' (' + data.units[metric] + ')' : ''),
+        x: [0, Math.max(1, bands.length - 1)],
+        y: [Math.min(0, ...ys), Math.max(0, ...ys)],
+        xTicks: bands.map((_, k) => k),
+        xTickText: (k) => bands[k] || '',
+        series,
+      }),
+    );
+    document.getElementById('by-band-caption')!.textContent =
+      'The ranking figure (' + state.stat + ' ' + metric + ' on ' + state.region + ') in each band of true distance, one line per configuration; sort the ranking by another column to plot that figure.';
+  }
+
+  const rowsAt = (region: string, band: string): PlxSummaryRow[] => cellsNow()[keyOf(region, band)] || [];
+
+  /** Measured depth error by distance beside the error the disparity accuracy predicts. */
+  function renderDepthError(): void {
+    const host = document.getElementById('depth-error');
+    if (!host) return;
+    clear(host);
+    const views = (data.depth[state.dataset] || {})[state.region] || [];
+    if (!views.length) {
+      host.appendChild(el('p', { class: 'ci' }, 'No depth profile for ' + state.region + ' (pairs without a camera).'));
+      return;
+    }
+    const curve = (v: PlxDepthView, ys: (number | null)[]): [number, number][] => ys.flatMap((y, k): [number, number][] => (y === null ? [] : [[v.z[k], y]]));
+    const scaled = (v: PlxDepthView, d: number | null): [number, number][] => (d === null ? [] : curve(v, v.perPx.map((x) => (x === null ? null : x * d))));
+    const zs = views.flatMap((v) => v.z);
+    const series = views.flatMap((v) => [
+      { label: v.label, color: colorOf(v.label), points: curve(v, v.measured), dash: '', legend: v.label + (v.epe === null ? '' : ' (epe ' + fmt(v.epe) + ')') },
+      { label: v.label, color: colorOf(v.label), points: scaled(v, v.epe), dash: '6 3' },
+      { label: v.label, color: colorOf(v.label), points: scaled(v, 0.25), dash: '1 3' },
+    ]);
+    const ys = series.flatMap((s) => s.points.map((p) => p[1]));
+    const z0 = Math.min(...zs);
+    const z1 = Math.max(...zs);
+    host.appendChild(
+      lineChart({
+        aria: 'depth error against distance',
+        xlab: 'true distance (m)',
+        ylab: 'mean |depth error| (m)',
+        x: [z0, z1 > z0 ? z1 : z0 + 1],
+        y: [0, Math.max(...ys, 1e-6)],
+        xTicks: ticks(z0, z1, 5),
+        xTickText: (v) => tickFmt(v),
+        series,
+      }),
+    );
+  }
+
+  /** The usable range of each configuration on the chosen region, in words. */
+  function renderUsable(): void {
+    const host = document.getElementById('usable-list');
+    if (!host) return;
+    const parts = rowsAt(state.region, 'all')
+      .filter((r) => r.usable !== null)
+      .map((r) => {
+        const u = r.usable!;
+        const ci = u[1] !== null && u[2] !== null ? ' [' + fmt(u[1]) + ', ' + fmt(u[2]) + ' m]' : '';
+        const what = u[3] === 'beyond' ? 'holds beyond ' + fmt(u[0]) + ' m, the farthest truth' : u[3] === 'nowhere' ? 'fails already at ' + fmt(u[0]) + ' m, the nearest truth' : 'holds up to ' + fmt(u[0]) + ' m';
+        return r.label + ': ' + what + ci;
+      });
+    host.textContent = parts.length
+      ? 'Usable range on ' + state.region + ' (' + data.usableRule + ' in every fine distance bin from the nearest; ' + Math.round(data.level * 100) + ' % BCa interval over pairs): ' + parts.join('; ') + '.'
+      : '';
   }
 
   function renderCurves(): void {
@@ -324,7 +437,7 @@
   }
 
   // ---------------------------------------------------------------- controls
-  function bindSelect(id: string, key: 'dataset' | 'region' | 'tag' | 'stat'): void {
+  function bindSelect(id: string, key: 'dataset' | 'region' | 'band' | 'tag' | 'stat'): void {
     const s = document.getElementById(id) as HTMLSelectElement | null;
     if (!s) return;
     s.value = state[key];
@@ -341,9 +454,13 @@
     renderSparsify();
     renderSubpixel();
     renderFlicker();
+    renderByBand();
+    renderDepthError();
+    renderUsable();
   }
   bindSelect('sel-dataset', 'dataset');
   bindSelect('sel-region', 'region');
+  bindSelect('sel-band', 'band');
   bindSelect('sel-tag', 'tag');
   bindSelect('sel-stat', 'stat');
   renderAll();

@@ -5,7 +5,6 @@
  */
 import { createHash } from 'node:crypto';
 import type { JobResult } from '../../core/score.js';
-import { REGION_IDS } from '../../core/regions.js';
 import type { RunRecord } from '../../io/run-record.js';
 import { DEFAULT_LEVEL } from '../../stats/bootstrap.js';
 import { REPORT_CSS } from '../html-style.js';
@@ -45,12 +44,27 @@ function provenance(info: RunRecord, jobs: readonly JobResult[]): Markup {
 <h3>Configurations</h3><table><thead><tr><th>label</th><th>matcher</th><th>kind</th><th>version</th><th>parameters</th><th>code hash</th></tr></thead><tbody>${ms}</tbody></table>`;
 }
 
+/** Figures against distance, the depth error against what the disparity error predicts, the usable range. */
+function depthSection(): Markup {
+  return html`<section aria-labelledby="h-depth">
+<h2 id="h-depth">Depth</h2>
+<p id="usable-list" class="ci"></p>
+<div class="charts">
+<figure><div id="by-band"></div><figcaption id="by-band-caption"></figcaption></figure>
+<figure><div id="depth-error"></div><figcaption>Depth error by true distance on the chosen region, one colour per configuration (all pairs pooled, fine bins of 1/12 of a doubling): solid, the measured mean |depth error|; dashed, the error its pooled epe predicts, epe · Z²/(f·B) (from Z = f·B/d, a disparity error δ moves the depth by about δ·Z²/(f·B)); dotted, the same for δ = 0.25 px. A solid line above its dashed one means depth errors larger than the disparity accuracy alone explains (e.g. errors concentrated at far pixels).</figcaption></figure>
+</div>
+</section>`;
+}
+
 export interface PageParts {
   info: RunRecord;
   jobs: readonly JobResult[];
   labels: readonly string[];
   datasets: readonly string[];
   tags: readonly string[];
+  /** Region names (built-in, then named) and depth band labels of the run. */
+  regions: readonly string[];
+  bands: readonly string[];
   /** Pair keys in page order, with the jobs of each pair. */
   pairs: readonly { dataset: string; pair: string; jobs: readonly JobResult[] }[];
   /** The client script, whose hash the Content-Security-Policy allows. */
@@ -94,7 +108,8 @@ export function pageHead(p: PageParts): string {
 <h2 id="h-rank">Ranking</h2>
 <div class="controls">
 <label>dataset<select id="sel-dataset">${datasets.map((d) => opt(d))}</select></label>
-<label>region<select id="sel-region">${REGION_IDS.map((r) => opt(r))}</select></label>
+<label>region<select id="sel-region">${p.regions.map((r) => opt(r))}</select></label>
+${p.bands.length ? html`<label>distance<select id="sel-band">${opt('all', 'all distances')}${p.bands.map((b) => opt(b))}</select></label>` : ''}
 ${tags.length ? html`<label>pairs<select id="sel-tag">${opt('', 'all pairs')}${tags.map((t) => opt(t, `tagged ${t}`))}</select></label>` : ''}
 <label>statistic<select id="sel-stat">${opt('mean', 'mean over pairs')}${opt('pooled', 'pooled over pixels')}</select></label>
 </div>
@@ -112,6 +127,7 @@ ${tags.length ? html`<label>pairs<select id="sel-tag">${opt('', 'all pairs')}${t
 <figure><div id="sparsify"></div><figcaption id="sparsify-caption">Sparsification: epe of the most confident share of the valid predictions kept, from all of them down to 5 %, one solid line per configuration with a confidence map; dashed, the same configuration's oracle (its smallest errors kept), the best any confidence could do. The closer the two, the better the confidence ranks the errors (conf_gap).</figcaption></figure>
 </div>
 </section>
+${p.bands.length ? depthSection() : ''}
 <section aria-labelledby="h-pairs">
 <h2 id="h-pairs">Pairs</h2>
 <p class="ci">Open a pair to see its left image, truth, region map and, per configuration, the disparity and the absolute error, each with its legend. Thumbnails are downscaled (block means of valid pixels); the error images compare the downscaled output with the downscaled truth. The figures beside them are the exact per-pair scores.</p>

@@ -21,7 +21,7 @@ import { byNatural, groupBy } from '../../core/order.js';
 import type { DisparityMapName } from '../colormaps.js';
 import { loadPairInputs, type PairInputs } from './inputs.js';
 import { pageHead, pageTail } from './page.js';
-import { flickerView, pairView, reportData, sparsifyView, subpixelView } from './view-model.js';
+import { bandNamesOf, depthView, flickerView, pairView, regionNamesOf, reportData, sparsifyView, subpixelView } from './view-model.js';
 import { scriptSafeJson } from './markup.js';
 import { reportScript } from './client-script.js';
 
@@ -109,8 +109,11 @@ async function renderRun(runDir: string, info: RunRecord, results: readonly JobR
   // of the whole object is the head's text without its closing brace, then ,"pairs":[,
   // the views joined by commas, then ]}. (scriptSafeJson escapes single characters only,
   // so escaping the pieces is escaping the whole.)
-  const dataHead = scriptSafeJson(reportData(rows, set, datasets, labels, disparityMap, { sparsify: sparsifyView(jobs, labels), subpixel: subpixelView(jobs, labels), flicker: flickerView(jobs, labels) }));
-  await sink(pageHead({ info, jobs, labels, datasets, tags, pairs, script }) + `${dataHead.slice(0, -1)},"pairs":[`);
+  const regions = regionNamesOf(jobs);
+  const bands = bandNamesOf(rows);
+  const views = { sparsify: sparsifyView(jobs, labels), subpixel: subpixelView(jobs, labels), flicker: flickerView(jobs, labels), depth: depthView(jobs, labels), regions, bands };
+  const dataHead = scriptSafeJson(reportData(rows, set, datasets, labels, disparityMap, views));
+  await sink(pageHead({ info, jobs, labels, datasets, tags, regions, bands, pairs, script }) + `${dataHead.slice(0, -1)},"pairs":[`);
 
   // Files of the next few pairs are read while this one is drawn (I/O overlaps the
   // CPU work; one thread, a bounded number of pairs in memory).

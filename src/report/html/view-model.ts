@@ -4,7 +4,10 @@
  * and one view per pair (thumbnails as data: URIs, exact per-pair figures).
  */
 import type { JobResult, RegionFigures } from '../../core/score.js';
-import { REGION_IDS } from '../../core/regions.js';
+import { ALL_BANDS, REGION_IDS, sliceKey } from '../../core/regions.js';
+import { PROFILE_BINS_PER_OCTAVE } from '../../core/depth-bands.js';
+import { addProfiles, binStart, type DepthProfile } from '../../metrics/depth-profile.js';
+import { DEFAULT_USABLE_RULE, USABLE_MIN_PIXELS, usableRuleText } from '../../stats/usable-range.js';
 import type { RunRecord } from '../../io/run-record.js';
 import type { Manifest } from '../../dataset/manifest.js';
 import type { SummaryRow } from '../../stats/aggregate.js';
@@ -91,20 +94,22 @@ export async function pairView(p: PairViewInput): Promise<PairView> {
   return view;
 }
 
-/** summary[dataset][tag or ''][region] = rows (one per configuration). */
+/** summary[dataset][tag or ''][slice key: region, or region@band] = rows (one per configuration). */
 function summaryView(rows: SummaryRow[], set: MetricSet): PlxReportHead['summary'] {
   const out: PlxReportHead['summary'] = {};
   const metrics = metricsOf(set);
   for (const r of rows) {
     const ds = (out[r.dataset] ??= {});
     const tg = (ds[r.tag ?? ''] ??= {});
-    const list = (tg[r.region] ??= []);
+    const list = (tg[sliceKey(r.region, r.band)] ??= []);
     const m: Record<string, (number | null)[]> = {};
     for (const { id } of metrics) {
       const s = r.metrics[id];
       m[id] = [s.mean, s.meanCi?.lo ?? null, s.meanCi?.hi ?? null, s.n, s.pooled, s.pooledCi?.lo ?? null, s.pooledCi?.hi ?? null, s.detect];
     }
-    list.push({ label: r.matcher, n_pairs: r.n_pairs, n_units: r.n_units, unit: r.unit, n_failed: r.n_failed, m });
+    const u = r.usable;
+    const usable: PlxSummaryRow['usable'] = u ? [u.range_m, u.ci?.lo ?? null, u.ci?.hi ?? null, u.holds] : null;
+    list.push({ label: r.matcher, n_pairs: r.n_pairs, n_units: r.n_units, unit: r.unit, n_failed: r.n_failed, m, usable });
   }
   return out;
 }
@@ -115,13 +120,13 @@ function summaryView(rows: SummaryRow[], set: MetricSet): PlxReportHead['summary
  */
 export function sparsifyView(jobs: readonly JobResult[], configs: readonly string[]): PlxReportHead['sparsify'] {
   const out: PlxReportHead['sparsify'] = {};
-  for (const region of REGION_IDS) {
+  for (const region of regionNamesOf(jobs)) {
     for (const label of configs) {
       const byDataset = new Map<string, { conf: number[]; oracle: number[]; n: number }>();
       for (const j of jobs) {
         if (j.matcher !== label) continue;
-        const f = j.scores[region].figures;
-        if (!f.conf_curve || !f.oracle_curve) continue;
+        const f = j.scores[region]?.figures;
+        if (!f?.conf_curve || !f.oracle_curve) continue;
         const acc = byDataset.get(j.dataset) ?? { conf: f.conf_curve.map(() => 0), oracle: f.oracle_curve.map(() => 0), n: 0 };
         f.conf_curve.forEach((v, k) => (acc.conf[k] += v));
         f.oracle_curve.forEach((v, k) => (acc.oracle[k] += v));
@@ -139,12 +144,12 @@ export function sparsifyView(jobs: readonly JobResult[], configs: readonly strin
 /** Sub-pixel figures per dataset, region and configuration: histogram summed, lock and errors averaged over pairs. */
 export function subpixelView(jobs: readonly JobResult[], configs: readonly string[]): PlxReportHead['subpixel'] {
   const out: PlxReportHead['subpixel'] = {};
-  for (const region of REGION_IDS) {
+  for (const region of regionNamesOf(jobs)) {
     for (const label of configs) {
       const byDataset = new Map<string, { lock: number; n: number; hist: number[]; errSum: number[]; errN: number[] }>();
       for (const j of jobs) {
-        const f = j.scores[region].figures;
-        if (j.matcher !== label || !f.frac_hist || !f.err_by_truth_frac || typeof f.subpix_lock !== 'number') continue;
+        const f = j.scores[region]?.figures;
+        if (!f || j.matcher !== label || !f.frac_hist || !f.err_by_truth_frac || typeof f.subpix_lock !== 'number') continue;
         const acc = byDataset.get(j.dataset) ?? { lock: 0, n: 0, hist: f.frac_hist.map(() => 0), errSum: f.frac_hist.map(() => 0), errN: f.frac_hist.map(() => 0) };
         acc.lock += f.subpix_lock;
         acc.n++;
@@ -167,11 +172,11 @@ export function subpixelView(jobs: readonly JobResult[], configs: readonly strin
 /** Flicker against frame per dataset, region and configuration: the mean over the dataset's sequences at each frame. */
 export function flickerView(jobs: readonly JobResult[], configs: readonly string[]): PlxReportHead['flicker'] {
   const out: PlxReportHead['flicker'] = {};
-  for (const region of REGION_IDS) {
+  for (const region of regionNamesOf(jobs)) {
     for (const label of configs) {
       const acc = new Map<string, Map<number, [number, number]>>(); // dataset -> frame -> [sum, count]
       for (const j of jobs) {
-        const v = j.scores[region].figures.flicker;
+        const v = j.scores[region]?.figures.flicker;
         if (j.matcher !== label || j.frame === undefined || typeof v !== 'number') continue;
         const byFrame = acc.get(j.dataset) ?? new Map<number, [number, number]>();
         const cell = byFrame.get(j.frame) ?? [0, 0];
@@ -189,6 +194,63 @@ export function flickerView(jobs: readonly JobResult[], configs: readonly string
   return out;
 }
 
+/** The regions of the jobs: the built-in ones, then the named regions of the manifests, in first-seen order. */
+export function regionNamesOf(jobs: readonly JobResult[]): string[] {
+  const out = new Set<string>(REGION_IDS);
+  for (const j of jobs) for (const r of j.regions ?? []) out.add(r);
+  return [...out];
+}
+
+/** The depth bands of the summary rows, nearest first (as the rows give them). */
+export function bandNamesOf(rows: readonly SummaryRow[]): string[] {
+  const out = new Set<string>();
+  for (const r of rows) if (r.band !== ALL_BANDS) out.add(r.band);
+  return [...out];
+}
+
+/**
+ * Depth error by distance per dataset, whole region and configuration (all pairs): the
+ * depth profiles pooled over pairs; per fine bin its centre (m), the measured mean |dZ|
+ * (m), and the mean Zt^2 / (f B) (m per px of disparity error), which the client
+ * multiplies by the configuration's pooled epe and by 0.25 px for the expected curves.
+ */
+export function depthView(jobs: readonly JobResult[], configs: readonly string[]): PlxReportHead['depth'] {
+  const out: PlxReportHead['depth'] = {};
+  for (const region of regionNamesOf(jobs)) {
+    for (const label of configs) {
+      const acc = new Map<string, { prof: DepthProfile | undefined; sumAbs: number; valid: number }>();
+      for (const j of jobs) {
+        const sc = j.scores[region];
+        if (j.matcher !== label || !sc?.profile) continue;
+        const a = acc.get(j.dataset) ?? { prof: undefined, sumAbs: 0, valid: 0 };
+        a.prof = addProfiles(a.prof, sc.profile);
+        a.sumAbs += sc.sums.sumAbs;
+        a.valid += sc.sums.valid;
+        acc.set(j.dataset, a);
+      }
+      for (const [dataset, a] of acc) {
+        const p = a.prof;
+        if (!p) continue;
+        const z: number[] = [];
+        const measured: (number | null)[] = [];
+        const perPx: (number | null)[] = [];
+        p.count.forEach((c, k) => {
+          if (p.pixels[k] < USABLE_MIN_PIXELS) return; // too few pixels to draw (the usable range does not judge them either)
+          z.push(Math.sqrt(binStart(p.first + k, PROFILE_BINS_PER_OCTAVE) * binStart(p.first + k + 1, PROFILE_BINS_PER_OCTAVE)));
+          measured.push(c > 0 ? p.absDz[k] / c : null);
+          perPx.push(c > 0 ? p.expect[k] / c : null);
+        });
+        const pixels = p.pixels.filter((n) => n >= USABLE_MIN_PIXELS);
+        if (z.length) ((out[dataset] ??= {})[region] ??= []).push({ label, epe: a.valid > 0 ? a.sumAbs / a.valid : null, z, measured, perPx, pixels });
+      }
+    }
+  }
+  return out;
+}
+
+/** The views of the page beside the summary. */
+export type ReportViews = Pick<PlxReportHead, 'sparsify' | 'subpixel' | 'flicker' | 'depth' | 'regions' | 'bands'>;
+
 /** The page's data object, without its `pairs` (written one view at a time). */
 export function reportData(
   rows: SummaryRow[],
@@ -196,14 +258,16 @@ export function reportData(
   datasets: string[],
   configs: string[],
   disparityMap: DisparityMapName,
-  curves: Pick<PlxReportHead, 'sparsify' | 'subpixel' | 'flicker'> = { sparsify: {}, subpixel: {}, flicker: {} },
+  views: ReportViews = { sparsify: {}, subpixel: {}, flicker: {}, depth: {}, regions: [...REGION_IDS], bands: [] },
 ): PlxReportHead {
   const metrics = metricsOf(set);
   const byId = <T>(f: (m: (typeof metrics)[number]) => T): Record<string, T> => Object.fromEntries(metrics.map((m) => [m.id, f(m)]));
   return {
     thresholds: [...set.thresholds],
     rateNames: set.thresholds.map(thresholdName),
-    regions: [...REGION_IDS],
+    regions: views.regions,
+    bands: views.bands,
+    usableRule: set.usableRange ?? usableRuleText(DEFAULT_USABLE_RULE),
     metrics: metrics.map((m) => m.id),
     units: byId((m) => (m.unit === 'fraction' ? '' : m.unit)),
     headings: byId(heading),
@@ -222,9 +286,10 @@ export function reportData(
     configColors: [...CATEGORICAL],
     rankBy: thresholdName(keyThreshold(set.thresholds)),
     shares: [...SPARSIFY_SHARES],
-    sparsify: curves.sparsify,
-    subpixel: curves.subpixel,
-    flicker: curves.flicker,
+    sparsify: views.sparsify,
+    subpixel: views.subpixel,
+    flicker: views.flicker,
+    depth: views.depth,
     regionKeys: (['visible', 'occluded', 'flat', 'jump', 'unknown'] as const).map((k): [string, string] => [k === 'unknown' ? 'no truth' : k, `rgb(${REGION_COLORS[k].join(',')})`]),
   };
 }
