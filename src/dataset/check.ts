@@ -1,21 +1,26 @@
 /**
  * `parallax dataset check`: find every problem of a dataset, one line each.
  * Looks at the manifest (schema, duplicate ids, paths), then every pair: missing or
- * unreadable files, size mismatches, truth outside disparityRange, and a share of
- * invalid truth above a threshold.
+ * unreadable files (images, truth, occlusion, ignore and named masks), size mismatches,
+ * truth outside disparityRange, and a share of invalid truth above a threshold (not for
+ * truth declared sparse). The summary gives the depth range of pairs with a camera.
  */
 import { existsSync } from 'node:fs';
 import { relative } from 'node:path';
 import { isParallaxError } from '../core/errors.js';
-import { readDisparityFile, readImageFile, readMaskFile } from '../io/files.js';
+import { readImageFile, readMaskFile } from '../io/files.js';
 import type { Manifest } from './manifest.js';
-import { manifestPath, readManifestBytes, validateManifest } from './manifest.js';
-import { truthReadOptions } from './load.js';
+import { manifestPath, pairCamera, readManifestBytes, validateManifest } from './manifest.js';
+import { readTruth } from './load.js';
+import { depthRangeOf, trueDepths } from './depth-range.js';
+import type { PairEntry } from '../core/pair.js';
 
 export interface CheckOptions {
   /** Largest acceptable share of invalid (unknown) truth pixels per pair, in % (default 50). */
   maxInvalidPercent?: number;
   maxPixels?: number;
+  /** The folder the manifest's paths are relative to (`--data-root`). */
+  dataRoot?: string;
 }
 
 export interface CheckReport {
@@ -64,73 +69,94 @@ function fmt(v: number): string {
   return Number.isFinite(v) ? String(Math.round(v * 1000) / 1000) : 'n/a';
 }
 
-async function checkPairs(m: Manifest, opts: CheckOptions, problems: string[]): Promise<{ sizes: Set<string>; knownShare: number[]; lo: number; hi: number }> {
-  const maxInvalid = opts.maxInvalidPercent ?? DEFAULT_MAX_INVALID_PERCENT;
+interface CheckTotals {
+  sizes: Set<string>;
+  knownShare: number[];
+  lo: number;
+  hi: number;
+  /** Sampled true depths of pairs with a camera (m). */
+  depths: Float64Array[];
+}
+
+/** About this many truth pixels per pair enter the depth range. */
+const DEPTH_SAMPLE_PER_PAIR = 50_000;
+
+/** The files of a pair to read, by kind (masks as `mask <name>`). */
+function pairFiles(p: PairEntry): [string, string | undefined][] {
+  return [
+    ['left', p.left],
+    ['right', p.right],
+    ['truth', p.truth],
+    ['occlusion', p.occlusion],
+    ['ignore', p.ignore],
+    ...Object.entries(p.masks ?? {}).map(([name, f]): [string, string] => [`mask ${name}`, f]),
+  ];
+}
+
+async function checkPair(m: Manifest, p: PairEntry, opts: CheckOptions, problems: string[], totals: CheckTotals): Promise<void> {
   const po = opts.maxPixels !== undefined ? { maxPixels: opts.maxPixels } : undefined;
-  const sizes = new Set<string>();
-  const knownShare: number[] = [];
-  let lo = Infinity;
-  let hi = -Infinity;
   const rel = (f: string): string => relative(process.cwd(), f) || f;
-  for (const p of m.pairs) {
-    const files: [string, string | undefined][] = [
-      ['left', p.left],
-      ['right', p.right],
-      ['truth', p.truth],
-      ['occlusion', p.occlusion],
-    ];
-    const read: { file: string; size: Sized }[] = [];
-    let truth: Float32Array | undefined;
-    for (const [kind, file] of files) {
-      if (file === undefined || file === '') continue; // optional, or a path already reported
-      if (!existsSync(file)) {
-        problems.push(`${rel(file)}: missing file (pair ${p.id}, ${kind})`);
-        continue;
-      }
-      try {
-        if (kind === 'truth') {
-          const t = await readDisparityFile(file, truthReadOptions(m, opts.maxPixels));
-          truth = t.data;
-          read.push({ file, size: t });
-        } else if (kind === 'occlusion') {
-          read.push({ file, size: await readMaskFile(file, po) });
-        } else {
-          read.push({ file, size: await readImageFile(file, po) });
-        }
-      } catch (e) {
-        const msg = errorText(e);
-        problems.push(msg.startsWith(file) ? `${rel(file)}${msg.slice(file.length)}` : `${rel(file)}: ${msg}`);
-      }
+  const read: { file: string; size: Sized }[] = [];
+  let truth: Float32Array | undefined;
+  for (const [kind, file] of pairFiles(p)) {
+    if (file === undefined || file === '') continue; // optional, or a path already reported
+    if (!existsSync(file)) {
+      problems.push(`${rel(file)}: missing file (pair ${p.id}, ${kind})`);
+      continue;
     }
-    const first = read[0];
-    if (first) {
-      for (const r of read.slice(1)) {
-        if (r.size.width !== first.size.width || r.size.height !== first.size.height) {
-          problems.push(
-            `${rel(r.file)}: size ${r.size.width}x${r.size.height} differs from ${rel(first.file)} (${first.size.width}x${first.size.height}) (pair ${p.id})`,
-          );
-        }
+    try {
+      if (kind === 'truth') {
+        const t = await readTruth(m, p, opts.maxPixels);
+        truth = t.data;
+        read.push({ file, size: t });
+      } else if (kind === 'left' || kind === 'right') {
+        read.push({ file, size: await readImageFile(file, po) });
+      } else {
+        read.push({ file, size: await readMaskFile(file, po) });
       }
-      sizes.add(`${first.size.width}x${first.size.height}`);
-    }
-    if (truth) {
-      const [rlo, rhi] = m.disparityRange;
-      const s = truthStats(truth, rlo, rhi);
-      if (s.outside > 0) {
-        problems.push(
-          `${rel(p.truth)}: ${s.outside} truth pixel(s) outside disparityRange [${rlo}, ${rhi}] (truth spans ${fmt(s.min)} to ${fmt(s.max)}; pair ${p.id})`,
-        );
-      }
-      const invalidPct = truth.length ? (100 * s.invalid) / truth.length : 100;
-      if (invalidPct > maxInvalid) {
-        problems.push(`${rel(p.truth)}: ${fmt(invalidPct)}% of truth pixels are invalid, above the limit of ${maxInvalid}% (pair ${p.id})`);
-      }
-      knownShare.push(100 - invalidPct);
-      if (s.min < lo) lo = s.min;
-      if (s.max > hi) hi = s.max;
+    } catch (e) {
+      const msg = errorText(e);
+      problems.push(msg.startsWith(file) ? `${rel(file)}${msg.slice(file.length)}` : `${rel(file)}: ${msg}`);
     }
   }
-  return { sizes, knownShare, lo, hi };
+  const first = read[0];
+  if (first) {
+    for (const r of read.slice(1)) {
+      if (r.size.width !== first.size.width || r.size.height !== first.size.height) {
+        problems.push(`${rel(r.file)}: size ${r.size.width}x${r.size.height} differs from ${rel(first.file)} (${first.size.width}x${first.size.height}) (pair ${p.id})`);
+      }
+    }
+    totals.sizes.add(`${first.size.width}x${first.size.height}`);
+  }
+  if (!truth) return;
+  const [rlo, rhi] = m.disparityRange;
+  const s = truthStats(truth, rlo, rhi);
+  if (s.outside > 0) {
+    problems.push(`${rel(p.truth)}: ${s.outside} truth pixel(s) outside disparityRange [${rlo}, ${rhi}] (truth spans ${fmt(s.min)} to ${fmt(s.max)}; pair ${p.id})`);
+  }
+  const invalidPct = truth.length ? (100 * s.invalid) / truth.length : 100;
+  const maxInvalid = opts.maxInvalidPercent ?? DEFAULT_MAX_INVALID_PERCENT;
+  if (invalidPct > maxInvalid && !m.sparseTruth) {
+    problems.push(`${rel(p.truth)}: ${fmt(invalidPct)}% of truth pixels are invalid, above the limit of ${maxInvalid}% (pair ${p.id}; declare "sparseTruth": true if the truth is sparse by design)`);
+  }
+  totals.knownShare.push(100 - invalidPct);
+  if (s.min < totals.lo) totals.lo = s.min;
+  if (s.max > totals.hi) totals.hi = s.max;
+  const camera = pairCamera(m, p);
+  if (camera) totals.depths.push(trueDepths(truth, camera, Math.max(1, Math.floor(truth.length / DEPTH_SAMPLE_PER_PAIR))));
+}
+
+/** The depth range in words: "depth 1.87 to 13.7 m (2nd-98th percentile 2.11 to 12.3 m)". */
+function depthText(depths: Float64Array[]): string {
+  const all = new Float64Array(depths.reduce((n, d) => n + d.length, 0));
+  let o = 0;
+  for (const d of depths) {
+    all.set(d, o);
+    o += d.length;
+  }
+  const r = depthRangeOf(all);
+  const m = (v: number): string => String(Number(v.toPrecision(3)));
+  return r ? `, depth ${m(r.min)} to ${m(r.max)} m (2nd-98th percentile ${m(r.near)} to ${m(r.far)} m)` : '';
 }
 
 /** Check a dataset folder or manifest. Never throws for dataset problems: they are listed. */
@@ -144,15 +170,17 @@ export async function checkDataset(pathOrDir: string, opts: CheckOptions = {}): 
   } catch (e) {
     return { manifestFile: file, pairCount: 0, problems: [errorText(e)], summary: '' };
   }
-  const v = validateManifest(text, file);
+  const v = validateManifest(text, file, opts.dataRoot !== undefined ? { dataRoot: opts.dataRoot } : {});
   for (const pr of v.problems) problems.push(`${shownFile}: ${pr}`);
   const m = v.manifest ?? v.partial;
   if (!m) return { manifestFile: file, pairCount: 0, problems, summary: '' };
-  const st = await checkPairs(m, opts, problems);
+  const st: CheckTotals = { sizes: new Set(), knownShare: [], lo: Infinity, hi: -Infinity, depths: [] };
+  for (const p of m.pairs) await checkPair(m, p, opts, problems, st);
   const meanKnown = st.knownShare.length ? st.knownShare.reduce((a, b) => a + b, 0) / st.knownShare.length : 0;
   const summary =
     `${m.name}: ${m.pairs.length} pair(s), size ${[...st.sizes].join(', ') || 'n/a'}, ` +
     `disparityRange [${m.disparityRange[0]}, ${m.disparityRange[1]}], truth spans ${fmt(st.lo)} to ${fmt(st.hi)}, ` +
-    `known truth ${fmt(meanKnown)}% on average`;
+    `known truth ${fmt(meanKnown)}% on average${m.sparseTruth ? ' (sparse by design)' : ''}` +
+    depthText(st.depths);
   return { manifestFile: file, name: m.name, pairCount: m.pairs.length, problems, summary };
 }

@@ -22,6 +22,8 @@ export function referencedFiles(m: Manifest): string[] {
     set.add(p.right);
     set.add(p.truth);
     if (p.occlusion) set.add(p.occlusion);
+    if (p.ignore) set.add(p.ignore);
+    for (const f of Object.values(p.masks ?? {})) set.add(f);
   }
   return [...set].sort((a, b) => {
     const ra = relative(m.dir, a);

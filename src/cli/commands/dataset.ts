@@ -1,16 +1,21 @@
 /**
- * `parallax dataset check <dir>` and `parallax dataset synth --out <dir>`.
+ * `parallax dataset check <dir>`, `parallax dataset init <dir>` and `parallax dataset synth --out <dir>`.
  */
-import { resolve } from 'node:path';
+import { existsSync } from 'node:fs';
+import { join, resolve } from 'node:path';
 import type { Argv, CommandModule } from 'yargs';
 import { UsageError } from '../../core/errors.js';
 import { checkDataset, DEFAULT_MAX_INVALID_PERCENT } from '../../dataset/check.js';
+import { buildManifest } from '../../dataset/init.js';
+import { MANIFEST_FILE } from '../../dataset/manifest.js';
+import { writeFileAtomic } from '../../io/files.js';
 import { renderDemoDataset } from '../synth.js';
 import { shownPath } from '../session.js';
 
 interface CheckArgs {
   dir: string;
   'max-invalid': number;
+  'data-root'?: string;
 }
 
 interface SynthArgs {
@@ -31,12 +36,13 @@ const checkCommand: CommandModule<object, CheckArgs> = {
       .option('max-invalid', {
         type: 'number',
         default: DEFAULT_MAX_INVALID_PERCENT,
-        describe: 'Largest acceptable share of invalid truth pixels per pair, in %',
-      }) as unknown as Argv<CheckArgs>,
+        describe: 'Largest acceptable share of invalid truth pixels per pair, in % (not checked for sparse truth)',
+      })
+      .option('data-root', { type: 'string', describe: "Folder the manifest's paths are relative to, instead of its dataRoot or folder" }) as unknown as Argv<CheckArgs>,
   handler: async (a) => {
     const max = a['max-invalid'];
     if (!Number.isFinite(max) || max < 0 || max > 100) throw new UsageError('--max-invalid', `must be a percentage 0-100, got ${String(max)}`);
-    const report = await checkDataset(a.dir, { maxInvalidPercent: max });
+    const report = await checkDataset(a.dir, { maxInvalidPercent: max, ...(a['data-root'] !== undefined ? { dataRoot: resolve(a['data-root']) } : {}) });
     if (report.problems.length) {
       for (const p of report.problems) process.stdout.write(p + '\n');
       process.stdout.write(`${report.problems.length} problem(s) in ${shownPath(report.manifestFile)}\n`);
@@ -44,6 +50,108 @@ const checkCommand: CommandModule<object, CheckArgs> = {
     } else {
       process.stdout.write(`OK ${report.summary}\n`);
     }
+  },
+};
+
+interface InitArgs {
+  dir: string;
+  left: string;
+  right: string;
+  truth: string;
+  occlusion?: string;
+  ignore?: string;
+  mask?: string[];
+  name?: string;
+  'disparity-range': string;
+  'truth-kind': string;
+  'depth-unit'?: string;
+  'truth-scale'?: number;
+  'truth-invalid'?: number;
+  'focal-px'?: number;
+  'baseline-m'?: number;
+  'cx-shift-px'?: number;
+  sparse: boolean;
+  force: boolean;
+}
+
+/** `a,b` as a disparity range; a UsageError naming the option otherwise. */
+function rangeOption(text: string): [number, number] {
+  const parts = text.split(',').map((x) => Number(x.trim()));
+  if (parts.length !== 2 || !parts.every(Number.isFinite) || parts[0] > parts[1]) throw new UsageError('--disparity-range', `"${text}" must be min,max in px with min <= max (e.g. 0,128)`);
+  return [parts[0], parts[1]];
+}
+
+/** `name=pattern` pairs of --mask. */
+function maskOptions(list: readonly string[] | undefined): Record<string, string> {
+  const out: Record<string, string> = {};
+  for (const m of list ?? []) {
+    const at = m.indexOf('=');
+    if (at <= 0) throw new UsageError('--mask', `"${m}" must read name=pattern (e.g. dock-edge=masks/*_edge.png)`);
+    out[m.slice(0, at)] = m.slice(at + 1);
+  }
+  return out;
+}
+
+/** The camera from --focal-px and --baseline-m (both or neither). */
+function cameraOptions(a: InitArgs): { focalPx: number; baselineM: number; cxShiftPx: number } | undefined {
+  const f = a['focal-px'];
+  const b = a['baseline-m'];
+  if (f === undefined && b === undefined) return undefined;
+  if (f === undefined || !(f > 0)) throw new UsageError('--focal-px', 'give the focal length in px (> 0) with --baseline-m');
+  if (b === undefined || !(b > 0)) throw new UsageError('--baseline-m', 'give the baseline in metres (> 0) with --focal-px');
+  return { focalPx: f, baselineM: b, cxShiftPx: a['cx-shift-px'] ?? 0 };
+}
+
+const initCommand: CommandModule<object, InitArgs> = {
+  command: 'init <dir>',
+  describe: 'Write dataset.json for a folder of files found by patterns, pairing files by their common stem; then check it',
+  builder: (y) =>
+    y
+      .positional('dir', { type: 'string', demandOption: true, describe: 'The data folder (the patterns are relative to it)' })
+      .option('left', { type: 'string', demandOption: true, describe: 'Pattern of the left images, e.g. left/*.png' })
+      .option('right', { type: 'string', demandOption: true, describe: 'Pattern of the right images, e.g. right/*.png' })
+      .option('truth', { type: 'string', demandOption: true, describe: 'Pattern of the truth files, e.g. depth/*.png' })
+      .option('occlusion', { type: 'string', describe: 'Pattern of the occlusion masks' })
+      .option('ignore', { type: 'string', describe: 'Pattern of per-pair ignore masks, or one file for every pair' })
+      .option('mask', { type: 'string', array: true, describe: 'A named region: name=pattern (or name=file for every pair); repeatable' })
+      .option('name', { type: 'string', describe: "Dataset name (default: the folder's name)" })
+      .option('disparity-range', { type: 'string', demandOption: true, describe: 'min,max disparity in px that matchers search' })
+      .option('truth-kind', { type: 'string', default: 'disparity', choices: ['disparity', 'depth'], describe: 'What the truth files hold' })
+      .option('depth-unit', { type: 'string', choices: ['m', 'mm'], describe: 'Unit of depth truth' })
+      .option('truth-scale', { type: 'number', describe: 'PNG truth: stored value = round(value * scale)' })
+      .option('truth-invalid', { type: 'number', describe: 'PNG truth: code of unknown pixels (default 0)' })
+      .option('focal-px', { type: 'number', describe: 'Camera focal length in px (depth figures, depth truth)' })
+      .option('baseline-m', { type: 'number', describe: 'Camera baseline in metres' })
+      .option('cx-shift-px', { type: 'number', describe: 'cx_right - cx_left in px (default 0)' })
+      .option('sparse', { type: 'boolean', default: false, describe: 'The truth is sparse by design (a lidar)' })
+      .option('force', { type: 'boolean', default: false, describe: 'Replace an existing dataset.json' }) as unknown as Argv<InitArgs>,
+  handler: async (a) => {
+    const dir = resolve(a.dir);
+    if (!existsSync(dir)) throw new UsageError('<dir>', `no such folder ${a.dir}`);
+    const out = join(dir, MANIFEST_FILE);
+    if (existsSync(out) && !a.force) throw new UsageError('--force', `${shownPath(out)} exists; give --force to replace it`);
+    const camera = cameraOptions(a);
+    const scale = a['truth-scale'];
+    const { manifest, unpartnered } = buildManifest(
+      dir,
+      { left: a.left, right: a.right, truth: a.truth, ...(a.occlusion !== undefined ? { occlusion: a.occlusion } : {}), ...(a.ignore !== undefined ? { ignore: a.ignore } : {}), masks: maskOptions(a.mask) },
+      {
+        name: (a.name ?? dir.split(/[\\/]/).pop() ?? 'dataset').replace(/[^A-Za-z0-9._-]/g, '-'),
+        ...(camera ? { camera } : {}),
+        truthKind: a['truth-kind'] === 'depth' ? 'depth' : 'disparity',
+        ...(a['depth-unit'] === 'm' || a['depth-unit'] === 'mm' ? { depthUnit: a['depth-unit'] } : {}),
+        sparseTruth: a.sparse,
+        disparityRange: rangeOption(a['disparity-range']),
+        ...(scale !== undefined ? { truthEncoding: { scale, invalid: a['truth-invalid'] ?? 0 } } : {}),
+      },
+    );
+    await writeFileAtomic(out, JSON.stringify(manifest, null, 2) + '\n');
+    process.stdout.write(`wrote ${shownPath(out)}: ${manifest.pairs.length} pair(s)\n`);
+    for (const u of unpartnered) process.stdout.write(`unpartnered ${u.kind}: ${u.file}\n`);
+    const report = await checkDataset(dir);
+    for (const p of report.problems) process.stdout.write(p + '\n');
+    process.stdout.write(report.problems.length ? `${report.problems.length} problem(s) in ${shownPath(out)}\n` : `OK ${report.summary}\n`);
+    if (report.problems.length) process.exitCode = 1;
   },
 };
 
@@ -73,8 +181,8 @@ const synthCommand: CommandModule<object, SynthArgs> = {
 
 export const datasetCommand: CommandModule = {
   command: 'dataset',
-  describe: 'Dataset tools: check, synth',
-  builder: (y) => y.command(checkCommand).command(synthCommand).demandCommand(1, 'give an action: check or synth'),
+  describe: 'Dataset tools: check, init, synth',
+  builder: (y) => y.command(checkCommand).command(initCommand).command(synthCommand).demandCommand(1, 'give an action: check, init or synth'),
   handler: () => undefined,
 };
 
