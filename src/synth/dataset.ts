@@ -11,7 +11,7 @@ import { mkdir } from 'node:fs/promises';
 import { join } from 'node:path';
 import type { Camera } from '../core/camera.js';
 import { UsageError } from '../core/errors.js';
-import { encodePfm, encodePng, writeFileAtomic } from '../io/index.js';
+import { encodePfm, encodePng, encodePngDisparity, writeFileAtomic } from '../io/index.js';
 import { DOCK_TAGS, DOCK_VARIANTS, dockScene, type DockVariant } from './dock.js';
 import { randomDotPair } from './dots.js';
 import { hash32, subSeed } from './prng.js';
@@ -69,8 +69,27 @@ export interface DemoOptions {
   pairs?: number;
   /** Samples per pixel side (default 3, i.e. 3x3). */
   samples?: number;
+  /** Also write the depth-truth sets (DEPTH_DEMO_SETS) in sub-folders (default true). */
+  depthSets?: boolean;
   onProgress?: (done: number, total: number) => void;
 }
+
+/**
+ * The demo's depth-truth datasets, each in a sub-folder of the demo folder with its own
+ * manifest (truth kind and sparseness are per dataset): the same crates scene, its truth
+ * written as depth in millimetres in a 16-bit PNG (0 = no return), once dense with the
+ * occlusion mask, once sparse as a scanning lidar would give it (LIDAR_ROWS scan lines,
+ * every LIDAR_COLUMN_STEP-th column; no occlusion mask, so occluded is derived from the
+ * samples).
+ */
+export const DEPTH_DEMO_SETS = [
+  { folder: 'depth', name: 'dock-depth', sparse: false, id: 'crates-mm' },
+  { folder: 'lidar', name: 'dock-lidar', sparse: true, id: 'crates-lidar' },
+] as const;
+export const LIDAR_ROWS = 48;
+export const LIDAR_COLUMN_STEP = 2;
+/** Seed offset of the depth sets' scene (not used by the standard list). */
+const DEPTH_SEED_OFFSET = 20;
 
 export interface SyntheticOptions {
   count: number;
@@ -103,16 +122,16 @@ function checkSize(width: number, height: number, maxW: number, maxH: number, wh
   }
 }
 
-/** Write one rendered pair's four files under outDir/id/. */
-async function writePairFiles(outDir: string, id: string, r: StereoRender): Promise<void> {
+/** Write one rendered pair's files under outDir/id/: the images, and the disparity truth and occlusion mask unless left out. */
+async function writePairFiles(outDir: string, id: string, r: StereoRender, only: { truth: boolean; occlusion: boolean } = { truth: true, occlusion: true }): Promise<void> {
   const dir = join(outDir, id);
   await mkdir(dir, { recursive: true });
   const occ = new Uint8Array(r.width * r.height);
   for (let i = 0; i < occ.length; i++) occ[i] = r.occlusion[i] ? 255 : 0;
   await writeFileAtomic(join(dir, 'left.png'), encodePng(r.left));
   await writeFileAtomic(join(dir, 'right.png'), encodePng(r.right));
-  await writeFileAtomic(join(dir, 'truth.pfm'), encodePfm({ width: r.width, height: r.height, data: r.truth }));
-  await writeFileAtomic(join(dir, 'occluded.png'), encodePng({ width: r.width, height: r.height, channels: 1, bitDepth: 8, data: occ }));
+  if (only.truth) await writeFileAtomic(join(dir, 'truth.pfm'), encodePfm({ width: r.width, height: r.height, data: r.truth }));
+  if (only.occlusion) await writeFileAtomic(join(dir, 'occluded.png'), encodePng({ width: r.width, height: r.height, channels: 1, bitDepth: 8, data: occ }));
 }
 
 function pairEntry(id: string, tags: readonly string[], group: string, camera?: Camera): ManifestPair {
@@ -203,6 +222,56 @@ export async function writeDemoDataset(outDir: string, opts: DemoOptions = {}): 
     pairs,
   };
   await writeFileAtomic(join(outDir, 'dataset.json'), JSON.stringify(manifest, null, 2) + '\n');
+  if (opts.depthSets ?? true) await writeDepthDemoSets(outDir, { seed, width, height, samples });
+}
+
+/** Depth (mm) of a disparity truth, NaN where unknown or not in front of the camera. */
+export function depthMillimetres(truth: Float32Array, cam: Camera): Float32Array {
+  const fb = cam.focalPx * cam.baselineM;
+  return truth.map((d) => (d + cam.cxShiftPx > 0 ? (1000 * fb) / (d + cam.cxShiftPx) : NaN));
+}
+
+/** Keep the lidar's samples of a map (LIDAR_ROWS evenly spaced rows, every LIDAR_COLUMN_STEP-th column); NaN elsewhere. */
+export function lidarSamples(z: Float32Array, width: number, height: number): Float32Array {
+  const out = new Float32Array(z.length).fill(NaN);
+  const step = height / LIDAR_ROWS;
+  for (let k = 0; k < LIDAR_ROWS; k++) {
+    const y = Math.min(height - 1, Math.floor((k + 0.5) * step));
+    for (let x = 0; x < width; x += LIDAR_COLUMN_STEP) out[y * width + x] = z[y * width + x];
+  }
+  return out;
+}
+
+/** Write DEPTH_DEMO_SETS under outDir (see its comment). */
+async function writeDepthDemoSets(outDir: string, o: { seed: number; width: number; height: number; samples: number }): Promise<void> {
+  const scene = dockScene('crates', subSeed(o.seed, 1000 + DEPTH_SEED_OFFSET));
+  const rig = rigForScene(scene, { width: o.width, height: o.height, hfovDeg: DOCK_HFOV_DEG, baselineM: DOCK_BASELINE_M });
+  const camera = cameraOf(rig);
+  const r = renderPair(scene, rig, { seed: subSeed(o.seed, 1000 + DEPTH_SEED_OFFSET + 9), samples: o.samples });
+  const acc = { min: Infinity, max: -Infinity };
+  extent(r.truth, acc);
+  const zmm = depthMillimetres(r.truth, camera);
+  for (const set of DEPTH_DEMO_SETS) {
+    const dir = join(outDir, set.folder);
+    await writePairFiles(dir, set.id, r, { truth: false, occlusion: !set.sparse });
+    const truth = set.sparse ? lidarSamples(zmm, r.width, r.height) : zmm;
+    await writeFileAtomic(join(dir, set.id, 'depth.png'), encodePngDisparity({ width: r.width, height: r.height, data: truth }, { scale: 1, invalid: 0, bitDepth: 16 }));
+    const pair = { id: set.id, left: `${set.id}/left.png`, right: `${set.id}/right.png`, truth: `${set.id}/depth.png`, ...(set.sparse ? {} : { occlusion: `${set.id}/occluded.png` }), tags: ['depth-truth'], group: 'crates' };
+    const manifest = {
+      name: set.name,
+      description: set.sparse
+        ? 'The loading-dock crates with sparse depth truth as a scanning lidar gives it, millimetres in a 16-bit PNG (generated by parallax).'
+        : 'The loading-dock crates with dense depth truth in millimetres, a 16-bit PNG (generated by parallax).',
+      camera,
+      truthKind: 'depth',
+      depthUnit: 'mm',
+      ...(set.sparse ? { sparseTruth: true } : {}),
+      truthEncoding: { scale: 1, invalid: 0 },
+      disparityRange: rangeCovering(acc.min, acc.max),
+      pairs: [pair],
+    };
+    await writeFileAtomic(join(dir, 'dataset.json'), JSON.stringify(manifest, null, 2) + '\n');
+  }
 }
 
 /** Write `count` dock pairs of variants drawn from the seed (bulk sets, held-out seeds). */

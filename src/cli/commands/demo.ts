@@ -1,6 +1,7 @@
 /**
  * `parallax demo`: render the synthetic loading-dock dataset into datasets/demo when
- * it is missing, run the built-in matchers on it with default parameters and write
+ * it is missing (with its depth-truth sets in depth/ and lidar/), run the built-in
+ * matchers on all three with default parameters and write
  * reports/demo/. Every registered built-in runs except those in DEMO_LEFT_OUT (too slow
  * for a demo that should finish well under a minute); `--all` runs them too and
  * `--matcher` picks others. It runs through the same scheduler as `parallax run` with
@@ -19,6 +20,7 @@ import { planRun } from '../../runner/plan.js';
 import { cacheLine, scaleFromArgs } from '../scale-options.js';
 import { runSession, shownPath } from '../session.js';
 import { renderDemoDataset } from '../synth.js';
+import { DEPTH_DEMO_SETS } from '../../synth/dataset.js';
 
 interface DemoArgs {
   all: boolean;
@@ -67,8 +69,10 @@ export const demoCommand: CommandModule<object, DemoArgs> = {
       await renderDemoDataset(data, { quiet: a.quiet });
     }
     const matchers = a.matcher?.length ? a.matcher : demoMatchers(a.all);
+    // The depth-truth sets beside the main one (dense millimetre PNG, sparse lidar), where rendered.
+    const depthSets = DEPTH_DEMO_SETS.map((s) => join(data, s.folder)).filter((d) => existsSync(join(d, MANIFEST_FILE)));
     const plan = await planRun({
-      datasets: [data],
+      datasets: [data, ...depthSets],
       matchers,
       matcherEntries: [],
       predictions: [],
