@@ -63,6 +63,34 @@ export interface RegionInput {
 }
 
 
+/**
+ * A derived occlusion of sparse truth is widened by this many px along its rows: the
+ * filled surfaces' borders, and so the occluded strips' ends, are uncertain by about half
+ * a sample spacing. Measured on rendered dock scenes with 10 % of the truth kept: 1 px
+ * finds 83-98 % of the dense occluded pixels (0.71-0.97 without), 2 px costs too much
+ * precision (33-65 % of the widened region truly occluded).
+ */
+export const SPARSE_OCCLUSION_REACH_PX = 1;
+
+/** A mask widened by `reach` px to the left and right along each row. */
+function widenRows(mask: Uint8Array, width: number, reach: number): Uint8Array {
+  if (reach <= 0) return mask;
+  const out = new Uint8Array(mask.length);
+  for (let row = 0; row < mask.length; row += width) {
+    let last = -Infinity;
+    for (let x = 0; x < width; x++) {
+      if (mask[row + x]) last = x;
+      if (x - last <= reach) out[row + x] = 1;
+    }
+    let next = Infinity;
+    for (let x = width - 1; x >= 0; x--) {
+      if (mask[row + x]) next = x;
+      if (next - x <= reach) out[row + x] = 1;
+    }
+  }
+  return out;
+}
+
 /** The regions of one pair (see the file comment for every definition). */
 export function buildRegions(input: RegionInput, params: RegionParams): RegionMap {
   const { truth, leftGray, width, height } = input;
@@ -80,7 +108,7 @@ export function buildRegions(input: RegionInput, params: RegionParams): RegionMa
 
   // Sparse truth: the shape of the scene (jumps, occluders) from the nearest known sample.
   const shape = input.sparse ? nearestFill(truth, width, height) : truth;
-  const occ = input.occlusion ?? deriveOcclusion(shape, width, height, params.occlusionTol, params.occlusionTau);
+  const occ = input.occlusion ?? (input.sparse ? widenRows(deriveOcclusion(shape, width, height, params.occlusionTol, params.occlusionTau), width, SPARSE_OCCLUSION_REACH_PX) : deriveOcclusion(shape, width, height, params.occlusionTol, params.occlusionTau));
   const flat = flatMask(leftGray, width, height, params.flatWindow, params.flatThreshold);
   const jump = jumpMask(shape, width, height, params.jumpGap, params.jumpRadius);
 
