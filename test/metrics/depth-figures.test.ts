@@ -129,8 +129,8 @@ function jobOf(pair: string, c: Case): JobResult {
     time_ms: 1,
     peak_mb: null,
     scores: scorePair(c.pred, c.truth, map, { thresholds: THRESH, quantiles: [50], camera: CAM }),
-    regions: map.names,
-    bands: map.bands,
+    regions: [...map.names],
+    bands: [...map.bands],
     thresholds: THRESH,
     quantiles: [50],
   };
