@@ -39,13 +39,14 @@ describe('parallax demo (on a small synthetic dataset)', () => {
     const n = info.config.matchers.length;
     expect(n).toBeGreaterThanOrEqual(3); // block, census, sgm at least are built in
     const lines = readFileSync(join(out, 'results.jsonl'), 'utf8').trim().split('\n');
-    expect(lines).toHaveLength(2 * n);
+    expect(lines).toHaveLength(4 * n); // 2 demo pairs, and one pair each of the depth and lidar sets
     const pairs = readFileSync(join(out, 'pairs.csv'), 'utf8');
     expect(pairs.split('\n')[0]).toBe(PAIRS_COLUMNS);
     // one row per configuration, pair and region (5 regions, README "Outputs") with
     // band all, and more rows per depth band (the demo has a camera: default bands)
     const pairRows = readCsv(pairs).rows;
-    expect(pairRows.filter((x) => x.band === 'all')).toHaveLength(2 * n * 5);
+    expect(pairRows.filter((x) => x.band === 'all' && x.dataset === 'dock-demo')).toHaveLength(2 * n * 5);
+    expect(new Set(pairRows.map((x) => x.dataset))).toEqual(new Set(['dock-demo', 'dock-depth', 'dock-lidar']));
     const bands = [...new Set(pairRows.map((x) => x.band))];
     expect(bands.length).toBeGreaterThan(1);
     for (const b of bands) if (b !== 'all') expect(b).toMatch(/^(\d+(\.\d+)?-\d+(\.\d+)?m|\d+(\.\d+)?m\+)$/);
@@ -53,7 +54,7 @@ describe('parallax demo (on a small synthetic dataset)', () => {
     const summary = readCsv(readFileSync(join(out, 'summary.csv'), 'utf8'));
     // One row per configuration and region over all pairs (tag empty); rows per manifest
     // tag may follow (the synthetic pairs carry tags).
-    expect(summary.rows.filter((x) => x.tag === '' && x.band === 'all').length).toBe(n * 5);
+    expect(summary.rows.filter((x) => x.tag === '' && x.band === 'all' && x.dataset === 'dock-demo').length).toBe(n * 5);
     // The self-contained HTML report.
     expect(readFileSync(join(out, 'index.html'), 'utf8')).toMatch(/^<!DOCTYPE html>/i);
   });
