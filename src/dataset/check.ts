@@ -12,7 +12,7 @@ import { readImageFile, readMaskFile } from '../io/files.js';
 import type { Manifest } from './manifest.js';
 import { manifestPath, pairCamera, readManifestBytes, validateManifest } from './manifest.js';
 import { readTruth } from './load.js';
-import { depthRangeOf, trueDepths } from './depth-range.js';
+import { depthRangeOf, joined, trueDepths } from './depth-range.js';
 import type { PairEntry } from '../core/pair.js';
 
 export interface CheckOptions {
@@ -148,13 +148,7 @@ async function checkPair(m: Manifest, p: PairEntry, opts: CheckOptions, problems
 
 /** The depth range in words: "depth 1.87 to 13.7 m (2nd-98th percentile 2.11 to 12.3 m)". */
 function depthText(depths: Float64Array[]): string {
-  const all = new Float64Array(depths.reduce((n, d) => n + d.length, 0));
-  let o = 0;
-  for (const d of depths) {
-    all.set(d, o);
-    o += d.length;
-  }
-  const r = depthRangeOf(all);
+  const r = depthRangeOf(joined(depths));
   const m = (v: number): string => String(Number(v.toPrecision(3)));
   return r ? `, depth ${m(r.min)} to ${m(r.max)} m (2nd-98th percentile ${m(r.near)} to ${m(r.far)} m)` : '';
 }

@@ -44,6 +44,17 @@ export function depthRangeOf(depths: Float64Array): DepthRange | null {
   return { pixels: z.length, min: z[0], max: z[z.length - 1], near: quantileSorted(z, 0.02), median: quantileSorted(z, 0.5), far: quantileSorted(z, 0.98) };
 }
 
+/** The parts one after another in one array. */
+export function joined(parts: readonly Float64Array[]): Float64Array {
+  const all = new Float64Array(parts.reduce((n, p) => n + p.length, 0));
+  let o = 0;
+  for (const p of parts) {
+    all.set(p, o);
+    o += p.length;
+  }
+  return all;
+}
+
 /** At most this many pairs, spread over the sorted pair list, are read for a run's default bands. */
 export const BAND_SAMPLE_PAIRS = 8;
 /** About this many pixels per pair enter the sample. */
@@ -71,12 +82,6 @@ export async function defaultDepthBandsOf(manifests: readonly Manifest[]): Promi
       }
     }
   }
-  const all = new Float64Array(parts.reduce((n, p) => n + p.length, 0));
-  let o = 0;
-  for (const p of parts) {
-    all.set(p, o);
-    o += p.length;
-  }
-  const r = depthRangeOf(all);
+  const r = depthRangeOf(joined(parts));
   return r ? bandsForRange(r.near, r.far) : [];
 }

@@ -34,7 +34,7 @@ describe('parallax demo uses the pool and the result cache', () => {
     const second = demo('d2', '--jobs', '2');
     expect(second.code).toBe(0);
     expect(info('d2').cache).toMatchObject({ jobs_from_cache: 8, jobs_computed: 0 });
-    expect(second.stdout).toContain('4 of 4 job(s) came from the result cache');
+    expect(second.stdout).toContain('8 of 8 job(s) came from the result cache');
     // Cached jobs score the same output: the same figures (common practice for a cache).
     const scores = (out: string) => readFileSync(join(root, out, 'results.jsonl'), 'utf8').trim().split('\n').map((l) => JSON.stringify(JSON.parse(l).scores)).sort();
     expect(scores('d2')).toEqual(scores('d1'));
