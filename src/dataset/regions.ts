@@ -31,6 +31,15 @@
  *              about the difference). The dilation is separable (rows, then columns), each
  *              pass O(1) per pixel via the distance to the nearest jump pixel.
  *
+ * - ignore     = a mask whose non-zero pixels are in no region at all.
+ * - named regions (the manifest's `masks`, bits after the built-ins) = region pixels
+ *              (known, not ignored) where their mask is non-zero.
+ * - sparse truth: jump and the derived occlusion use the truth filled by each pixel's
+ *              nearest known sample (sparse.ts); the derived occlusion is then widened
+ *              by SPARSE_OCCLUSION_REACH_PX along its rows. Regions keep known pixels only.
+ * - with a camera, every region pixel with a true depth gets its band (of bandEdges,
+ *              lo <= Z < hi) and its fine depth bin floor(12 log2 Z).
+ *
  * All inputs are flat row-major arrays of width * height values.
  */
 import { NO_DEPTH_BIN, REGION_BIT, REGION_IDS, type RegionMap, type RegionParams } from '../core/regions.js';

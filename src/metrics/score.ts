@@ -30,7 +30,15 @@
  * - Empty region (pixels = 0): every figure null, rates included. pixels > 0 and no valid
  *   prediction: coverage 0, rates 100, error figures and quantiles null.
  *
- * Implementation: a region byte has at most 256 values ("patterns"). Pass 1 counts the
+ * - Per slice (src/core/regions.ts): a region whole, and within each depth band of the
+ *   map (the pixels whose true depth lies in the band). With a camera also depth_relmed
+ *   (median of the relative depth errors counted above, numpy's linear method) and
+ *   depth_over1pct/2pct/5pct = 100 * (pixels with a true depth but no valid positive
+ *   predicted depth, plus counted ones with a relative error above 1/2/5 %) / pixels
+ *   with a true depth; and, for whole regions, the depth profile (depth-profile.ts).
+ *
+ * Implementation: each pixel's (region bits, band) maps to a dense pattern code
+ * (patternTable, few distinct values in practice). Pass 1 counts the
  * pixels of each pattern (a counting-sort layout). Pass 2, the one pass over the maps,
  * writes the signed error e of every valid prediction into its pattern's partition of a
  * float64 buffer (e exactly as numpy computes it) and, with a camera, accumulates the

@@ -146,12 +146,3 @@ export function usableCell(u: UsableRange): string {
   const mark = u.holds === 'beyond' ? '>' : u.holds === 'nowhere' ? '<' : '';
   return `${mark}${n(u.range_m)}${u.ci ? ` [${n(u.ci.lo)}, ${n(u.ci.hi)}]` : ''}`;
 }
-
-/** "up to 3.40 m [3.10, 3.80 m]" and the like, for the report. */
-export function usableRangeText(u: UsableRange): string {
-  const m = (x: number): string => `${x < 10 ? x.toFixed(2) : x.toFixed(1)} m`;
-  const ci = u.ci ? ` [${m(u.ci.lo).replace(' m', '')}, ${m(u.ci.hi)}]` : '';
-  if (u.holds === 'nowhere') return `fails from ${m(u.range_m)}${ci}`;
-  if (u.holds === 'beyond') return `beyond ${m(u.range_m)} (all truth)${ci}`;
-  return `up to ${m(u.range_m)}${ci}`;
-}
