@@ -4,10 +4,11 @@
  * A pair that cannot be loaded prints one line naming the file as it happens (also
  * under --quiet); the run goes on and the command exits 2 at the end.
  */
+import { configLabel } from '../conditions/spec.js';
 import { relative } from 'node:path';
 import cliProgress from 'cli-progress';
 import { AbortedError } from '../core/errors.js';
-import { consoleTable } from '../report/console-table.js';
+import { breakingTable, consoleTable } from '../report/console-table.js';
 import type { RunPlan } from '../runner/plan.js';
 import { executeRun, type RunOutcome } from '../runner/run.js';
 import { aggregate } from '../stats/aggregate.js';
@@ -61,10 +62,10 @@ export async function runSession(plan: RunPlan, opts: SessionOptions): Promise<R
       },
       onJob: (r, n) => {
         done = n;
-        bar?.update(n, { job: `${r.matcher} ${r.dataset}/${r.pair}` });
+        bar?.update(n, { job: `${configLabel(r)} ${r.dataset}/${r.pair}` });
         // A broken pair's jobs were announced once by onPairError.
         if (r.status === 'failed' && !opts.quiet && !broken.has(`${r.dataset}\n${r.pair}`)) {
-          say(`parallax: ${r.matcher} failed on ${r.dataset}/${r.pair}: ${r.error ?? 'no output'}\n`);
+          say(`parallax: ${configLabel(r)} failed on ${r.dataset}/${r.pair}: ${r.error ?? 'no output'}\n`);
           if (bar) bar.start(plan.jobs.length, n, { job: '' });
         }
       },
@@ -80,7 +81,7 @@ export async function runSession(plan: RunPlan, opts: SessionOptions): Promise<R
     );
   } else if (!opts.quiet) {
     const rows = summary.length ? summary : aggregate(outcome.results, { thresholds: plan.thresholds, quantiles: plan.quantiles, ci: false });
-    process.stdout.write('\n' + consoleTable(rows, plan.thresholds));
+    process.stdout.write('\n' + consoleTable(rows, plan.thresholds) + breakingTable(outcome.outputs.breaking));
     const { ok, failed } = outcome.info.jobs;
     process.stdout.write(
       `\n${ok + failed} job(s), ${failed} failed. Wrote ${['run.json', 'results.jsonl', ...outcome.outputs.files].join(', ')} to ${shownPath(outcome.runDir)}/\n`,

@@ -41,8 +41,12 @@ export interface MatchInput {
   /** Inclusive search range: d = x_left - x_right in [minDisparity, maxDisparity]. */
   readonly minDisparity: number;
   readonly maxDisparity: number;
-  /** Source files (for outside programs that want paths); never read by built-in matchers. */
-  readonly source?: { readonly pairId: string; readonly left: string; readonly right: string };
+  /**
+   * Source files (for outside programs that want paths); never read by built-in matchers.
+   * `condition` is set when a camera fault changed the images: the files are then not
+   * what the matcher must see, and programs get the changed images written for them.
+   */
+  readonly source?: { readonly pairId: string; readonly left: string; readonly right: string; readonly condition?: string };
   /** Threads this job may use (the runner's share of the thread budget); default 1. */
   readonly threads?: number;
 }

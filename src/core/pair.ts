@@ -58,4 +58,9 @@ export interface LoadedPair {
   readonly tags?: readonly string[];
   /** Source files, for program plugins and provenance. */
   readonly files: PairEntry;
+  /**
+   * The camera-fault condition the images (and for `scale` the truth) were changed by
+   * (src/conditions); absent = clean, the files as they are.
+   */
+  readonly condition?: string;
 }

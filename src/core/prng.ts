@@ -41,3 +41,10 @@ export function mulberry32(seed: number): () => number {
     return ((t ^ (t >>> 14)) >>> 0) / 4294967296;
   };
 }
+
+/** A 32-bit seed from a seed and a text (FNV-1a over UTF-16 code units, then fmix32): streams per pair and camera. */
+export function seedFor(seed: number, text: string): number {
+  let h = (0x811c9dc5 ^ (seed >>> 0)) >>> 0;
+  for (let i = 0; i < text.length; i++) h = Math.imul(h ^ text.charCodeAt(i), 0x01000193) >>> 0;
+  return fmix32(h);
+}

@@ -103,6 +103,8 @@ export interface JobResult {
   matcher: string;
   /** Matcher id (plugin id, module path, program name, or `predictions`). */
   matcherId: string;
+  /** Camera-fault condition the images were changed by (`noise=4`, src/conditions); absent = clean. */
+  condition?: string;
   /** Full parameter set after defaults. */
   params: Record<string, ParamValue>;
   dataset: string;

@@ -4,6 +4,12 @@
  * unreadable files (images, truth, occlusion, ignore and named masks), size mismatches,
  * truth outside disparityRange, and a share of invalid truth above a threshold (not for
  * truth declared sparse). The summary gives the depth range of pairs with a camera.
+ *
+ * Geometry and photometry (rectification.ts), per pair whose two images are readable
+ * and of one size: the residual vertical misalignment of the right image against the
+ * left, its spread over the image (rotation, scale), and the gain and offset between
+ * the cameras. Beyond the limits they are warnings: the data can be scored, but the
+ * matchers are judged on pairs that break their assumptions.
  */
 import { existsSync } from 'node:fs';
 import { relative } from 'node:path';
@@ -14,6 +20,8 @@ import { manifestPath, pairCamera, readManifestBytes, validateManifest } from '.
 import { readTruth } from './load.js';
 import { depthRangeOf, joined, trueDepths } from './depth-range.js';
 import type { PairEntry } from '../core/pair.js';
+import { toLuminance, type RasterImage } from '../core/image.js';
+import { estimateRectification, type RectificationEstimate } from './rectification.js';
 
 export interface CheckOptions {
   /** Largest acceptable share of invalid (unknown) truth pixels per pair, in % (default 50). */
@@ -21,7 +29,33 @@ export interface CheckOptions {
   maxPixels?: number;
   /** The folder the manifest's paths are relative to (`--data-root`). */
   dataRoot?: string;
+  /** Estimate each pair's rectification and photometry (default true). */
+  rectification?: boolean;
+  /** Warn when |vshift| + spread exceeds this, px (default 0.5). */
+  maxVshiftPx?: number;
+  /** Warn when the gain (right over left) differs from 1 by more than this, % (default 10). */
+  maxGainPercent?: number;
+  /** Warn when the offset exceeds this in grey levels (default 10). */
+  maxOffset?: number;
 }
+
+/** One pair's figures in `dataset check --json`. */
+export interface PairCheck {
+  id: string;
+  /** Rectification estimate (null figures when it could not be made: unreadable images, too little texture). */
+  vshift_px: number | null;
+  vshift_spread_px: number | null;
+  vshift_noise_px: number | null;
+  rotation_mrad: number | null;
+  vscale_pct: number | null;
+  gain: number | null;
+  offset: number | null;
+  points: number;
+}
+
+export const DEFAULT_MAX_VSHIFT_PX = 0.5;
+export const DEFAULT_MAX_GAIN_PERCENT = 10;
+export const DEFAULT_MAX_OFFSET = 10;
 
 export interface CheckReport {
   manifestFile: string;
@@ -32,6 +66,10 @@ export interface CheckReport {
   problems: string[];
   /** Short OK summary (meaningful when there are no problems). */
   summary: string;
+  /** Lines about pairs that can be scored but break a matcher's assumptions (misaligned rows, camera gain). */
+  warnings: string[];
+  /** Per pair figures, in manifest order. */
+  pairs: PairCheck[];
 }
 
 export const DEFAULT_MAX_INVALID_PERCENT = 50;
@@ -76,6 +114,8 @@ interface CheckTotals {
   hi: number;
   /** Sampled true depths of pairs with a camera (m). */
   depths: Float64Array[];
+  warnings: string[];
+  pairs: PairCheck[];
 }
 
 /** About this many truth pixels per pair enter the depth range. */
@@ -97,6 +137,7 @@ async function checkPair(m: Manifest, p: PairEntry, opts: CheckOptions, problems
   const po = opts.maxPixels !== undefined ? { maxPixels: opts.maxPixels } : undefined;
   const rel = (f: string): string => relative(process.cwd(), f) || f;
   const read: { file: string; size: Sized }[] = [];
+  const images: Partial<Record<'left' | 'right', RasterImage>> = {};
   let truth: Float32Array | undefined;
   for (const [kind, file] of pairFiles(p)) {
     if (file === undefined || file === '') continue; // optional, or a path already reported
@@ -110,7 +151,9 @@ async function checkPair(m: Manifest, p: PairEntry, opts: CheckOptions, problems
         truth = t.data;
         read.push({ file, size: t });
       } else if (kind === 'left' || kind === 'right') {
-        read.push({ file, size: await readImageFile(file, po) });
+        const img = await readImageFile(file, po);
+        if (opts.rectification !== false) images[kind] = img;
+        read.push({ file, size: img });
       } else {
         read.push({ file, size: await readMaskFile(file, po) });
       }
@@ -128,6 +171,7 @@ async function checkPair(m: Manifest, p: PairEntry, opts: CheckOptions, problems
     }
     totals.sizes.add(`${first.size.width}x${first.size.height}`);
   }
+  if (opts.rectification !== false) checkGeometry(m, p, images, opts, totals);
   if (!truth) return;
   const [rlo, rhi] = m.disparityRange;
   const s = truthStats(truth, rlo, rhi);
@@ -146,11 +190,51 @@ async function checkPair(m: Manifest, p: PairEntry, opts: CheckOptions, problems
   if (camera) totals.depths.push(trueDepths(truth, camera, Math.max(1, Math.floor(truth.length / DEPTH_SAMPLE_PER_PAIR))));
 }
 
+const f2 = (v: number): string => v.toFixed(2);
+
+/** The rectification and photometric estimate of a pair, with its warnings (see the file comment). */
+function checkGeometry(m: Manifest, p: PairEntry, images: Partial<Record<'left' | 'right', RasterImage>>, opts: CheckOptions, totals: CheckTotals): void {
+  const { left, right } = images;
+  const e: RectificationEstimate =
+    left && right && left.width === right.width && left.height === right.height
+      ? estimateRectification(toLuminance(left), toLuminance(right), left.width, left.height, { minDisparity: m.disparityRange[0], maxDisparity: m.disparityRange[1] })
+      : { points: 0, vshift_px: null, vshift_spread_px: null, vshift_noise_px: null, rotation_mrad: null, vscale_pct: null, gain: null, offset: null };
+  totals.pairs.push({ id: p.id, ...e });
+  const rel = relative(process.cwd(), p.right) || p.right;
+  const maxV = opts.maxVshiftPx ?? DEFAULT_MAX_VSHIFT_PX;
+  if (e.vshift_px !== null && Math.abs(e.vshift_px) + (e.vshift_spread_px ?? 0) > maxV) {
+    const where = e.vshift_px >= 0 ? 'lower' : 'higher';
+    warn(totals, `${rel}: rows misaligned: the right image's content sits ${f2(Math.abs(e.vshift_px))} px ${where} than the left's (median of ${e.points} points; ±${f2(e.vshift_spread_px ?? 0)} px over the image, rotation ${f2(e.rotation_mrad ?? 0)} mrad), above ${maxV} px (pair ${p.id})`);
+  }
+  const maxG = opts.maxGainPercent ?? DEFAULT_MAX_GAIN_PERCENT;
+  if (e.gain !== null && Math.abs(e.gain - 1) * 100 > maxG) {
+    warn(totals, `${rel}: camera gain differs: right over left ${f2(e.gain)} (beyond ±${maxG} %) (pair ${p.id})`);
+  }
+  const maxO = opts.maxOffset ?? DEFAULT_MAX_OFFSET;
+  if (e.offset !== null && Math.abs(e.offset) > maxO) {
+    warn(totals, `${rel}: camera offset differs: right minus gain x left ${f2(e.offset)} grey levels (beyond ±${maxO}) (pair ${p.id})`);
+  }
+}
+
+function warn(totals: CheckTotals, line: string): void {
+  totals.warnings.push(line);
+}
+
 /** The depth range in words: "depth 1.87 to 13.7 m (2nd-98th percentile 2.11 to 12.3 m)". */
 function depthText(depths: Float64Array[]): string {
   const r = depthRangeOf(joined(depths));
   const m = (v: number): string => String(Number(v.toPrecision(3)));
   return r ? `, depth ${m(r.min)} to ${m(r.max)} m (2nd-98th percentile ${m(r.near)} to ${m(r.far)} m)` : '';
+}
+
+/** The worst vertical misalignment and gain in words: ", rows within 0.04 px (worst pair crates-02), gain 0.99 to 1.01". */
+function geometryText(pairs: readonly PairCheck[]): string {
+  const est = pairs.filter((p) => p.vshift_px !== null);
+  if (!est.length) return '';
+  const worst = est.reduce((a, b) => (Math.abs(b.vshift_px!) + (b.vshift_spread_px ?? 0) > Math.abs(a.vshift_px!) + (a.vshift_spread_px ?? 0) ? b : a));
+  const gains = est.map((p) => p.gain).filter((g): g is number => g !== null);
+  const gainText = gains.length ? `, gain right/left ${f2(Math.min(...gains))} to ${f2(Math.max(...gains))}` : '';
+  return `, rows aligned within ${f2(Math.abs(worst.vshift_px!) + (worst.vshift_spread_px ?? 0))} px (worst pair ${worst.id}; ${est.length} of ${pairs.length} pair(s) estimated)${gainText}`;
 }
 
 /** Check a dataset folder or manifest. Never throws for dataset problems: they are listed. */
@@ -162,13 +246,13 @@ export async function checkDataset(pathOrDir: string, opts: CheckOptions = {}): 
   try {
     text = readManifestBytes(file).toString('utf8');
   } catch (e) {
-    return { manifestFile: file, pairCount: 0, problems: [errorText(e)], summary: '' };
+    return { manifestFile: file, pairCount: 0, problems: [errorText(e)], summary: '', warnings: [], pairs: [] };
   }
   const v = validateManifest(text, file, opts.dataRoot !== undefined ? { dataRoot: opts.dataRoot } : {});
   for (const pr of v.problems) problems.push(`${shownFile}: ${pr}`);
   const m = v.manifest ?? v.partial;
-  if (!m) return { manifestFile: file, pairCount: 0, problems, summary: '' };
-  const st: CheckTotals = { sizes: new Set(), knownShare: [], lo: Infinity, hi: -Infinity, depths: [] };
+  if (!m) return { manifestFile: file, pairCount: 0, problems, summary: '', warnings: [], pairs: [] };
+  const st: CheckTotals = { sizes: new Set(), knownShare: [], lo: Infinity, hi: -Infinity, depths: [], warnings: [], pairs: [] };
   for (const p of m.pairs) await checkPair(m, p, opts, problems, st);
   const meanKnown = st.knownShare.length ? st.knownShare.reduce((a, b) => a + b, 0) / st.knownShare.length : 0;
   const summary =
@@ -176,5 +260,5 @@ export async function checkDataset(pathOrDir: string, opts: CheckOptions = {}): 
     `disparityRange [${m.disparityRange[0]}, ${m.disparityRange[1]}], truth spans ${fmt(st.lo)} to ${fmt(st.hi)}, ` +
     `known truth ${fmt(meanKnown)}% on average${m.sparseTruth ? ' (sparse by design)' : ''}` +
     depthText(st.depths);
-  return { manifestFile: file, name: m.name, pairCount: m.pairs.length, problems, summary };
+  return { manifestFile: file, name: m.name, pairCount: m.pairs.length, problems, summary: summary + geometryText(st.pairs), warnings: st.warnings, pairs: st.pairs };
 }

@@ -69,6 +69,12 @@ export const runSettingsSchema = z.object({
   usableRange: z.string().optional(),
   /** Data folder of every dataset (`--data-root`), absolute; absent = each manifest's own. */
   dataRoot: z.string().optional(),
+  /** Camera-fault condition specs as given (`--condition noise=4`, `vshift=[0.25,0.5]`); absent = clean only. */
+  conditions: z.array(z.string()).optional(),
+  /** Seed of the conditions' noise fields (`--condition-seed`); absent = 1. */
+  conditionSeed: z.number().optional(),
+  /** Rule of the breaking point (`--breaking-point`), `region/metric:worsening`; absent = the default. */
+  breakingPoint: z.string().optional(),
 });
 
 const configRecord = z.object({
@@ -95,6 +101,12 @@ const configRecord = z.object({
   depthBands: z.array(z.number()).optional(),
   /** The usable range's rule; absent = the default (depth_over5pct<=10). */
   usableRange: z.string().optional(),
+  /** The run's conditions, `clean` first (src/conditions/spec.ts); absent = clean only. */
+  conditions: z.array(z.string()).optional(),
+  /** Seed of the conditions' noise fields. */
+  conditionSeed: z.number().optional(),
+  /** Rule of the breaking point; absent = the default (src/stats/breaking.ts). */
+  breakingPoint: z.string().optional(),
 });
 
 export const runRecordSchema = z.object({
@@ -131,9 +143,10 @@ export type PredictionSource = z.infer<typeof predictionSourceSchema>;
 export type BrokenPair = NonNullable<RunRecord['broken_pairs']>[number];
 
 /** The metric set of a run: its thresholds and quantile levels. */
-export function metricSetOf(record: { config: Pick<RunConfigRecord, 'thresholds' | 'quantiles' | 'usableRange'> }): { thresholds: number[]; quantiles: number[]; usableRange?: string } {
+export function metricSetOf(record: { config: Pick<RunConfigRecord, 'thresholds' | 'quantiles' | 'usableRange' | 'breakingPoint'> }): { thresholds: number[]; quantiles: number[]; usableRange?: string; breakingPoint?: string } {
   const u = record.config.usableRange;
-  return { thresholds: record.config.thresholds, quantiles: record.config.quantiles, ...(u !== undefined ? { usableRange: u } : {}) };
+  const b = record.config.breakingPoint;
+  return { thresholds: record.config.thresholds, quantiles: record.config.quantiles, ...(u !== undefined ? { usableRange: u } : {}), ...(b !== undefined ? { breakingPoint: b } : {}) };
 }
 
 /** Parse run.json text; an InputError naming `file` when it is not a run record of this format. */

@@ -238,6 +238,8 @@ export interface MetricSet {
   readonly quantiles: readonly number[];
   /** The usable range's rule, e.g. `depth_over5pct<=10` (src/stats/usable-range.ts); absent = its default. */
   readonly usableRange?: string;
+  /** The breaking point's rule, `region/metric:amount` (src/stats/breaking.ts); absent = its default. */
+  readonly breakingPoint?: string;
 }
 
 /** Default bad-pixel thresholds in px (over0.25px ... over3px). */

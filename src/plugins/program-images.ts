@@ -114,5 +114,5 @@ export function needsWrittenInputs(
   mode: 'gray' | 'color',
   f: ProgramFrame,
 ): boolean {
-  return mode === 'gray' || !input.source || f.progW !== f.width || f.progH !== f.height;
+  return mode === 'gray' || !input.source || input.source.condition !== undefined || f.progW !== f.width || f.progH !== f.height;
 }

@@ -8,6 +8,8 @@ import { thresholdName } from '../metrics/types.js';
 import { keyThreshold } from '../metrics/catalogue.js';
 import { byNatural } from '../core/order.js';
 import { ALL_BANDS } from '../core/regions.js';
+import { CLEAN, compareConditions, conditionKind, configLabel, CONDITION_KINDS } from '../conditions/spec.js';
+import { breakingCell, breakingRuleText, type BreakingPoint } from '../stats/breaking.js';
 import { DEFAULT_USABLE_RULE, usableCell, usableRuleText } from '../stats/usable-range.js';
 
 function fmt(v: number | null | undefined, digits: number): string {
@@ -33,7 +35,7 @@ export function consoleTable(rows: readonly SummaryRow[], thresholds: readonly n
   const cells = new Map<string, { known?: SummaryRow; visible?: SummaryRow }>();
   for (const r of rows) {
     if (r.tag !== null || r.band !== ALL_BANDS || (r.region !== 'known' && r.region !== 'visible')) continue;
-    const key = `${r.matcher}\u0000${r.dataset}`;
+    const key = `${configLabel(r)}\u0000${r.dataset}`;
     const c = cells.get(key) ?? {};
     c[r.region] = r;
     cells.set(key, c);
@@ -45,10 +47,13 @@ export function consoleTable(rows: readonly SummaryRow[], thresholds: readonly n
     const b = m(y.known, rate);
     const any = (c: typeof x): SummaryRow => (c.known ?? c.visible)!;
     const byRate = a === null || b === null ? (a === null ? 1 : 0) - (b === null ? 1 : 0) : a - b;
-    return byNatural(any(x).dataset, any(y).dataset) || byRate || byNatural(any(x).matcher, any(y).matcher);
+    const byCondition = compareConditions(any(x).condition, any(y).condition);
+    return byNatural(any(x).dataset, any(y).dataset) || byCondition || byRate || byNatural(any(x).matcher, any(y).matcher);
   });
   const usable = ranked.some((c) => c.known?.usable);
   if (usable) header.push('known usable m');
+  const conditions = ranked.some((c) => (c.known ?? c.visible)!.condition !== CLEAN);
+  if (conditions) header.splice(1, 0, 'condition');
   for (const { known, visible } of ranked) {
     const any = (known ?? visible)!;
     const row = [
@@ -65,11 +70,32 @@ export function consoleTable(rows: readonly SummaryRow[], thresholds: readonly n
       fmt(m(known, 'time_ms'), 1),
     ];
     if (usable) row.push(known?.usable ? usableCell(known.usable) : '-');
+    if (conditions) row.splice(1, 0, any.condition);
     out.push(row);
   }
   const rule = ranked.find((c) => c.known?.usable)?.known?.usable?.rule ?? DEFAULT_USABLE_RULE;
   const usableNote = usable
     ? `known usable m: the distance up to which ${usableRuleText(rule)} holds on known pixels, [95% interval over pairs]; >: holds to the farthest truth; <: fails at the nearest\n`
     : '';
-  return alignColumns(header, out, header.map((_, i) => i >= 2)) + `sorted by known ${rate}, lowest first (pixels without an answer count as errors)\n` + usableNote;
+  return alignColumns(header, out, header.map((_, i) => i >= (conditions ? 3 : 2))) + `sorted by ${conditions ? 'condition, then ' : ''}known ${rate}, lowest first (pixels without an answer count as errors)\n` + usableNote;
+}
+
+/** Breaking points as printed after the run's table: one line per configuration and dataset, one column per condition kind. */
+export function breakingTable(points: readonly BreakingPoint[]): string {
+  if (!points.length) return '';
+  const kinds = CONDITION_KINDS.map((k) => k.id).filter((id) => points.some((p) => p.kind === id));
+  const rows = new Map<string, string[]>();
+  for (const p of points) {
+    const key = `${p.matcher}\u0000${p.dataset}`;
+    const row = rows.get(key) ?? [p.matcher, p.dataset, ...kinds.map(() => '-')];
+    const bound = (v: number | null): string => (v === null ? 'beyond' : String(v));
+    row[2 + kinds.indexOf(p.kind)] = `${breakingCell(p)}${p.lo !== null || p.hi !== null ? ` [${bound(p.lo)}, ${bound(p.hi)}]` : ''}`;
+    rows.set(key, row);
+  }
+  const header = ['matcher', 'dataset', ...kinds.map((k) => `${k} (${conditionKind(k)!.unit})`)];
+  const rule = points[0].rule;
+  return (
+    `\nbreaking points: the weakest strength at which ${breakingRuleText(rule).replace(/:[^:]*$/, '')} worsens by more than ${rule.amount} over clean [95% interval over pairs]; beyond: no level tried breaks\n` +
+    alignColumns(header, [...rows.values()], header.map((_, i) => i >= 2))
+  );
 }

@@ -1,7 +1,7 @@
 /**
- * summary.csv: one row per configuration, dataset, region, depth band (and tag, when split).
+ * summary.csv: one row per configuration, condition, dataset, region, depth band (and tag, when split).
  * Columns (our own layout):
- *   matcher, dataset, region, band, tag, n_pairs, n_failed, ci_unit, ci_units,
+ *   matcher, condition, dataset, region, band, tag, n_pairs, n_failed, ci_unit, ci_units,
  *   then per metric X of the catalogue (src/metrics/catalogue.ts): mean_X, mean_X_lo,
  *   mean_X_hi, n_X, and, for metrics that pool: pooled_X, pooled_X_lo, pooled_X_hi.
  *   Last: usable_m, usable_m_lo, usable_m_hi, usable_holds: the usable range of whole
@@ -14,7 +14,7 @@ import type { SummaryRow } from '../stats/aggregate.js';
 import { metricsOf, type MetricSet } from '../metrics/catalogue.js';
 
 export function summaryCsvHeader(set: MetricSet): string[] {
-  const h = ['matcher', 'dataset', 'region', 'band', 'tag', 'n_pairs', 'n_failed', 'ci_unit', 'ci_units'];
+  const h = ['matcher', 'condition', 'dataset', 'region', 'band', 'tag', 'n_pairs', 'n_failed', 'ci_unit', 'ci_units'];
   for (const m of metricsOf(set)) {
     h.push(`mean_${m.id}`, `mean_${m.id}_lo`, `mean_${m.id}_hi`, `n_${m.id}`);
     if (m.pool) h.push(`pooled_${m.id}`, `pooled_${m.id}_lo`, `pooled_${m.id}_hi`);
@@ -26,7 +26,7 @@ export function summaryCsvHeader(set: MetricSet): string[] {
 export function summaryCsvText(rows: SummaryRow[], set: MetricSet): string {
   const metrics = metricsOf(set);
   const body: CsvCell[][] = rows.map((r) => {
-    const cells: CsvCell[] = [r.matcher, r.dataset, r.region, r.band, r.tag, r.n_pairs, r.n_failed, r.unit, r.n_units];
+    const cells: CsvCell[] = [r.matcher, r.condition, r.dataset, r.region, r.band, r.tag, r.n_pairs, r.n_failed, r.unit, r.n_units];
     for (const m of metrics) {
       const s = r.metrics[m.id];
       cells.push(s?.mean ?? null, s?.meanCi?.lo ?? null, s?.meanCi?.hi ?? null, s?.n ?? 0);

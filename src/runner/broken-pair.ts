@@ -13,6 +13,7 @@
  *   empty figures, so the pair drops out of the means (n_pairs says so) and adds
  *   nothing to the pooled figures.
  */
+import { CLEAN } from '../conditions/spec.js';
 import type { FloatImage } from '../core/image.js';
 import { toLuminance } from '../core/image.js';
 import { pairFields, type PairEntry } from '../core/pair.js';
@@ -105,10 +106,12 @@ export async function brokenPairScores(m: Manifest, entry: PairEntry, plan: { re
 }
 
 /** The failed result of one configuration on a broken pair. */
-export function brokenPairResult(cfg: RunConfig, dataset: string, entry: PairEntry, error: string, scored: { scores: PairScore } & SliceLayout, set: MetricSet): JobResult {
+export function brokenPairResult(cfg: RunConfig, job: { dataset: string; condition?: string }, entry: PairEntry, error: string, scored: { scores: PairScore } & SliceLayout, set: MetricSet): JobResult {
+  const { dataset, condition = CLEAN } = job;
   return {
     matcher: cfg.label,
     matcherId: cfg.matcherId,
+    ...(condition !== CLEAN ? { condition } : {}),
     params: cfg.params,
     dataset,
     pair: entry.id,

@@ -5,7 +5,8 @@
  *
  * Key: sha256 over a canonical JSON of
  *   { format: CACHE_FORMAT, left: sha256(left file), right: sha256(right file),
- *     matcherId, codeHash, params (keys sorted), range: [min, max] }
+ *     matcherId, codeHash, params (keys sorted), range: [min, max],
+ *     and under a camera fault condition, conditionSeed }
  * Entry file `<dir>/<key[0:2]>/<key>.pxd`:
  *   bytes 0-3 "PXD1", 4-7 header length L (uint32 LE), then L bytes of JSON header
  *   { width, height, time_ms, peak_mb, matcherId, created, confidence }, zero padding to
@@ -41,6 +42,9 @@ export interface CacheKeyParts {
   params: Readonly<Record<string, ParamValue>>;
   minDisparity: number;
   maxDisparity: number;
+  /** A camera-fault condition and its noise seed (src/conditions); absent for clean, whose keys stay as they were. */
+  condition?: string;
+  conditionSeed?: number;
 }
 
 export interface CacheEntry {
@@ -83,6 +87,7 @@ export function cacheKey(p: CacheKeyParts): string {
     codeHash: p.codeHash,
     params,
     range: [p.minDisparity, p.maxDisparity],
+    ...(p.condition !== undefined ? { condition: p.condition, conditionSeed: p.conditionSeed ?? null } : {}),
   });
   return createHash('sha256').update(canonical).digest('hex');
 }

@@ -76,7 +76,7 @@ export function matchInput(pair: LoadedPair, threads = 1): MatchInput {
     rightColor: pair.right,
     minDisparity: pair.disparityRange[0],
     maxDisparity: pair.disparityRange[1],
-    source: { pairId: pair.id, left: pair.files.left, right: pair.files.right },
+    source: { pairId: pair.id, left: pair.files.left, right: pair.files.right, ...(pair.condition !== undefined ? { condition: pair.condition } : {}) },
     threads,
   };
 }
@@ -177,6 +177,7 @@ export function scoredOutcome(
   const result: JobResult = {
     matcher: cfg.label,
     matcherId: cfg.matcherId,
+    ...(pair.condition !== undefined ? { condition: pair.condition } : {}),
     params: cfg.params,
     dataset: pair.dataset,
     pair: pair.id,

@@ -11,6 +11,7 @@
  */
 import { parseDepthBands } from '../core/depth-bands.js';
 import { parseUsableRule, usableRuleText } from '../stats/usable-range.js';
+import { conditionList } from '../conditions/spec.js';
 import { readFileSync } from 'node:fs';
 import { dirname, resolve } from 'node:path';
 import { z } from 'zod';
@@ -60,6 +61,12 @@ export const experimentFileSchema = z.strictObject({
   usableRange: z.string().min(1).optional(),
   /** The folder every dataset's paths are relative to (relative to this file). */
   dataRoot: z.string().min(1).optional(),
+  /** Camera-fault conditions, `kind=strength` or `kind=[a,b,c]` (src/conditions/spec.ts). */
+  conditions: z.array(z.string().min(1)).optional(),
+  /** Seed of the conditions' noise fields. */
+  conditionSeed: z.number().int().min(0).max(4294967295).optional(),
+  /** Rule of the breaking point, `region/metric:worsening` (src/stats/breaking.ts). */
+  breakingPoint: z.string().min(1).optional(),
   out: z.string().min(1).optional(),
 });
 
@@ -159,6 +166,7 @@ export function loadExperimentFile(path: string): RunSettings {
     regions = regionParams(f.regions);
     if (f.depthBands) depthBands = parseDepthBands(f.depthBands.join(','), 'depthBands');
     if (f.usableRange !== undefined) usableRange = usableRuleText(parseUsableRule(f.usableRange, 'usableRange'));
+    if (f.conditions) conditionList(f.conditions, 'conditions');
   } catch (e) {
     throw new InputError(path, `field ${(e as Error).message}`);
   }
@@ -180,6 +188,9 @@ export function loadExperimentFile(path: string): RunSettings {
     ...(depthBands ? { depthBands } : {}),
     ...(usableRange !== undefined ? { usableRange } : {}),
     ...(f.dataRoot !== undefined ? { dataRoot: resolve(base, f.dataRoot) } : {}),
+    ...(f.conditions?.length ? { conditions: f.conditions } : {}),
+    ...(f.conditionSeed !== undefined ? { conditionSeed: f.conditionSeed } : {}),
+    ...(f.breakingPoint !== undefined ? { breakingPoint: f.breakingPoint } : {}),
     ...(f.out !== undefined ? { out: resolve(base, f.out) } : {}),
     ...(f.name !== undefined ? { name: f.name } : {}),
     baseDir: base,

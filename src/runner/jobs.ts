@@ -5,31 +5,35 @@
  * filter or partition this list.
  */
 import { byCodeUnits } from '../core/order.js';
+import { CLEAN, compareConditions } from '../conditions/spec.js';
 
 export interface JobKey {
   readonly dataset: string;
   readonly pair: string;
   /** Configuration label (matcher column). */
   readonly label: string;
+  /** Camera-fault condition (condition column): `clean` or `kind=strength` (src/conditions/spec.ts). */
+  readonly condition: string;
 }
 
 
 export function compareJobKeys(a: JobKey, b: JobKey): number {
-  return byCodeUnits(a.dataset, b.dataset) || byCodeUnits(a.pair, b.pair) || byCodeUnits(a.label, b.label);
+  return byCodeUnits(a.dataset, b.dataset) || byCodeUnits(a.pair, b.pair) || compareConditions(a.condition, b.condition) || byCodeUnits(a.label, b.label);
 }
 
-/** `dataset/pair/label`: unique per job (dataset names and pair ids contain no "/"). */
-export function jobKeyString(k: JobKey): string {
-  return `${k.dataset}/${k.pair}/${k.label}`;
+/** `dataset/pair/label`, with `/condition` under a fault: unique per job (dataset names, pair ids and conditions contain no "/"). */
+export function jobKeyString(k: { readonly dataset: string; readonly pair: string; readonly label: string; readonly condition?: string }): string {
+  const c = k.condition ?? CLEAN;
+  return c === CLEAN ? `${k.dataset}/${k.pair}/${k.label}` : `${k.dataset}/${k.pair}/${k.label}/${c}`;
 }
 
 /**
- * Every job of a run, sorted by dataset, pair id, then label.
- * `datasets` maps each dataset name to its pair ids.
+ * Every job of a run, sorted by dataset, pair id, condition, then label.
+ * `datasets` maps each dataset name to its pair ids; `conditions` default to clean only.
  */
-export function enumerateJobs(datasets: readonly { name: string; pairIds: readonly string[] }[], labels: readonly string[]): JobKey[] {
+export function enumerateJobs(datasets: readonly { name: string; pairIds: readonly string[] }[], labels: readonly string[], conditions: readonly string[] = [CLEAN]): JobKey[] {
   const keys: JobKey[] = [];
-  for (const d of datasets) for (const p of d.pairIds) for (const l of labels) keys.push({ dataset: d.name, pair: p, label: l });
+  for (const d of datasets) for (const p of d.pairIds) for (const c of conditions) for (const l of labels) keys.push({ dataset: d.name, pair: p, label: l, condition: c });
   return keys.sort(compareJobKeys);
 }
 

@@ -13,6 +13,7 @@
  * can finish it), the previews of every run, pairs.csv, summary.csv and index.html,
  * written from the journal exactly as a single run writes them.
  */
+import { conditionOf } from '../conditions/spec.js';
 import { cpSync, existsSync, mkdirSync } from 'node:fs';
 import { join, resolve } from 'node:path';
 import { InputError, UsageError } from '../core/errors.js';
@@ -38,7 +39,7 @@ export interface MergeOutcome {
 }
 
 function keyOf(r: JobResult): JobKey {
-  return { dataset: r.dataset, pair: r.pair, label: r.matcher };
+  return { dataset: r.dataset, pair: r.pair, label: r.matcher, condition: conditionOf(r) };
 }
 
 /** The parts of a result that must agree between two copies of one job. */

@@ -3,6 +3,9 @@
  * resolved, labels checked, the run folder chosen. No matching happens here.
  */
 import { resolve } from 'node:path';
+import { conditionList } from '../conditions/spec.js';
+import { DEFAULT_CONDITION_SEED } from '../conditions/apply.js';
+import { parseBreakingRule } from '../stats/breaking.js';
 import { InputError, UsageError } from '../core/errors.js';
 import type { ParamValue } from '../core/params.js';
 import type { RegionParams } from '../core/regions.js';
@@ -64,6 +67,12 @@ export interface RunPlan {
   readonly depthBands: readonly number[];
   /** The usable range's rule as given (`--usable-range`); absent = the default. */
   readonly usableRange?: string;
+  /** Conditions of the run, `clean` first (src/conditions/spec.ts conditionList). */
+  readonly conditions: readonly string[];
+  /** Seed of the conditions' noise fields. */
+  readonly conditionSeed: number;
+  /** The breaking point's rule as given (`--breaking-point`); absent = the default. */
+  readonly breakingPoint?: string;
   /** Every job, sorted (see jobs.ts). */
   readonly jobs: readonly JobKey[];
   /** The settings the plan was made from (kept in run.json for --resume). */
@@ -145,8 +154,10 @@ export async function planRun(settings: RunSettings, cwd = process.cwd()): Promi
   }
   const name = safeRunName(settings.name ?? [datasets[0].manifest.name, ...configs.map((c) => c.label)].join('-'));
   const runDir = settings.out ?? resolve(cwd, 'reports', name);
-  const jobs = enumerateJobs(pairLists, configs.map((c) => c.label));
+  const conditions = conditionList(settings.conditions ?? [], settings.experimentFile !== undefined ? 'conditions' : '--condition');
+  const jobs = enumerateJobs(pairLists, configs.map((c) => c.label), conditions);
+  if (settings.breakingPoint !== undefined) parseBreakingRule(settings.breakingPoint, settings, settings.experimentFile !== undefined ? 'breakingPoint' : '--breaking-point');
   const depthBands = settings.depthBands ?? (await defaultDepthBandsOf(datasets.map((d) => d.manifest)));
-  return { name, runDir, datasets, configs, thresholds: settings.thresholds, quantiles: settings.quantiles, regions: settings.regions, depthBands, ...(settings.usableRange !== undefined ? { usableRange: settings.usableRange } : {}), jobs, settings, warnings };
+  return { name, runDir, datasets, configs, thresholds: settings.thresholds, quantiles: settings.quantiles, regions: settings.regions, depthBands, ...(settings.usableRange !== undefined ? { usableRange: settings.usableRange } : {}), conditions, conditionSeed: settings.conditionSeed ?? DEFAULT_CONDITION_SEED, ...(settings.breakingPoint !== undefined ? { breakingPoint: settings.breakingPoint } : {}), jobs, settings, warnings };
 }
 

@@ -67,6 +67,8 @@ export function runRecord(plan: RunPlan, started: Date): RunRecord {
       datasets: plan.datasets.map((d) => ({ name: d.manifest.name, path: d.path, manifest: d.manifest.file, hash: d.hash, pairs: d.manifest.pairs.length, ...(d.manifest.dir !== dirname(d.manifest.file) ? { dataRoot: d.manifest.dir } : {}) })),
       ...(plan.depthBands.length ? { depthBands: [...plan.depthBands] } : {}),
       ...(plan.usableRange !== undefined ? { usableRange: plan.usableRange } : {}),
+      ...(plan.conditions.length > 1 ? { conditions: [...plan.conditions], conditionSeed: plan.conditionSeed } : {}),
+      ...(plan.breakingPoint !== undefined ? { breakingPoint: plan.breakingPoint } : {}),
     },
     jobs: { total: plan.jobs.length, ok: 0, failed: 0 },
     environment: {

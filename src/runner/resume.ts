@@ -32,6 +32,9 @@ export function configFingerprint(config: RunConfigRecord): string {
     regions: Object.fromEntries(Object.entries(config.regions).sort(([a], [b]) => byCodeUnits(a, b))),
     depthBands: config.depthBands ?? [],
     usableRange: config.usableRange ?? null,
+    conditions: config.conditions ?? ['clean'],
+    breakingPoint: config.breakingPoint ?? null,
+    conditionSeed: config.conditions && config.conditions.length > 1 ? (config.conditionSeed ?? 1) : null,
     matchers: [...config.matchers]
       .map((m) => ({ label: m.label, matcherId: m.matcherId, kind: m.kind, params: m.params, codeHash: m.codeHash ?? null, predictions: m.predictions ?? null }))
       .sort((a, b) => byCodeUnits(a.label, b.label)),
@@ -49,6 +52,8 @@ export function configDifference(a: RunConfigRecord, b: RunConfigRecord): string
   if (JSON.stringify(fa.regions) !== JSON.stringify(fb.regions)) return 'region parameters differ';
   if ((a.usableRange ?? null) !== (b.usableRange ?? null)) return `usable-range rules differ (${a.usableRange ?? 'default'} vs ${b.usableRange ?? 'default'})`;
   if (JSON.stringify(a.depthBands ?? []) !== JSON.stringify(b.depthBands ?? [])) return `depth bands differ (${(a.depthBands ?? []).join(',') || 'none'} vs ${(b.depthBands ?? []).join(',') || 'none'})`;
+  if (JSON.stringify(a.conditions ?? ['clean']) !== JSON.stringify(b.conditions ?? ['clean'])) return `conditions differ (${(a.conditions ?? ['clean']).join(',')} vs ${(b.conditions ?? ['clean']).join(',')})`;
+  if ((a.conditionSeed ?? 1) !== (b.conditionSeed ?? 1)) return `condition seeds differ (${a.conditionSeed ?? 1} vs ${b.conditionSeed ?? 1})`;
   const ds = (x: typeof fa): string => JSON.stringify(x.datasets);
   if (ds(fa) !== ds(fb)) {
     const names = new Set([...fa.datasets, ...fb.datasets].map((d) => d.name));

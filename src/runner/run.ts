@@ -5,6 +5,7 @@
  * the main thread or on a worker pool; plan.scale adds resume, shards and the cache.) run.json is written at the start
  * and rewritten at the end; the tables are written from the journal at the end.
  */
+import { changesSize, conditionOf, configLabel } from '../conditions/spec.js';
 import { mkdirSync } from 'node:fs';
 import { join } from 'node:path';
 import { AbortedError, InputError } from '../core/errors.js';
@@ -47,7 +48,7 @@ export interface RunOutcome {
 
 export { pairRegions } from '../dataset/regions.js';
 
-const resultKey = (r: JobResult): string => jobKeyString({ dataset: r.dataset, pair: r.pair, label: r.matcher });
+const resultKey = (r: JobResult): string => jobKeyString({ dataset: r.dataset, pair: r.pair, label: r.matcher, condition: conditionOf(r) });
 
 /** Shard units of framed pairs: their dataset and group (a sequence stays in one shard). */
 function sequenceUnits(plan: RunPlan): (dataset: string, pair: string) => string | undefined {
@@ -144,8 +145,9 @@ export async function executeRun(plan: RunPlan, hooks: RunHooks = {}): Promise<R
         if (result.status === 'ok') info.jobs.ok++;
         else info.jobs.failed++;
         done++;
-        if (disparity) {
-          await writePreview(plan.runDir, cfg.label, pair.dataset, pair.id, { width: pair.width, height: pair.height, data: disparity });
+        // A lower resolution's map does not fit the pair's thumbnails: the report shows it in the tables only.
+        if (disparity && !changesSize(conditionOf(result))) {
+          await writePreview(plan.runDir, configLabel(result), pair.dataset, pair.id, { width: pair.width, height: pair.height, data: disparity });
         }
         hooks.onJob?.(result, done, total);
       },

@@ -22,6 +22,8 @@ import type { RegionMap } from '../core/regions.js';
 import type { JobResult } from '../core/score.js';
 import { loadPair } from '../dataset/load.js';
 import { pairRegions } from '../dataset/regions.js';
+import { applyCondition } from '../conditions/apply.js';
+import { CLEAN, configLabel } from '../conditions/spec.js';
 import type { Manifest } from '../dataset/manifest.js';
 import { pairPreviewPaths, writePairPreview } from '../report/preview.js';
 import { brokenPairResult, brokenPairScores } from './broken-pair.js';
@@ -153,7 +155,7 @@ class Scheduler {
           rightColor: shared.rightColor,
           minDisparity: pair.disparityRange[0],
           maxDisparity: pair.disparityRange[1],
-          files: { pairId: pair.id, left: pair.files.left, right: pair.files.right },
+          files: { pairId: pair.id, left: pair.files.left, right: pair.files.right, ...(pair.condition !== undefined ? { condition: pair.condition } : {}) },
           threads: this.threads,
         },
         task.signal,
@@ -191,7 +193,7 @@ class Scheduler {
       for (const key of group) {
         this.checkAbort();
         const cfg = this.configs.get(key.label)!;
-        await this.ctx.onResult(brokenPairResult(cfg, manifest.name, entry, message, scores, this.plan), null, cfg, { dataset: manifest.name, id: entry.id, width: 0, height: 0 });
+        await this.ctx.onResult(brokenPairResult(cfg, { dataset: manifest.name, condition: key.condition }, entry, message, scores, this.plan), null, cfg, { dataset: manifest.name, id: entry.id, width: 0, height: 0 });
       }
       return null;
     }
@@ -210,18 +212,36 @@ class Scheduler {
     return regions;
   }
 
+  /**
+   * The pair as a condition shows it, made once per pair and condition: the images
+   * changed, the clean regions kept (a lower resolution builds its own).
+   */
+  private conditionWork(clean: PairWork, works: Map<string, PairWork>, condition: string): PairWork {
+    let w = works.get(condition);
+    if (!w) {
+      const pair = applyCondition(clean.pair, condition, this.plan.conditionSeed);
+      const regions = pair.width === clean.pair.width && pair.height === clean.pair.height ? clean.regions : pairRegions(pair, this.plan);
+      if (this.cache) clean.hashes ??= hashesOf(clean.pair);
+      w = { pair, regions, ...(clean.hashes ? { hashes: clean.hashes } : {}) };
+      works.set(condition, w);
+    }
+    return w;
+  }
+
   async runGroup(group: JobKey[]): Promise<void> {
     const pair = await this.loadOrRecordBroken(group);
     if (!pair) return;
     this.checkAbort();
     const p: PairWork = { pair, regions: await this.regionsOf(pair) };
+    const works = new Map<string, PairWork>([[CLEAN, p]]);
+    const workOf = (key: JobKey): PairWork => this.conditionWork(p, works, key.condition);
     if (!this.pool) {
-      for (const key of group) await this.runOne(key, p);
+      for (const key of group) await this.runOne(key, workOf(key));
       return;
     }
-    const settled = await Promise.allSettled(group.map((key) => this.runOne(key, p)));
+    const settled = await Promise.allSettled(group.map((key) => this.runOne(key, workOf(key))));
     // Every task of this pair has settled: its shared buffers may take the next pair.
-    if (p.shared) this.freeSlots.push(p.shared);
+    for (const w of works.values()) if (w.shared) this.freeSlots.push(w.shared);
     const bad = settled.find((s) => s.status === 'rejected') as PromiseRejectedResult | undefined;
     if (bad) throw bad.reason;
   }
@@ -230,9 +250,10 @@ class Scheduler {
   private async fromCache(cfg: RunConfig, p: PairWork): Promise<{ key?: string; outcome?: JobOutcome }> {
     if (!this.cache || cfg.kind !== 'matcher') return {};
     const { pair } = p;
-    p.hashes ??= Promise.all([fileSha256(pair.files.left), fileSha256(pair.files.right)]);
+    p.hashes ??= hashesOf(pair);
     const [leftHash, rightHash] = await p.hashes;
-    const key = cacheKey({ leftHash, rightHash, matcherId: cfg.matcherId, codeHash: cfg.codeHash, params: cfg.params, minDisparity: pair.disparityRange[0], maxDisparity: pair.disparityRange[1] });
+    const condition = pair.condition !== undefined ? { condition: pair.condition, conditionSeed: this.plan.conditionSeed } : {};
+    const key = cacheKey({ leftHash, rightHash, matcherId: cfg.matcherId, codeHash: cfg.codeHash, params: cfg.params, minDisparity: pair.disparityRange[0], maxDisparity: pair.disparityRange[1], ...condition });
     const hit = this.cache.get(key, pair.width, pair.height);
     if (!hit) return { key };
     this.stats.cached++;
@@ -264,7 +285,7 @@ class Scheduler {
   private async runOne(jobKey: JobKey, p: PairWork): Promise<void> {
     this.checkAbort();
     const cfg = this.configs.get(jobKey.label)!;
-    const frame = this.sequences.begin(cfg.label, p.pair);
+    const frame = this.sequences.begin(configLabel({ matcher: cfg.label, ...(p.pair.condition !== undefined ? { condition: p.pair.condition } : {}) }), p.pair);
     try {
       const cached = await this.fromCache(cfg, p);
       let outcome = cached.outcome;
@@ -285,6 +306,11 @@ class Scheduler {
   order(groups: JobKey[][]): JobKey[][] {
     return sequenceOrder(groups, framePlaces(this.manifests.values()));
   }
+}
+
+/** sha256 of the pair's two image files (the cache key's inputs; a condition is keyed on top of them). */
+function hashesOf(pair: LoadedPair): Promise<[string, string]> {
+  return Promise.all([fileSha256(pair.files.left), fileSha256(pair.files.right)]);
 }
 
 /** A loaded pair while its configurations run: regions, and what its jobs share once made. */

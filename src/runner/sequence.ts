@@ -6,6 +6,7 @@
  * predecessor is not in this run (the first frame, a frame missing from the dataset, a
  * frame run by another shard or an earlier part of a resumed run) gets no flicker.
  */
+import { configLabel } from '../conditions/spec.js';
 import type { LoadedPair } from '../core/pair.js';
 import type { RegionMap } from '../core/regions.js';
 import type { JobResult } from '../core/score.js';
@@ -38,7 +39,7 @@ export class SequenceTracker {
     if (!own || pair.frame === undefined || pair.group === undefined) return;
     const maps: FrameMaps | null = disparity ? { pred: disparity, truth: pair.truth.data, regions } : null;
     own.settle(maps);
-    const prevKey = frameKey(result.matcher, pair.dataset, pair.group, pair.frame - 1);
+    const prevKey = frameKey(configLabel(result), pair.dataset, pair.group, pair.frame - 1);
     const prev = this.frames.get(prevKey);
     if (!prev) return;
     this.frames.delete(prevKey); // each frame has one successor

@@ -41,7 +41,7 @@ export interface MatchTask {
   rightColor: SharedRaster;
   minDisparity: number;
   maxDisparity: number;
-  files: { pairId: string; left: string; right: string };
+  files: { pairId: string; left: string; right: string; condition?: string };
   threads: number;
 }
 

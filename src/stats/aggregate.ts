@@ -20,6 +20,7 @@
  * - Whole regions whose pairs carry depth profiles also get their usable range
  *   (usable-range.ts), by the metric set's rule.
  */
+import { compareConditions, conditionOf, configLabel } from '../conditions/spec.js';
 import type { JobResult } from '../core/score.js';
 import { ALL_BANDS, sliceKey, slicesOf, type Slice } from '../core/regions.js';
 import { InputError } from '../core/errors.js';
@@ -49,6 +50,8 @@ export interface MetricSummary {
 
 export interface SummaryRow {
   matcher: string;
+  /** Camera-fault condition (`clean`, `noise=4`; src/conditions/spec.ts). */
+  condition: string;
   matcherId: string;
   dataset: string;
   region: string;
@@ -82,7 +85,7 @@ export const cmp = byCodeUnits;
 
 /** Sort jobs by (configuration label in natural order, dataset, pair); pure. */
 export function sortJobs(results: readonly JobResult[]): JobResult[] {
-  return [...results].sort((x, y) => byNatural(x.matcher, y.matcher) || cmp(x.dataset, y.dataset) || cmp(x.pair, y.pair));
+  return [...results].sort((x, y) => byNatural(x.matcher, y.matcher) || compareConditions(conditionOf(x), conditionOf(y)) || cmp(x.dataset, y.dataset) || cmp(x.pair, y.pair));
 }
 
 /** Where the set's levels sit in the job's own figures; an InputError when the job lacks one. */
@@ -201,6 +204,7 @@ function summarizeCell(
   const usable = slice.band === ALL_BANDS ? usableRangeOf(jobs, slice.key, opts.usableRange !== undefined ? parseUsableRule(opts.usableRange, 'usableRange') : DEFAULT_USABLE_RULE, { byGroup, ci: opts.ci ?? {} }) : null;
   return {
     matcher: jobs[0].matcher,
+    condition: conditionOf(jobs[0]),
     matcherId: jobs[0].matcherId,
     dataset: jobs[0].dataset,
     region: slice.region,
@@ -222,7 +226,7 @@ function summarizeCell(
  */
 export function latestJobs(results: readonly JobResult[]): JobResult[] {
   const byKey = new Map<string, JobResult>();
-  for (const r of results) byKey.set(`${r.matcher}\u0000${r.dataset}\u0000${r.pair}`, r);
+  for (const r of results) byKey.set(`${configLabel(r)}\u0000${r.dataset}\u0000${r.pair}`, r);
   return [...byKey.values()];
 }
 
@@ -245,7 +249,7 @@ export function wholeRegion(region: string): Slice {
  */
 export function aggregate(results: JobResult[], opts: AggregateOptions): SummaryRow[] {
   const jobs = sortJobs(latestJobs(results));
-  const cells = groupBy(jobs, (j) => `${j.matcher}\u0000${j.dataset}`);
+  const cells = groupBy(jobs, (j) => `${configLabel(j)}\u0000${j.dataset}`);
   const rows: SummaryRow[] = [];
   for (const list of cells.values()) {
     const slices = jobSlices(list);

@@ -13,6 +13,7 @@
  * A failed job is all-invalid in its sums and figures (coverage 0, rates 100), so both
  * runs are scored on the same pairs.
  */
+import { conditionOf, configLabel } from '../conditions/spec.js';
 import type { JobResult } from '../core/score.js';
 import { type Slice } from '../core/regions.js';
 import { detectability, type Detectability } from './power.js';
@@ -103,6 +104,8 @@ export interface ConfigComparison {
   label: string;
   baseLabel: string;
   candLabel: string;
+  /** The camera-fault condition both sides ran under (`clean`, `noise=4`). */
+  condition: string;
   pairs: number;
   deltas: MetricDelta[];
   /** Pairs that changed most on the headline region/metric, largest |change| first. */
@@ -141,15 +144,16 @@ const key = (j: JobResult): string => `${j.dataset}/${j.pair}`;
 function byLabel(results: JobResult[]): Map<string, Map<string, JobResult>> {
   const out = new Map<string, Map<string, JobResult>>();
   for (const j of sortJobs(latestJobs(results))) {
-    let m = out.get(j.matcher);
-    if (!m) out.set(j.matcher, (m = new Map()));
+    const label = configLabel(j);
+    let m = out.get(label);
+    if (!m) out.set(label, (m = new Map()));
     m.set(key(j), j);
   }
   return out;
 }
 
 /** A job's figure as compared: null when empty; for bias its magnitude. */
-function pairValue(j: JobResult, key: string, metric: Metric, levels: LevelMap): number | null {
+export function comparedValue(j: JobResult, key: string, metric: Metric, levels: LevelMap): number | null {
   const s = j.scores[key];
   if (!s) return null;
   if (!metric.perJob && !(s.sums.pixels > 0)) return null;
@@ -210,8 +214,8 @@ function regionDeltas(p: Paired, slice: Slice, set: MetricSet, opts: CompareOpti
   for (let i = 0; i < p.common.length; i++) {
     const row = p.unitOf[i] * cols;
     for (let m = 0; m < M; m++) {
-      const b = pairValue(p.base[i], region, metrics[m], p.levelsB[i]);
-      const c = pairValue(p.cand[i], region, metrics[m], p.levelsC[i]);
+      const b = comparedValue(p.base[i], region, metrics[m], p.levelsB[i]);
+      const c = comparedValue(p.cand[i], region, metrics[m], p.levelsC[i]);
       if (b === null || c === null) continue;
       data[row + 4 * m] += c - b;
       data[row + 4 * m + 1] += 1;
@@ -276,8 +280,8 @@ function pairChanges(p: Paired, set: MetricSet, opts: CompareOptions): { topChan
   const changes: PairChange[] = [];
   const statusChanges: PairChange[] = [];
   for (let i = 0; i < p.common.length; i++) {
-    const b = pairValue(p.base[i], hl.region, hlMetric, p.levelsB[i]);
-    const c = pairValue(p.cand[i], hl.region, hlMetric, p.levelsC[i]);
+    const b = comparedValue(p.base[i], hl.region, hlMetric, p.levelsB[i]);
+    const c = comparedValue(p.cand[i], hl.region, hlMetric, p.levelsC[i]);
     const pc: PairChange = {
       dataset: p.base[i].dataset,
       pair: p.base[i].pair,
@@ -309,7 +313,8 @@ function compareConfig(
   const deltas = jobSlices([...p.base, ...p.cand]).flatMap((slice) => regionDeltas(p, slice, set, opts));
   const [baseLabel, candLabel] = labels;
   const label = baseLabel === candLabel ? candLabel : `${baseLabel} → ${candLabel}`;
-  return { label, baseLabel, candLabel, pairs: p.common.length, deltas, ...pairChanges(p, set, opts) };
+  const condition = conditionOf(p.cand[0] ?? p.base[0] ?? cand.values().next().value ?? {});
+  return { label, baseLabel, candLabel, condition, pairs: p.common.length, deltas, ...pairChanges(p, set, opts) };
 }
 
 /** Configuration pairs to compare: the explicit pairings, then the labels both runs share, in natural order. */
@@ -340,7 +345,10 @@ export function compareRuns(base: RunData, cand: RunData, opts: CompareOptions =
   const thresholds = [...set.thresholds];
   const lb = byLabel(base.results);
   const lc = byLabel(cand.results);
-  const matched = matchConfigs([...lb.keys()], [...lc.keys()], opts.pairings);
+  // An explicit pairing joins the two labels under every condition.
+  const conditions = [...new Set([...base.results, ...cand.results].map(conditionOf))];
+  const pairings = (opts.pairings ?? []).flatMap(([b, c]) => conditions.map((k): [string, string] => [configLabel({ matcher: b, condition: k }), configLabel({ matcher: c, condition: k })]));
+  const matched = matchConfigs([...lb.keys()], [...lc.keys()], pairings);
   const usedB = new Set(matched.map(([b]) => b));
   const usedC = new Set(matched.map(([, c]) => c));
   const configsOnlyInBase = [...lb.keys()].filter((l) => !usedB.has(l)).sort(byNatural);

@@ -1,8 +1,11 @@
 /**
  * CI gates on a comparison: `region/metric:allowance`, the allowed worsening in the
  * metric's unit (percentage points for % metrics), judged per compared configuration.
- * A gate may name a depth band of the region: `known@2-4m/depth_over5pct:1`.
+ * A gate may name a depth band of the region: `known@2-4m/depth_over5pct:1`, and a
+ * camera-fault condition after `~`: `visible~noise=4/over2px:1` judges only the
+ * configurations under that condition (without one, every condition is judged).
  */
+import { CLEAN, parseConditionName } from '../conditions/spec.js';
 import { ALL_BANDS, REGION_IDS } from '../core/regions.js';
 import { MASK_NAME_PATTERN } from '../dataset/manifest.js';
 import { UsageError } from '../core/errors.js';
@@ -14,6 +17,8 @@ export interface Gate {
   region: string;
   /** `all` (the whole region) or a depth band's label. */
   band: string;
+  /** Only configurations under this condition (`noise=4`, `clean`); absent = every condition. */
+  condition?: string;
   metric: string;
   /** Allowed worsening in the metric's unit (percentage points for % metrics). */
   allowance: number;
@@ -26,13 +31,18 @@ export function parseGate(text: string, set: MetricSet, option = '--gate'): Gate
   const m = /^([^/\s]+)\/([^:\s]+):([^\s]+)$/.exec(text.trim());
   if (!m) throw new UsageError(option, `"${text}" is not region/metric:allowance (e.g. visible/over2px:0.5)`);
   const [, slice, metric, allow] = m as unknown as [string, string, string, string];
-  const { region, band } = parseSlice(slice, text, option);
+  const tilde = slice.indexOf('~');
+  const condition = tilde < 0 ? undefined : slice.slice(tilde + 1);
+  if (condition !== undefined && condition !== CLEAN && !parseConditionName(condition)) {
+    throw new UsageError(option, `"${condition}" in "${text}" is not a condition (clean, or kind=strength such as noise=4)`);
+  }
+  const { region, band } = parseSlice(tilde < 0 ? slice : slice.slice(0, tilde), text, option);
   if (!findMetric(set, metric)) {
     throw new UsageError(option, `unknown metric "${metric}" in "${text}" (metrics: ${metricsOf(set).map((x) => x.id).join(', ')})`);
   }
   const allowance = Number(allow);
   if (!Number.isFinite(allowance) || allowance < 0) throw new UsageError(option, `allowance in "${text}" must be a number >= 0`);
-  return { region, band, metric, allowance, source: option };
+  return { region, band, ...(condition !== undefined ? { condition } : {}), metric, allowance, source: option };
 }
 
 /**
@@ -69,9 +79,10 @@ export function parseGateFile(text: string, file: string, set: MetricSet): Gate[
     const where = `--gate-file ${file} [${i}]`;
     if (typeof g === 'string') return parseGate(g, set, where);
     if (g && typeof g === 'object') {
-      const o = g as { region?: unknown; band?: unknown; metric?: unknown; allowance?: unknown };
+      const o = g as { region?: unknown; band?: unknown; condition?: unknown; metric?: unknown; allowance?: unknown };
       const band = o.band === undefined || o.band === ALL_BANDS ? '' : `@${String(o.band)}`;
-      return parseGate(`${String(o.region)}${band}/${String(o.metric)}:${String(o.allowance)}`, set, where);
+      const condition = o.condition === undefined ? '' : `~${String(o.condition)}`;
+      return parseGate(`${String(o.region)}${band}${condition}/${String(o.metric)}:${String(o.allowance)}`, set, where);
     }
     throw new UsageError(where, 'a gate is a string region/metric:allowance or an object { region, metric, allowance }');
   });
@@ -102,8 +113,15 @@ export interface GateOutcome {
 export function evaluateGates(c: Comparison, gates: readonly Gate[], strict: boolean): GateOutcome[] {
   const out: GateOutcome[] = [];
   const alpha = 1 - c.level;
+  for (const g of gates) {
+    if (g.condition !== undefined && !c.configs.some((cfg) => cfg.condition === g.condition)) {
+      const have = [...new Set(c.configs.map((cfg) => cfg.condition))];
+      throw new UsageError(g.source, `condition ${g.condition} is not in the compared runs (they have ${have.join(', ')})`);
+    }
+  }
   for (const cfg of c.configs) {
     for (const g of gates) {
+      if (g.condition !== undefined && g.condition !== cfg.condition) continue;
       const d = cfg.deltas.find((x) => x.region === g.region && x.band === g.band && x.metric === g.metric);
       if (!d) {
         const have = [...new Set(cfg.deltas.map((x) => (x.band === ALL_BANDS ? x.region : `${x.region}@${x.band}`)))];

@@ -243,6 +243,7 @@ describe('console table', () => {
     const m = (mean: number | null) => ({ mean, n: 1, pooled: null, meanCi: null, pooledCi: null, detect: null });
     const row = (region: 'known' | 'visible', epe: number | null) => ({
       matcher: 'block',
+      condition: 'clean',
       matcherId: 'block',
       dataset: 'dock',
       region,

@@ -5,6 +5,7 @@
  * passes (or none set), 1 a gate failed, 2 usage or input error (including runs that
  * cannot be compared, unless --allow-mismatch).
  */
+import { configLabel } from '../../conditions/spec.js';
 import { readFile } from 'node:fs/promises';
 import { join, resolve } from 'node:path';
 import type { CommandModule } from 'yargs';
@@ -130,7 +131,7 @@ function parsePairings(texts: readonly string[], base: RunFolder, cand: RunFolde
 
 function runMeta(run: RunFolder, given: string): RunMeta {
   const cached: Record<string, number> = {};
-  for (const j of latestJobs(run.results)) if (j.cached === true) cached[j.matcher] = (cached[j.matcher] ?? 0) + 1;
+  for (const j of latestJobs(run.results)) if (j.cached === true) cached[configLabel(j)] = (cached[configLabel(j)] ?? 0) + 1;
   const git = run.info.tool.git;
   return { name: run.info.name || given, dir: resolve(given), commit: git ? git.commit : null, dirty: git ? git.dirty : false, started: run.info.started, cached };
 }

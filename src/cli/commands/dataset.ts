@@ -5,7 +5,7 @@ import { existsSync } from 'node:fs';
 import { join, resolve } from 'node:path';
 import type { Argv, CommandModule } from 'yargs';
 import { UsageError } from '../../core/errors.js';
-import { checkDataset, DEFAULT_MAX_INVALID_PERCENT } from '../../dataset/check.js';
+import { checkDataset, DEFAULT_MAX_GAIN_PERCENT, DEFAULT_MAX_INVALID_PERCENT, DEFAULT_MAX_OFFSET, DEFAULT_MAX_VSHIFT_PX } from '../../dataset/check.js';
 import { buildManifest } from '../../dataset/init.js';
 import { MANIFEST_FILE } from '../../dataset/manifest.js';
 import { writeFileAtomic } from '../../io/files.js';
@@ -16,6 +16,17 @@ interface CheckArgs {
   dir: string;
   'max-invalid': number;
   'data-root'?: string;
+  json: boolean;
+  rectification: boolean;
+  'max-vshift': number;
+  'max-gain': number;
+  'max-offset': number;
+}
+
+/** A limit option: finite and >= 0, else a usage error naming it. */
+function limitOption(name: string, v: number, unit: string): number {
+  if (!Number.isFinite(v) || v < 0) throw new UsageError(`--${name}`, `must be a number >= 0 (${unit}), got ${String(v)}`);
+  return v;
 }
 
 interface SynthArgs {
@@ -29,7 +40,7 @@ interface SynthArgs {
 
 const checkCommand: CommandModule<object, CheckArgs> = {
   command: 'check <dir>',
-  describe: 'Check a dataset: manifest, files, sizes, truth range, share of invalid truth; one line per problem',
+  describe: 'Check a dataset: manifest, files, sizes, truth range, share of invalid truth, row alignment and camera gain of every pair; one line per problem or warning',
   builder: (y) =>
     y
       .positional('dir', { type: 'string', demandOption: true, describe: 'Dataset folder or its dataset.json' })
@@ -38,17 +49,37 @@ const checkCommand: CommandModule<object, CheckArgs> = {
         default: DEFAULT_MAX_INVALID_PERCENT,
         describe: 'Largest acceptable share of invalid truth pixels per pair, in % (not checked for sparse truth)',
       })
-      .option('data-root', { type: 'string', describe: "Folder the manifest's paths are relative to, instead of its dataRoot or folder" }) as unknown as Argv<CheckArgs>,
+      .option('data-root', { type: 'string', describe: "Folder the manifest's paths are relative to, instead of its dataRoot or folder" })
+      .option('json', { type: 'boolean', default: false, describe: 'Print one JSON document: problems, warnings, summary and per pair figures (pairs[].id, vshift_px, vshift_spread_px, gain, ...)' })
+      .option('rectification', { type: 'boolean', default: true, describe: 'Estimate row alignment and camera gain per pair from the images (--no-rectification skips it)' })
+      .option('max-vshift', { type: 'number', default: DEFAULT_MAX_VSHIFT_PX, describe: 'Warn when the right image is vertically misaligned by more than this anywhere (px)' })
+      .option('max-gain', { type: 'number', default: DEFAULT_MAX_GAIN_PERCENT, describe: 'Warn when the right camera gain differs from the left by more than this (%)' })
+      .option('max-offset', { type: 'number', default: DEFAULT_MAX_OFFSET, describe: 'Warn when the right camera offset exceeds this (grey levels, 0-255 scale)' }) as unknown as Argv<CheckArgs>,
   handler: async (a) => {
     const max = a['max-invalid'];
     if (!Number.isFinite(max) || max < 0 || max > 100) throw new UsageError('--max-invalid', `must be a percentage 0-100, got ${String(max)}`);
-    const report = await checkDataset(a.dir, { maxInvalidPercent: max, ...(a['data-root'] !== undefined ? { dataRoot: resolve(a['data-root']) } : {}) });
+    const report = await checkDataset(a.dir, {
+      maxInvalidPercent: max,
+      ...(a['data-root'] !== undefined ? { dataRoot: resolve(a['data-root']) } : {}),
+      rectification: a.rectification,
+      maxVshiftPx: limitOption('max-vshift', a['max-vshift'], 'px'),
+      maxGainPercent: limitOption('max-gain', a['max-gain'], '%'),
+      maxOffset: limitOption('max-offset', a['max-offset'], 'grey levels'),
+    });
+    if (report.problems.length) process.exitCode = 1;
+    if (a.json) {
+      const { manifestFile, name, pairCount, problems, warnings, summary, pairs } = report;
+      process.stdout.write(JSON.stringify({ manifest: manifestFile, name: name ?? null, pairCount, ok: problems.length === 0, problems, warnings, summary, pairs }, null, 2) + '\n');
+      return;
+    }
+    for (const w of report.warnings) process.stdout.write(`warning: ${w}\n`);
     if (report.problems.length) {
       for (const p of report.problems) process.stdout.write(p + '\n');
       process.stdout.write(`${report.problems.length} problem(s) in ${shownPath(report.manifestFile)}\n`);
       process.exitCode = 1;
     } else {
-      process.stdout.write(`OK ${report.summary}\n`);
+      const n = report.warnings.length;
+      process.stdout.write(n ? `OK with ${n} warning(s) (above): ${report.summary}\n` : `OK ${report.summary}\n`);
     }
   },
 };

@@ -32,6 +32,9 @@ export interface RunArgs {
   'depth-bands'?: string;
   'usable-range'?: string;
   'data-root'?: string;
+  condition?: string[];
+  'condition-seed'?: number;
+  'breaking-point'?: string;
   quiet: boolean;
   json: boolean;
 }
@@ -64,6 +67,10 @@ export function settingsFromArgs(a: RunArgs, cwd = process.cwd()): RunSettings {
   if (a['depth-bands'] !== undefined) s.depthBands = parseDepthBands(a['depth-bands']);
   if (a['usable-range'] !== undefined) s.usableRange = usableRuleText(parseUsableRule(a['usable-range']));
   if (a['data-root'] !== undefined) s.dataRoot = resolve(cwd, a['data-root']);
+  if (a.condition?.length) s.conditions = [...(s.conditions ?? []), ...a.condition];
+  const seed = finiteOption('condition-seed', a['condition-seed'], (v) => Number.isInteger(v) && v >= 0 && v <= 4294967295, 'a whole number from 0 to 4294967295');
+  if (seed !== undefined) s.conditionSeed = seed;
+  if (a['breaking-point'] !== undefined) s.breakingPoint = a['breaking-point'];
   const depthUnit = depthUnitOption(a['prediction-depth']);
   const moduleTimeout = finiteOption('module-timeout', a['module-timeout'], (v) => Number.isInteger(v) && v > 0, 'a whole number of ms > 0');
   if (moduleTimeout !== undefined) s.moduleTimeoutMs = moduleTimeout;
@@ -105,6 +112,9 @@ export function runOptions<T>(y: Argv<T>): Argv<T & RunArgs> {
     .option('depth-bands', { type: 'string', describe: 'Depth band edges in metres, e.g. 0.5,1,2,4,8 (default: from the true depths of the data)' })
     .option('usable-range', { type: 'string', describe: 'Rule of the usable range, <figure><=<limit> (default depth_over5pct<=10)' })
     .option('data-root', { type: 'string', describe: "Folder every dataset's paths are relative to, instead of the manifest's dataRoot or folder" })
+    .option('condition', { type: 'string', array: true, describe: 'Camera fault applied to the images the matchers see, kind=strength or kind=[a,b,c] (repeatable; clean always runs too): gain, offset, gamma, noise, blur, blur-right, vshift, rotate, scale, jpeg' })
+    .option('condition-seed', { type: 'number', describe: 'Seed of the noise conditions (default 1; recorded in run.json)' })
+    .option('breaking-point', { type: 'string', describe: 'Rule of the breaking point, region/metric:worsening over clean (default visible/<key rate>:5)' })
     .option('quiet', { alias: 'q', type: 'boolean', default: false, describe: 'No progress bar, no table' })
     .option('json', { type: 'boolean', default: false, describe: 'Print the summary as JSON to stdout' }) as unknown as Argv<T & RunArgs>;
 }
@@ -120,10 +130,11 @@ export const runCommand: CommandModule<object, RunArgs & ScaleArgs> = {
     if (a.resume !== undefined) {
       const given = a.experiment !== undefined || a.dataset?.length || a.matcher?.length || a.predictions !== undefined || a.label !== undefined;
       const depthOptions = a['depth-bands'] !== undefined || a['usable-range'] !== undefined || a['data-root'] !== undefined || a['prediction-depth'] !== undefined;
-      if (given || depthOptions || a.thresholds !== undefined || a.quantiles !== undefined || a.out !== undefined || a.name !== undefined || a['module-timeout'] !== undefined) {
+      const conditionOptions = a.condition !== undefined || a['condition-seed'] !== undefined || a['breaking-point'] !== undefined;
+      if (given || depthOptions || conditionOptions || a.thresholds !== undefined || a.quantiles !== undefined || a.out !== undefined || a.name !== undefined || a['module-timeout'] !== undefined) {
         throw new UsageError(
           '--resume',
-          'takes every setting from the run folder; give no experiment file, --dataset, --matcher, --predictions, --thresholds, --quantiles, --depth-bands, --usable-range, --data-root, --module-timeout, --out or --name',
+          'takes every setting from the run folder; give no experiment file, --dataset, --matcher, --predictions, --thresholds, --quantiles, --depth-bands, --usable-range, --data-root, --condition, --condition-seed, --breaking-point, --module-timeout, --out or --name',
         );
       }
       plan = await resumePlan(a.resume, scale);

@@ -101,6 +101,19 @@ interface PlxReportHead {
   flicker: Record<string, Record<string, { label: string; points: [number, number][] }[]>>;
   /** depth[dataset][region] = per configuration: its depth error by distance. */
   depth: Record<string, Record<string, PlxDepthView[]>>;
+  /** Camera-fault conditions (view-model.ts conditionsView); empty lists when the run has none. */
+  conditions: PlxConditionsView;
+}
+
+/** Each configuration label's matcher and condition, the kinds present, and the breaking points. */
+interface PlxConditionsView {
+  /** One per configuration label: kind and strength null under clean. */
+  labels: { label: string; matcher: string; condition: string; kind: string | null; strength: number | null }[];
+  /** Kinds present, in catalogue order. */
+  kinds: { id: string; unit: string; what: string; neutral: number }[];
+  /** The breaking point's rule, region/metric:amount. */
+  rule: string;
+  breaking: { matcher: string; dataset: string; kind: string; strength: number | null; lo: number | null; hi: number | null; strongest: number; pairs: number }[];
 }
 
 /** Mean over pairs of a configuration's sub-pixel figures (src/metrics/subpixel.ts). */

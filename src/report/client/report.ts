@@ -17,8 +17,27 @@
     stat: 'mean' | 'pooled';
     sort: string;
     dir: 'asc' | 'desc';
+    /** '' = every condition, else the ranking shows only configurations under it. */
+    condition: string;
+    /** Condition kind of the degradation chart. */
+    kind: string;
   }
-  const state: State = { dataset: data.datasets[0] || '', tag: '', region: 'known', band: 'all', stat: 'mean', sort: data.rankBy, dir: 'asc' };
+  const faults = data.conditions;
+  const state: State = {
+    dataset: data.datasets[0] || '',
+    tag: '',
+    region: 'known',
+    band: 'all',
+    stat: 'mean',
+    sort: data.rankBy,
+    dir: 'asc',
+    condition: faults.kinds.length ? 'clean' : '',
+    kind: faults.kinds.length ? faults.kinds[0].id : '',
+  };
+  const conditionOfLabel: Record<string, string> = {};
+  faults.labels.forEach((l) => (conditionOfLabel[l.label] = l.condition));
+  const shownLabel = (label: string): boolean => state.condition === '' || (conditionOfLabel[label] || 'clean') === state.condition;
+  const shownCondition = (r: { label: string }): boolean => shownLabel(r.label);
   interface Cell {
     v: number | null;
     lo: number | null;
@@ -28,7 +47,7 @@
 
   const cellsNow = (): Record<string, PlxSummaryRow[]> => (data.summary[state.dataset] || {})[state.tag] || {};
   const keyOf = (region: string, band: string): string => (band === 'all' ? region : region + '@' + band);
-  const rowsNow = (): PlxSummaryRow[] => cellsNow()[keyOf(state.region, state.band)] || [];
+  const rowsNow = (): PlxSummaryRow[] => (cellsNow()[keyOf(state.region, state.band)] || []).filter(shownCondition);
   const hasUsable = Object.values(data.summary).some((byTag) => Object.values(byTag).some((bySlice) => Object.values(bySlice).some((rows) => rows.some((r) => r.usable !== null))));
   function cell(row: PlxSummaryRow, metric: string): Cell {
     const m = row.m[metric];
@@ -267,14 +286,14 @@
       'The ranking figure (' + state.stat + ' ' + metric + ' on ' + state.region + ') in each band of true distance, one line per configuration; sort the ranking by another column to plot that figure.';
   }
 
-  const rowsAt = (region: string, band: string): PlxSummaryRow[] => cellsNow()[keyOf(region, band)] || [];
+  const rowsAt = (region: string, band: string): PlxSummaryRow[] => (cellsNow()[keyOf(region, band)] || []).filter(shownCondition);
 
   /** Measured depth error by distance beside the error the disparity accuracy predicts. */
   function renderDepthError(): void {
     const host = document.getElementById('depth-error');
     if (!host) return;
     clear(host);
-    const views = (data.depth[state.dataset] || {})[state.region] || [];
+    const views = ((data.depth[state.dataset] || {})[state.region] || []).filter(shownCondition);
     if (!views.length) {
       host.appendChild(el('p', { class: 'ci' }, 'No depth profile for ' + state.region + ' (pairs without a camera).'));
       return;
@@ -353,7 +372,7 @@
   function renderSparsify(): void {
     const host = document.getElementById('sparsify')!;
     clear(host);
-    const views = (data.sparsify[state.dataset] || {})[state.region] || [];
+    const views = ((data.sparsify[state.dataset] || {})[state.region] || []).filter(shownCondition);
     if (!views.length) {
       host.appendChild(el('p', { class: 'ci' }, 'No configuration in this dataset gave a confidence map for ' + state.region + '.'));
       return;
@@ -379,7 +398,7 @@
   function renderFlicker(): void {
     const host = document.getElementById('flicker')!;
     clear(host);
-    const views = (data.flicker[state.dataset] || {})[state.region] || [];
+    const views = ((data.flicker[state.dataset] || {})[state.region] || []).filter(shownCondition);
     if (!views.length) {
       host.appendChild(el('p', { class: 'ci' }, 'No sequence (pairs with a frame) in this dataset.'));
       return;
@@ -405,7 +424,7 @@
   function renderSubpixel(): void {
     const host = document.getElementById('subpixel')!;
     clear(host);
-    const views = (data.subpixel[state.dataset] || {})[state.region] || [];
+    const views = ((data.subpixel[state.dataset] || {})[state.region] || []).filter(shownCondition);
     if (!views.length) return;
     const centres = views[0].hist.map((_, k) => (k + 0.5) / views[0].hist.length);
     const common = { x: [0, 1] as [number, number], xTicks: [0, 0.25, 0.5, 0.75, 1], xTickText: (v: number) => String(v) };
@@ -436,8 +455,85 @@
     );
   }
 
+  // ---------------------------------------------------------------- camera faults
+  /** The ranking figure against the chosen fault's strength, one line per matcher, dashed: its interval. */
+  function renderDegradation(): void {
+    const host = document.getElementById('degradation');
+    if (!host || !state.kind) return;
+    clear(host);
+    const metric = state.sort === 'time_ms' || state.sort === 'peak_mb' ? data.rankBy : state.sort;
+    const kind = faults.kinds.filter((k) => k.id === state.kind)[0]!;
+    const rows = cellsNow()[keyOf(state.region, state.band)] || [];
+    const matchers = faults.labels.filter((l) => l.condition === 'clean').map((l) => l.matcher);
+    const strengths: number[] = [kind.neutral];
+    const series: ChartSeries[] = [];
+    matchers.forEach((m) => {
+      const at = faults.labels.filter((l) => l.matcher === m && (l.condition === 'clean' || l.kind === kind.id));
+      const pts: { x: number; c: Cell }[] = [];
+      at.forEach((l) => {
+        const row = rows.filter((r) => r.label === l.label)[0];
+        const c = row ? cell(row, metric) : null;
+        const x = l.strength === null ? kind.neutral : l.strength;
+        if (c && c.v !== null) pts.push({ x, c });
+        if (strengths.indexOf(x) < 0) strengths.push(x);
+      });
+      pts.sort((a, b) => a.x - b.x);
+      const line = (f: (c: Cell) => number | null): [number, number][] => pts.flatMap((p): [number, number][] => (f(p.c) === null ? [] : [[p.x, f(p.c)!]]));
+      series.push({ label: m, color: colorOf(m), points: line((c) => c.v), dash: '', legend: m });
+      series.push({ label: m, color: colorOf(m), points: line((c) => c.lo), dash: '3 3' });
+      series.push({ label: m, color: colorOf(m), points: line((c) => c.hi), dash: '3 3' });
+    });
+    strengths.sort((a, b) => a - b);
+    const ys = series.flatMap((s) => s.points.map((p) => p[1]));
+    const x0 = strengths[0]!;
+    const x1 = strengths[strengths.length - 1]!;
+    host.appendChild(
+      lineChart({
+        aria: metric + ' against ' + kind.id,
+        xlab: kind.id + ' (' + kind.unit + ')',
+        ylab: state.stat + ' ' + metric + (data.units[metric] ? ' (' + data.units[metric] + ')' : ''),
+        x: [x0, x1 > x0 ? x1 : x0 + 1],
+        y: [Math.min(0, ...ys), Math.max(0, ...ys)],
+        xTicks: strengths,
+        xTickText: (v) => String(v),
+        series,
+      }),
+    );
+    document.getElementById('degradation-caption')!.textContent =
+      state.stat + ' ' + metric + ' on ' + state.region + (state.band === 'all' ? '' : ' at ' + state.band) + ' against the strength of ' + kind.id + ' (' + kind.what + '), one colour per matcher; ' + kind.neutral + ' = clean. Dashed: the ' + Math.round(data.level * 100) + ' % interval over pairs.';
+  }
+
+  /** Breaking points of the dataset: one row per matcher, one column per fault kind. */
+  function renderBreaking(): void {
+    const table = document.getElementById('breaking-table');
+    if (!table) return;
+    const head = table.querySelector('thead')!;
+    const body = table.querySelector('tbody')!;
+    clear(head);
+    clear(body);
+    const hr = el('tr');
+    hr.appendChild(el('th', null, 'Matcher'));
+    faults.kinds.forEach((k) => hr.appendChild(el('th', null, k.id + ', ' + k.unit)));
+    head.appendChild(hr);
+    const points = faults.breaking.filter((b) => b.dataset === state.dataset);
+    const matchers = points.map((b) => b.matcher).filter((m, i, all) => all.indexOf(m) === i);
+    const bound = (v: number | null): string => (v === null ? 'beyond' : String(v));
+    matchers.forEach((m) => {
+      const tr = el('tr');
+      tr.appendChild(el('td', null, m));
+      faults.kinds.forEach((k) => {
+        const b = points.filter((p) => p.matcher === m && p.kind === k.id)[0];
+        const text = !b ? '-' : (b.strength === null ? 'beyond ' + b.strongest : String(b.strength)) + (b.pairs >= 2 ? ' [' + bound(b.lo) + ', ' + bound(b.hi) + ']' : '');
+        tr.appendChild(el('td', { 'data-kind': k.id }, text));
+      });
+      body.appendChild(tr);
+    });
+    document.getElementById('breaking-caption')!.textContent =
+      'Breaking point: the weakest strength at which ' + faults.rule.replace(/:[^:]*$/, '') + ' worsens by more than ' + faults.rule.replace(/^.*:/, '') + ' over clean (mean paired change over pairs), with its ' + Math.round(data.level * 100) + ' % interval over pairs; beyond: no strength tried breaks.';
+  }
+
   // ---------------------------------------------------------------- controls
-  function bindSelect(id: string, key: 'dataset' | 'region' | 'band' | 'tag' | 'stat'): void {
+  function bindSelect(id: string, key: 'dataset' | 'region' | 'band' | 'tag' | 'stat' | 'condition' | 'kind'): void {
     const s = document.getElementById(id) as HTMLSelectElement | null;
     if (!s) return;
     s.value = state[key];
@@ -457,12 +553,16 @@
     renderByBand();
     renderDepthError();
     renderUsable();
+    renderDegradation();
+    renderBreaking();
   }
   bindSelect('sel-dataset', 'dataset');
   bindSelect('sel-region', 'region');
   bindSelect('sel-band', 'band');
   bindSelect('sel-tag', 'tag');
   bindSelect('sel-stat', 'stat');
+  bindSelect('sel-condition', 'condition');
+  bindSelect('sel-kind', 'kind');
   renderAll();
 
   // ---------------------------------------------------------------- pairs (pair-views.ts)

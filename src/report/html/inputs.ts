@@ -3,6 +3,7 @@
  * stored pair thumbnails or the dataset files to make them from, and each job's stored
  * preview. Reads never reject: a problem becomes the note shown in the pair view.
  */
+import { configLabel } from '../../conditions/spec.js';
 import { mkdir, readFile } from 'node:fs/promises';
 import { dirname } from 'node:path';
 import type { FloatImage } from '../../core/image.js';
@@ -82,7 +83,7 @@ export async function loadPairInputs(runDir: string, manifest: Manifest | null, 
   if (!t || !truth || !entry) return inputs;
   const [stored, ...previews] = await Promise.all([
     readStoredPairPreview(runDir, dataset, pair, t.thumb.width, t.thumb.height),
-    ...jobs.map((j) => (j.status === 'ok' ? readPreview(runDir, j.matcher, dataset, pair).catch(() => null) : Promise.resolve(null))),
+    ...jobs.map((j) => (j.status === 'ok' ? readPreview(runDir, configLabel(j), dataset, pair).catch(() => null) : Promise.resolve(null))),
   ]);
   inputs.stored = stored;
   inputs.previews = previews;

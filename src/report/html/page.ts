@@ -44,6 +44,19 @@ function provenance(info: RunRecord, jobs: readonly JobResult[]): Markup {
 <h3>Configurations</h3><table><thead><tr><th>label</th><th>matcher</th><th>kind</th><th>version</th><th>parameters</th><th>code hash</th></tr></thead><tbody>${ms}</tbody></table>`;
 }
 
+/** Degradation curves per condition kind and the breaking points. */
+function faultSection(kinds: readonly { id: string; unit: string }[]): Markup {
+  return html`<section aria-labelledby="h-faults">
+<h2 id="h-faults">Camera faults</h2>
+<div class="controls"><label>fault<select id="sel-kind">${kinds.map((k) => opt(k.id, `${k.id} (${k.unit})`))}</select></label></div>
+<p class="ci">The images the matchers saw were changed by each condition (the files and the truth were not; a lower resolution scales the truth with the images). Choose the figure by sorting the ranking; the region, distance and statistic are the ranking's.</p>
+<div class="charts">
+<figure><div id="degradation"></div><figcaption id="degradation-caption"></figcaption></figure>
+</div>
+<div class="rank"><table id="breaking-table"><caption id="breaking-caption"></caption><thead></thead><tbody></tbody></table></div>
+</section>`;
+}
+
 /** Figures against distance, the depth error against what the disparity error predicts, the usable range. */
 function depthSection(): Markup {
   return html`<section aria-labelledby="h-depth">
@@ -65,6 +78,10 @@ export interface PageParts {
   /** Region names (built-in, then named) and depth band labels of the run. */
   regions: readonly string[];
   bands: readonly string[];
+  /** Condition kinds of the run (empty: clean only). */
+  kinds: readonly { id: string; unit: string }[];
+  /** Conditions of the run, clean first (empty: clean only). */
+  conditions: readonly string[];
   /** Pair keys in page order, with the jobs of each pair. */
   pairs: readonly { dataset: string; pair: string; jobs: readonly JobResult[] }[];
   /** The client script, whose hash the Content-Security-Policy allows. */
@@ -110,6 +127,7 @@ export function pageHead(p: PageParts): string {
 <label>dataset<select id="sel-dataset">${datasets.map((d) => opt(d))}</select></label>
 <label>region<select id="sel-region">${p.regions.map((r) => opt(r))}</select></label>
 ${p.bands.length ? html`<label>distance<select id="sel-band">${opt('all', 'all distances')}${p.bands.map((b) => opt(b))}</select></label>` : ''}
+${p.conditions.length ? html`<label>condition<select id="sel-condition">${opt('', 'all conditions')}${p.conditions.map((c) => opt(c))}</select></label>` : ''}
 ${tags.length ? html`<label>pairs<select id="sel-tag">${opt('', 'all pairs')}${tags.map((t) => opt(t, `tagged ${t}`))}</select></label>` : ''}
 <label>statistic<select id="sel-stat">${opt('mean', 'mean over pairs')}${opt('pooled', 'pooled over pixels')}</select></label>
 </div>
@@ -128,6 +146,7 @@ ${tags.length ? html`<label>pairs<select id="sel-tag">${opt('', 'all pairs')}${t
 </div>
 </section>
 ${p.bands.length ? depthSection() : ''}
+${p.kinds.length ? faultSection(p.kinds) : ''}
 <section aria-labelledby="h-pairs">
 <h2 id="h-pairs">Pairs</h2>
 <p class="ci">Open a pair to see its left image, truth, region map and, per configuration, the disparity and the absolute error, each with its legend. Thumbnails are downscaled (block means of valid pixels); the error images compare the downscaled output with the downscaled truth. The figures beside them are the exact per-pair scores.</p>

@@ -12,6 +12,7 @@
  * pair views, page.ts the markup, write.ts the atomic streamed write; the client script
  * is src/report/client/report.ts, compiled by the build (client-script.ts loads it).
  */
+import { compareConditions, conditionOf, configLabel } from '../../conditions/spec.js';
 import type { JobResult } from '../../core/score.js';
 import { readRunFolder, readRunRecordAsync } from '../run-folder.js';
 import { metricSetOf, type RunRecord } from '../../io/run-record.js';
@@ -21,7 +22,7 @@ import { byNatural, groupBy } from '../../core/order.js';
 import type { DisparityMapName } from '../colormaps.js';
 import { loadPairInputs, type PairInputs } from './inputs.js';
 import { pageHead, pageTail } from './page.js';
-import { bandNamesOf, depthView, flickerView, pairView, regionNamesOf, reportData, sparsifyView, subpixelView } from './view-model.js';
+import { conditionsView, bandNamesOf, depthView, flickerView, pairView, regionNamesOf, reportData, sparsifyView, subpixelView } from './view-model.js';
 import { scriptSafeJson } from './markup.js';
 import { reportScript } from './client-script.js';
 
@@ -97,7 +98,7 @@ async function renderRun(runDir: string, info: RunRecord, results: readonly JobR
   const set = metricSetOf(info);
   const jobs = sortJobs(latestJobs(results));
   const rows = aggregate(jobs, { ...set, ci: opts.resamples ? { resamples: opts.resamples } : {} });
-  const labels = [...new Set(jobs.map((j) => j.matcher))].sort(byNatural);
+  const labels = [...new Set(jobs.map((j) => configLabel(j)))].sort(byNatural);
   const datasets = [...new Set(jobs.map((j) => j.dataset))].sort(cmp);
   const tags = [...new Set(rows.flatMap((r) => (r.tag === null ? [] : [r.tag])))].sort(cmp);
   const manifests = runManifests(info);
@@ -111,9 +112,11 @@ async function renderRun(runDir: string, info: RunRecord, results: readonly JobR
   // so escaping the pieces is escaping the whole.)
   const regions = regionNamesOf(jobs);
   const bands = bandNamesOf(rows);
-  const views = { sparsify: sparsifyView(jobs, labels), subpixel: subpixelView(jobs, labels), flicker: flickerView(jobs, labels), depth: depthView(jobs, labels), regions, bands };
+  const views = { sparsify: sparsifyView(jobs, labels), subpixel: subpixelView(jobs, labels), flicker: flickerView(jobs, labels), depth: depthView(jobs, labels), regions, bands, conditions: conditionsView(jobs, set) };
   const dataHead = scriptSafeJson(reportData(rows, set, datasets, labels, disparityMap, views));
-  await sink(pageHead({ info, jobs, labels, datasets, tags, regions, bands, pairs, script }) + `${dataHead.slice(0, -1)},"pairs":[`);
+  const kinds = views.conditions.kinds;
+  const conditions = kinds.length ? [...new Set(jobs.map(conditionOf))].sort(compareConditions) : [];
+  await sink(pageHead({ info, jobs, labels, datasets, tags, regions, bands, kinds, conditions, pairs, script }) + `${dataHead.slice(0, -1)},"pairs":[`);
 
   // Files of the next few pairs are read while this one is drawn (I/O overlaps the
   // CPU work; one thread, a bounded number of pairs in memory).

@@ -3,6 +3,8 @@
  * dataset, tag and region, the metric catalogue's units and directions, colour scales)
  * and one view per pair (thumbnails as data: URIs, exact per-pair figures).
  */
+import { conditionOf, CONDITION_KINDS, configLabel, parseConditionName } from '../../conditions/spec.js';
+import { breakingPoints, breakingRuleText, defaultBreakingRule, parseBreakingRule } from '../../stats/breaking.js';
 import type { JobResult, RegionFigures } from '../../core/score.js';
 import { ALL_BANDS, REGION_IDS, sliceKey } from '../../core/regions.js';
 import { PROFILE_BINS_PER_OCTAVE } from '../../core/depth-bands.js';
@@ -73,7 +75,7 @@ export async function pairView(p: PairViewInput): Promise<PairView> {
   p.jobs.forEach((j, k) => {
     const rateMap = p.thresholds.map((th) => j.thresholds.indexOf(th));
     const jv: PairJobView = {
-      label: j.matcher,
+      label: configLabel(j),
       status: j.status,
       error: j.error ?? null,
       time_ms: j.time_ms,
@@ -109,7 +111,7 @@ function summaryView(rows: SummaryRow[], set: MetricSet): PlxReportHead['summary
     }
     const u = r.usable;
     const usable: PlxSummaryRow['usable'] = u ? [u.range_m, u.ci?.lo ?? null, u.ci?.hi ?? null, u.holds] : null;
-    list.push({ label: r.matcher, n_pairs: r.n_pairs, n_units: r.n_units, unit: r.unit, n_failed: r.n_failed, m, usable });
+    list.push({ label: configLabel(r), n_pairs: r.n_pairs, n_units: r.n_units, unit: r.unit, n_failed: r.n_failed, m, usable });
   }
   return out;
 }
@@ -124,7 +126,7 @@ export function sparsifyView(jobs: readonly JobResult[], configs: readonly strin
     for (const label of configs) {
       const byDataset = new Map<string, { conf: number[]; oracle: number[]; n: number }>();
       for (const j of jobs) {
-        if (j.matcher !== label) continue;
+        if (configLabel(j) !== label) continue;
         const f = j.scores[region]?.figures;
         if (!f?.conf_curve || !f.oracle_curve) continue;
         const acc = byDataset.get(j.dataset) ?? { conf: f.conf_curve.map(() => 0), oracle: f.oracle_curve.map(() => 0), n: 0 };
@@ -149,7 +151,7 @@ export function subpixelView(jobs: readonly JobResult[], configs: readonly strin
       const byDataset = new Map<string, { lock: number; n: number; hist: number[]; errSum: number[]; errN: number[] }>();
       for (const j of jobs) {
         const f = j.scores[region]?.figures;
-        if (!f || j.matcher !== label || !f.frac_hist || !f.err_by_truth_frac || typeof f.subpix_lock !== 'number') continue;
+        if (!f || configLabel(j) !== label || !f.frac_hist || !f.err_by_truth_frac || typeof f.subpix_lock !== 'number') continue;
         const acc = byDataset.get(j.dataset) ?? { lock: 0, n: 0, hist: f.frac_hist.map(() => 0), errSum: f.frac_hist.map(() => 0), errN: f.frac_hist.map(() => 0) };
         acc.lock += f.subpix_lock;
         acc.n++;
@@ -177,7 +179,7 @@ export function flickerView(jobs: readonly JobResult[], configs: readonly string
       const acc = new Map<string, Map<number, [number, number]>>(); // dataset -> frame -> [sum, count]
       for (const j of jobs) {
         const v = j.scores[region]?.figures.flicker;
-        if (j.matcher !== label || j.frame === undefined || typeof v !== 'number') continue;
+        if (configLabel(j) !== label || j.frame === undefined || typeof v !== 'number') continue;
         const byFrame = acc.get(j.dataset) ?? new Map<number, [number, number]>();
         const cell = byFrame.get(j.frame) ?? [0, 0];
         cell[0] += v;
@@ -221,7 +223,7 @@ export function depthView(jobs: readonly JobResult[], configs: readonly string[]
       const acc = new Map<string, { prof: DepthProfile | undefined; sumAbs: number; valid: number }>();
       for (const j of jobs) {
         const sc = j.scores[region];
-        if (j.matcher !== label || !sc?.profile) continue;
+        if (configLabel(j) !== label || !sc?.profile) continue;
         const a = acc.get(j.dataset) ?? { prof: undefined, sumAbs: 0, valid: 0 };
         a.prof = addProfiles(a.prof, sc.profile);
         a.sumAbs += sc.sums.sumAbs;
@@ -249,7 +251,27 @@ export function depthView(jobs: readonly JobResult[], configs: readonly string[]
 }
 
 /** The views of the page beside the summary. */
-export type ReportViews = Pick<PlxReportHead, 'sparsify' | 'subpixel' | 'flicker' | 'depth' | 'regions' | 'bands'>;
+export type ReportViews = Pick<PlxReportHead, 'sparsify' | 'subpixel' | 'flicker' | 'depth' | 'regions' | 'bands' | 'conditions'>;
+
+/** The report's view of the camera-fault conditions: labels, kinds present, breaking points (src/stats/breaking.ts). */
+export function conditionsView(jobs: readonly JobResult[], set: MetricSet): PlxConditionsView {
+  const seen = new Map<string, PlxConditionsView['labels'][number]>();
+  for (const j of jobs) {
+    const label = configLabel(j);
+    if (seen.has(label)) continue;
+    const c = parseConditionName(conditionOf(j));
+    seen.set(label, { label, matcher: j.matcher, condition: conditionOf(j), kind: c?.kind ?? null, strength: c?.strength ?? null });
+  }
+  const labels = [...seen.values()];
+  const present = new Set(labels.map((l) => l.kind));
+  const kinds = CONDITION_KINDS.filter((k) => present.has(k.id)).map((k) => ({ id: k.id, unit: k.unit, what: k.what, neutral: k.neutral }));
+  const ruleText = set.breakingPoint ?? defaultBreakingRule(set);
+  const rule = parseBreakingRule(ruleText, set, 'breakingPoint');
+  const breaking = kinds.length
+    ? breakingPoints(jobs, set, rule).map((p) => ({ matcher: p.matcher, dataset: p.dataset, kind: p.kind, strength: p.strength, lo: p.lo, hi: p.hi, strongest: p.levels[p.levels.length - 1].strength, pairs: p.pairs }))
+    : [];
+  return { labels, kinds, rule: breakingRuleText(rule), breaking };
+}
 
 /** The page's data object, without its `pairs` (written one view at a time). */
 export function reportData(
@@ -258,7 +280,7 @@ export function reportData(
   datasets: string[],
   configs: string[],
   disparityMap: DisparityMapName,
-  views: ReportViews = { sparsify: {}, subpixel: {}, flicker: {}, depth: {}, regions: [...REGION_IDS], bands: [] },
+  views: ReportViews = { sparsify: {}, subpixel: {}, flicker: {}, depth: {}, regions: [...REGION_IDS], bands: [], conditions: { labels: [], kinds: [], rule: '', breaking: [] } },
 ): PlxReportHead {
   const metrics = metricsOf(set);
   const byId = <T>(f: (m: (typeof metrics)[number]) => T): Record<string, T> => Object.fromEntries(metrics.map((m) => [m.id, f(m)]));
@@ -290,6 +312,7 @@ export function reportData(
     subpixel: views.subpixel,
     flicker: views.flicker,
     depth: views.depth,
+    conditions: views.conditions,
     regionKeys: (['visible', 'occluded', 'flat', 'jump', 'unknown'] as const).map((k): [string, string] => [k === 'unknown' ? 'no truth' : k, `rgb(${REGION_COLORS[k].join(',')})`]),
   };
 }
