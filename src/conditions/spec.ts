@@ -139,6 +139,11 @@ export function compareConditions(a: string, b: string): number {
   return ka - kb || kind.severity(ca.strength) - kind.severity(cb.strength) || ca.strength - cb.strength;
 }
 
+/** Whether a condition draws random numbers (noise): only then does its seed change the images. */
+export function usesSeed(name: string): boolean {
+  return parseConditionName(name)?.kind === 'noise';
+}
+
 /** Whether a condition changes the pair's size (`scale`): its maps do not fit the pair's thumbnails. */
 export function changesSize(name: string): boolean {
   return parseConditionName(name)?.kind === 'scale';

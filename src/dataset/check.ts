@@ -198,7 +198,7 @@ function checkGeometry(m: Manifest, p: PairEntry, images: Partial<Record<'left' 
   const e: RectificationEstimate =
     left && right && left.width === right.width && left.height === right.height
       ? estimateRectification(toLuminance(left), toLuminance(right), left.width, left.height, { minDisparity: m.disparityRange[0], maxDisparity: m.disparityRange[1] })
-      : { points: 0, vshift_px: null, vshift_spread_px: null, vshift_noise_px: null, rotation_mrad: null, vscale_pct: null, gain: null, offset: null };
+      : { points: 0, vshift_px: null, vshift_spread_px: null, vshift_noise_px: null, rotation_mrad: null, vscale_pct: null, gain: null, offset: null, grey_range: null };
   totals.pairs.push({ id: p.id, ...e });
   const rel = relative(process.cwd(), p.right) || p.right;
   const maxV = opts.maxVshiftPx ?? DEFAULT_MAX_VSHIFT_PX;
@@ -206,13 +206,16 @@ function checkGeometry(m: Manifest, p: PairEntry, images: Partial<Record<'left' 
     const where = e.vshift_px >= 0 ? 'lower' : 'higher';
     warn(totals, `${rel}: rows misaligned: the right image's content sits ${f2(Math.abs(e.vshift_px))} px ${where} than the left's (median of ${e.points} points; ±${f2(e.vshift_spread_px ?? 0)} px over the image, rotation ${f2(e.rotation_mrad ?? 0)} mrad), above ${maxV} px (pair ${p.id})`);
   }
+  if (e.gain === null || e.offset === null || !e.grey_range) return;
+  // Gain and offset trade against each other over a narrow grey range: a limit counts only
+  // where the brightness difference the fit predicts, at either end of that range, exceeds the offset limit.
   const maxG = opts.maxGainPercent ?? DEFAULT_MAX_GAIN_PERCENT;
-  if (e.gain !== null && Math.abs(e.gain - 1) * 100 > maxG) {
-    warn(totals, `${rel}: camera gain differs: right over left ${f2(e.gain)} (beyond ±${maxG} %) (pair ${p.id})`);
-  }
   const maxO = opts.maxOffset ?? DEFAULT_MAX_OFFSET;
-  if (e.offset !== null && Math.abs(e.offset) > maxO) {
-    warn(totals, `${rel}: camera offset differs: right minus gain x left ${f2(e.offset)} grey levels (beyond ±${maxO}) (pair ${p.id})`);
+  const [g0, g1] = e.grey_range;
+  const diff = Math.max(...[g0, g1].map((v) => Math.abs(e.gain! * v + e.offset! - v)));
+  const beyond = [Math.abs(e.gain - 1) * 100 > maxG ? `gain beyond ±${maxG} %` : '', Math.abs(e.offset) > maxO ? `offset beyond ±${maxO}` : ''].filter(Boolean);
+  if (beyond.length && diff > maxO) {
+    warn(totals, `${rel}: cameras differ in brightness: right = ${f2(e.gain)} x left ${e.offset < 0 ? '-' : '+'} ${f2(Math.abs(e.offset))} grey levels (${beyond.join(', ')}; up to ${f2(diff)} grey levels apart over grey ${Math.round(g0)}-${Math.round(g1)}) (pair ${p.id})`);
   }
 }
 

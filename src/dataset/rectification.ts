@@ -11,15 +11,20 @@
  * 3. Refine: Gauss-Newton on L(p) = a R(p + t) + b over a larger window, t = (tx, ty)
  *    with R sampled bilinearly, a and b absorbing any gain and offset difference. ty is
  *    the point's vertical offset: positive when the right image's content sits lower.
+ *    Windows the model leaves more than 10 % of their variance unexplained are dropped.
  * 4. Fit: ty = s + r (xr - cx) + k (y - cy) by least squares, points whose residual is
  *    beyond 3 robust standard deviations (1.4826 MAD, at least 0.05 px) dropped, three
  *    rounds. A rotation of the right image by theta (counter-clockwise on screen) about
  *    its centre moves content vertically by -theta (xr - cx): rotation = -r.
  * 5. Photometry: the right patch means against the left ones (saturated patches left
- *    out) fitted as muR = gain muL + offset, with the same trimming.
+ *    out) fitted as muR = gain muL + offset, with the same trimming. Over a narrow
+ *    range of grey levels gain and offset trade against each other, so the range the
+ *    fit rests on is reported too (`dataset check` judges the brightness difference the
+ *    fit predicts at its ends).
  *
  * Reported: vshift_px = the median of the kept offsets, vshift_spread_px = half the
- * range of the fitted field over the image (the part rotation and scale add),
+ * range of the fitted field over the image (the part rotation and scale add; a term
+ * within two standard errors of zero adds none),
  * rotation_mrad, the scale term, gain (right over left) and offset (grey levels).
  */
 
@@ -47,6 +52,8 @@ export interface RectificationEstimate {
   gain: number | null;
   /** Right minus gain x left, grey levels (0-255 scale). */
   offset: number | null;
+  /** 5th and 95th percentile of the left patch means the photometric fit rests on (grey levels). */
+  grey_range: [number, number] | null;
 }
 
 const MATCH_HALF = 4;
@@ -54,6 +61,12 @@ const REFINE_HALF = 7;
 const GRID_STEP = 8;
 const MIN_ZNCC = 0.8;
 const SATURATED = 250;
+/**
+ * Windows a translation (with gain and offset) does not explain are left out: above this
+ * share (10 %) of the window's variance left over they straddle a depth edge or a reflection,
+ * whose content moves differently in the two views and biases the offset.
+ */
+const MAX_MISFIT = 0.1;
 
 interface Plane {
   data: Float32Array;
@@ -155,7 +168,7 @@ function solve4(A: number[], g: number[]): number[] | null {
 }
 
 /** Gauss-Newton refinement of (tx, ty, a, b) in L(p) = a R(p + t) + b; null when it leaves the image or diverges. */
-function refine(l: Plane, r: Plane, grad: { gx: Plane; gy: Plane }, start: { x: number; y: number; tx0: number; ty0: number }): { tx: number; ty: number } | null {
+function refine(l: Plane, r: Plane, grad: { gx: Plane; gy: Plane }, start: { x: number; y: number; tx0: number; ty0: number }): { tx: number; ty: number; misfit: number } | null {
   const { gx, gy } = grad;
   const { x, y, tx0, ty0 } = start;
   let tx = tx0;
@@ -163,7 +176,13 @@ function refine(l: Plane, r: Plane, grad: { gx: Plane; gy: Plane }, start: { x: 
   let a = 1;
   let b = 0;
   const h = REFINE_HALF;
+  let sse = 0;
+  let sl = 0;
+  let sll = 0;
   for (let it = 0; it < 10; it++) {
+    sse = 0;
+    sl = 0;
+    sll = 0;
     if (x + tx - h < 1 || x + tx + h > r.w - 2 || y + ty - h < 1 || y + ty + h > r.h - 2) return null;
     const A = new Array<number>(16).fill(0);
     const g = [0, 0, 0, 0];
@@ -172,7 +191,11 @@ function refine(l: Plane, r: Plane, grad: { gx: Plane; gy: Plane }, start: { x: 
         const px = x + u + tx;
         const py = y + v + ty;
         const rv = bilinear(r, px, py);
-        const res = l.data[(y + v) * l.w + x + u] - (a * rv + b);
+        const lv = l.data[(y + v) * l.w + x + u];
+        const res = lv - (a * rv + b);
+        sse += res * res;
+        sl += lv;
+        sll += lv * lv;
         const J = [a * bilinear(gx, px, py), a * bilinear(gy, px, py), rv, 1];
         for (let i = 0; i < 4; i++) {
           g[i] += J[i] * res;
@@ -189,7 +212,10 @@ function refine(l: Plane, r: Plane, grad: { gx: Plane; gy: Plane }, start: { x: 
     if (Math.abs(tx - tx0) > 2 || Math.abs(ty - ty0) > 2) return null;
     if (Math.abs(z[0]) < 1e-4 && Math.abs(z[1]) < 1e-4) break;
   }
-  return { tx, ty };
+  const n = (2 * h + 1) ** 2;
+  const varL = sll / n - (sl / n) ** 2;
+  // What a translation with gain and offset leaves unexplained, as a share of the window's variance.
+  return { tx, ty, misfit: varL > 0 ? sse / n / varL : 1 };
 }
 
 function gradients(img: Plane): { gx: Plane; gy: Plane } {
@@ -260,6 +286,17 @@ function solveSmall(A: number[], g: number[], p: number): number[] | null {
   return z ? z.slice(0, p) : null;
 }
 
+/** Standard errors of least-squares coefficients: sd * sqrt(diag((X'X)^-1)). */
+function standardErrors(X: readonly number[][], sd: number): number[] {
+  const p = X[0].length;
+  const A = new Array<number>(p * p).fill(0);
+  for (const row of X) for (let a = 0; a < p; a++) for (let b = 0; b < p; b++) A[a * p + b] += row[a] * row[b];
+  return Array.from({ length: p }, (_, k) => {
+    const col = solveSmall(A, Array.from({ length: p }, (_, i) => (i === k ? 1 : 0)), p);
+    return col ? sd * Math.sqrt(Math.max(0, col[k])) : Infinity;
+  });
+}
+
 interface Match {
   x: number;
   y: number;
@@ -303,13 +340,18 @@ function matchPoint(l: Plane, r: Plane, grad: { gx: Plane; gy: Plane }, x: numbe
   }
   if (best < MIN_ZNCC) return null;
   const t = refine(l, r, grad, { x, y, tx0: -bd, ty0: bdy });
-  if (!t) return null;
+  if (!t || t.misfit > MAX_MISFIT) return null;
   const wl = windowMean(l, x, y, REFINE_HALF);
   const wr = windowMean(r, Math.round(x + t.tx), Math.round(y + t.ty), REFINE_HALF);
   return { x, y, xr: x + t.tx, ty: t.ty, muL: wl.mean, muR: wr.mean, saturated: wl.max >= SATURATED || wr.max >= SATURATED };
 }
 
-const EMPTY: RectificationEstimate = { points: 0, vshift_px: null, vshift_spread_px: null, vshift_noise_px: null, rotation_mrad: null, vscale_pct: null, gain: null, offset: null };
+const EMPTY: RectificationEstimate = { points: 0, vshift_px: null, vshift_spread_px: null, vshift_noise_px: null, rotation_mrad: null, vscale_pct: null, gain: null, offset: null, grey_range: null };
+
+function percentile(xs: readonly number[], q: number): number {
+  const s = [...xs].sort((a, b) => a - b);
+  return s[Math.min(s.length - 1, Math.max(0, Math.round(q * (s.length - 1))))];
+}
 
 /** Estimate the pair's vertical misalignment and photometric difference from its luminance images (0-255). */
 export function estimateRectification(left: Float32Array, right: Float32Array, w: number, h: number, options: RectificationOptions): RectificationEstimate {
@@ -332,13 +374,17 @@ export function estimateRectification(left: Float32Array, right: Float32Array, w
   );
   if (!fit) return { ...EMPTY, points: matches.length };
   const [, rx, ky] = fit.coef as [number, number, number];
+  const [seR, seK] = standardErrors(fit.kept.map((i) => [1, matches[i].xr - cx, matches[i].y - cy]), fit.sd).slice(1) as [number, number];
+  // Terms within two standard errors of zero add no spread (few or clustered points fit noise).
+  const rs = Math.abs(rx) > 2 * seR ? rx : 0;
+  const ks = Math.abs(ky) > 2 * seK ? ky : 0;
   // The fitted field's range over the image comes from its corners (it is affine).
   const corners = [
     [-cx, -cy],
     [cx, -cy],
     [-cx, cy],
     [cx, cy],
-  ].map(([dx, dy]) => rx * dx + ky * dy);
+  ].map(([dx, dy]) => rs * dx + ks * dy);
   const photo = matches.filter((m) => !m.saturated);
   const pfit = photo.length >= 8 ? robustFit(photo.map((m) => [1, m.muL]), photo.map((m) => m.muR), 0.5) : null;
   return {
@@ -350,5 +396,6 @@ export function estimateRectification(left: Float32Array, right: Float32Array, w
     vscale_pct: ky * 100,
     gain: pfit ? pfit.coef[1] : null,
     offset: pfit ? pfit.coef[0] : null,
+    grey_range: pfit ? [percentile(pfit.kept.map((i) => photo[i].muL), 0.05), percentile(pfit.kept.map((i) => photo[i].muL), 0.95)] : null,
   };
 }

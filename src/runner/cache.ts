@@ -6,7 +6,7 @@
  * Key: sha256 over a canonical JSON of
  *   { format: CACHE_FORMAT, left: sha256(left file), right: sha256(right file),
  *     matcherId, codeHash, params (keys sorted), range: [min, max],
- *     and under a camera fault condition, conditionSeed }
+ *     and under a camera fault: condition, and for noise its conditionSeed }
  * Entry file `<dir>/<key[0:2]>/<key>.pxd`:
  *   bytes 0-3 "PXD1", 4-7 header length L (uint32 LE), then L bytes of JSON header
  *   { width, height, time_ms, peak_mb, matcherId, created, confidence }, zero padding to

@@ -23,7 +23,7 @@ import type { JobResult } from '../core/score.js';
 import { loadPair } from '../dataset/load.js';
 import { pairRegions } from '../dataset/regions.js';
 import { applyCondition } from '../conditions/apply.js';
-import { CLEAN, configLabel } from '../conditions/spec.js';
+import { CLEAN, configLabel, usesSeed } from '../conditions/spec.js';
 import type { Manifest } from '../dataset/manifest.js';
 import { pairPreviewPaths, writePairPreview } from '../report/preview.js';
 import { brokenPairResult, brokenPairScores } from './broken-pair.js';
@@ -252,7 +252,8 @@ class Scheduler {
     const { pair } = p;
     p.hashes ??= hashesOf(pair);
     const [leftHash, rightHash] = await p.hashes;
-    const condition = pair.condition !== undefined ? { condition: pair.condition, conditionSeed: this.plan.conditionSeed } : {};
+    // The seed is part of the key only where it changes the images (noise).
+    const condition = pair.condition !== undefined ? { condition: pair.condition, ...(usesSeed(pair.condition) ? { conditionSeed: this.plan.conditionSeed } : {}) } : {};
     const key = cacheKey({ leftHash, rightHash, matcherId: cfg.matcherId, codeHash: cfg.codeHash, params: cfg.params, minDisparity: pair.disparityRange[0], maxDisparity: pair.disparityRange[1], ...condition });
     const hit = this.cache.get(key, pair.width, pair.height);
     if (!hit) return { key };

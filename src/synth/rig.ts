@@ -31,6 +31,11 @@ export interface Rig {
   readonly cy: number;
   /** cx_right - cx_left in pixels. */
   readonly cxShiftPx: number;
+  /**
+   * cy_right - cy_left in pixels: a rig out of rectification, whose right image shows
+   * every point this much lower (absent = 0, rectified).
+   */
+  readonly cyShiftPx?: number;
   /** Pose of the left camera in the world. */
   readonly pose: Pose;
 }
@@ -45,6 +50,8 @@ export interface RigOptions {
   /** Baseline in metres (default 0.12). */
   baselineM?: number;
   cxShiftPx?: number;
+  /** Right camera's principal point row minus the left's (a misaligned rig; default 0). */
+  cyShiftPx?: number;
   cx?: number;
   cy?: number;
   pose?: Pose;
@@ -70,6 +77,7 @@ export function makeRig(o: RigOptions): Rig {
     cx: o.cx ?? (o.width - 1) / 2,
     cy: o.cy ?? (o.height - 1) / 2,
     cxShiftPx: o.cxShiftPx ?? 0,
+    ...(o.cyShiftPx ? { cyShiftPx: o.cyShiftPx } : {}),
     pose: o.pose ?? DEFAULT_POSE,
   };
 }
@@ -123,7 +131,7 @@ export function viewOf(rig: Rig, which: 'left' | 'right'): View {
     height: rig.height,
     focalPx: rig.focalPx,
     cx: which === 'right' ? rig.cx + rig.cxShiftPx : rig.cx,
-    cy: rig.cy,
+    cy: which === 'right' ? rig.cy + (rig.cyShiftPx ?? 0) : rig.cy,
     centre: [p[0] + b * ax.right[0], p[1] + b * ax.right[1], p[2] + b * ax.right[2]],
     right: ax.right,
     down: ax.down,

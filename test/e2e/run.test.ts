@@ -17,7 +17,7 @@ const root = mkdtempSync(join(tmpdir(), 'parallax-e2e-'));
 afterAll(() => rmSync(root, { recursive: true, force: true }));
 
 const PAIRS_COLUMNS =
-  'matcher,dataset,pair,region,band,status,pixels,coverage,epe,rmse,bias,over0.25px,over0.5px,over1px,over2px,over3px,q50,q68,q95,depth_relerr,depth_rmse_m,depth_relmed,depth_over1pct,depth_over2pct,depth_over5pct,conf_auc,conf_oracle_auc,conf_gap,conf_clean_share,subpix_lock,flicker,time_ms,peak_mb';
+  'matcher,condition,dataset,pair,region,band,status,pixels,coverage,epe,rmse,bias,over0.25px,over0.5px,over1px,over2px,over3px,q50,q68,q95,depth_relerr,depth_rmse_m,depth_relmed,depth_over1pct,depth_over2pct,depth_over5pct,conf_auc,conf_oracle_auc,conf_gap,conf_clean_share,subpix_lock,flicker,time_ms,peak_mb';
 
 beforeAll(() => {
   if (!builtCliExists()) throw new Error('dist/ is missing: run `npm run build` (npm test does it)');

@@ -16,8 +16,8 @@ describe('summaryCsvText', () => {
     const rows = aggregate(jobs, { thresholds: T, quantiles: DEFAULT_QUANTILES, ci: false });
     const csv = parseCsv(summaryCsvText(rows, { thresholds: T, quantiles: DEFAULT_QUANTILES }));
     const h = csv[0];
-    expect(h.slice(0, 5)).toEqual(['matcher', 'dataset', 'region', 'band', 'tag']);
-    expect(csv.slice(1).every((r) => r[3] === 'all')).toBe(true); // no depth bands without a camera
+    expect(h.slice(0, 6)).toEqual(['matcher', 'condition', 'dataset', 'region', 'band', 'tag']);
+    expect(csv.slice(1).every((r) => r[4] === 'all')).toBe(true); // no depth bands without a camera
     expect(h).toContain('mean_over2px');
     expect(h).toContain('pooled_over2px');
     expect(h).not.toContain('pooled_q50'); // no pooled quantiles (README metric table)

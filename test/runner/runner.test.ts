@@ -49,7 +49,7 @@ describe('pairs.csv header', () => {
   it('has exactly the agreed column order', () => {
     // Column order as the README's pairs.csv section states it, with the default thresholds and quantile levels.
     expect(pairsCsvHeader({ thresholds: DEFAULT_THRESHOLDS, quantiles: DEFAULT_QUANTILES }).join(',')).toBe(
-      'matcher,dataset,pair,region,band,status,pixels,coverage,epe,rmse,bias,over0.25px,over0.5px,over1px,over2px,over3px,q50,q68,q95,depth_relerr,depth_rmse_m,depth_relmed,depth_over1pct,depth_over2pct,depth_over5pct,conf_auc,conf_oracle_auc,conf_gap,conf_clean_share,subpix_lock,flicker,time_ms,peak_mb',
+      'matcher,condition,dataset,pair,region,band,status,pixels,coverage,epe,rmse,bias,over0.25px,over0.5px,over1px,over2px,over3px,q50,q68,q95,depth_relerr,depth_rmse_m,depth_relmed,depth_over1pct,depth_over2pct,depth_over5pct,conf_auc,conf_oracle_auc,conf_gap,conf_clean_share,subpix_lock,flicker,time_ms,peak_mb',
     );
   });
 });

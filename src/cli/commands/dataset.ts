@@ -54,7 +54,7 @@ const checkCommand: CommandModule<object, CheckArgs> = {
       .option('rectification', { type: 'boolean', default: true, describe: 'Estimate row alignment and camera gain per pair from the images (--no-rectification skips it)' })
       .option('max-vshift', { type: 'number', default: DEFAULT_MAX_VSHIFT_PX, describe: 'Warn when the right image is vertically misaligned by more than this anywhere (px)' })
       .option('max-gain', { type: 'number', default: DEFAULT_MAX_GAIN_PERCENT, describe: 'Warn when the right camera gain differs from the left by more than this (%)' })
-      .option('max-offset', { type: 'number', default: DEFAULT_MAX_OFFSET, describe: 'Warn when the right camera offset exceeds this (grey levels, 0-255 scale)' }) as unknown as Argv<CheckArgs>,
+      .option('max-offset', { type: 'number', default: DEFAULT_MAX_OFFSET, describe: 'Warn when the right camera offset exceeds this (grey levels, 0-255 scale); gain and offset warn only where the brightness they predict differs by more than this' }) as unknown as Argv<CheckArgs>,
   handler: async (a) => {
     const max = a['max-invalid'];
     if (!Number.isFinite(max) || max < 0 || max > 100) throw new UsageError('--max-invalid', `must be a percentage 0-100, got ${String(max)}`);

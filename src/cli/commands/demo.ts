@@ -7,6 +7,8 @@
  * `--matcher` picks others. It runs through the same scheduler as `parallax run` with
  * its defaults: a worker pool of --jobs threads (default: the cores) and the result
  * cache (.parallax-cache/ or $PARALLAX_CACHE; --no-cache to match everything anew).
+ * `--faults` runs the main dataset under camera faults too (DEMO_CONDITIONS) and writes
+ * reports/demo-faults/, whose report draws the degradation curves and breaking points.
  */
 import { availableParallelism } from 'node:os';
 import { existsSync } from 'node:fs';
@@ -25,13 +27,17 @@ import { DEPTH_DEMO_SETS } from '../../synth/dataset.js';
 interface DemoArgs {
   all: boolean;
   data: string;
-  out: string;
+  out?: string;
   matcher?: string[];
   quiet: boolean;
   json: boolean;
   jobs?: number;
   cache: boolean;
+  faults: boolean;
 }
+
+/** The camera faults of `parallax demo --faults`: noise, misaligned rows, a gain difference, defocus. */
+export const DEMO_CONDITIONS: readonly string[] = ['noise=[2,6]', 'vshift=[0.25,0.5,1]', 'gain=1.3', 'blur=1.5'];
 
 /**
  * Built-ins the demo leaves out unless --all: `bp` (loopy belief propagation over five
@@ -49,11 +55,12 @@ export function demoMatchers(all = false): string[] {
 
 export const demoCommand: CommandModule<object, DemoArgs> = {
   command: 'demo',
-  describe: 'Render the demo dataset if missing, run the built-in matchers on it (bp only with --all), write reports/demo/',
+  describe: 'Render the demo dataset if missing, run the built-in matchers on it (bp only with --all), write reports/demo/ (--faults: under camera faults, reports/demo-faults/)',
   builder: (y) =>
     y
       .option('data', { type: 'string', default: 'datasets/demo', describe: 'Demo dataset folder (rendered when it has no dataset.json)' })
-      .option('out', { alias: 'o', type: 'string', default: 'reports/demo', describe: 'Run folder' })
+      .option('out', { alias: 'o', type: 'string', describe: 'Run folder (default reports/demo, with --faults reports/demo-faults)' })
+      .option('faults', { type: 'boolean', default: false, describe: `Also run the main dataset under camera faults (${DEMO_CONDITIONS.join(' ')}): degradation curves and breaking points` })
       .option('matcher', { alias: 'm', type: 'string', array: true, describe: 'Matchers to run instead of the built-ins' })
       .option('all', { type: 'boolean', default: false, describe: `Run every built-in, including the slow ones left out by default (${[...DEMO_LEFT_OUT].join(', ')})` })
       .option('jobs', { alias: 'j', type: 'number', describe: `Jobs matched at once in worker threads (default: the cores, here ${availableParallelism()}; 1 = no workers)` })
@@ -70,17 +77,18 @@ export const demoCommand: CommandModule<object, DemoArgs> = {
     }
     const matchers = a.matcher?.length ? a.matcher : demoMatchers(a.all);
     // The depth-truth sets beside the main one (dense millimetre PNG, sparse lidar), where rendered.
-    const depthSets = DEPTH_DEMO_SETS.map((s) => join(data, s.folder)).filter((d) => existsSync(join(d, MANIFEST_FILE)));
+    const depthSets = a.faults ? [] : DEPTH_DEMO_SETS.map((s) => join(data, s.folder)).filter((d) => existsSync(join(d, MANIFEST_FILE)));
     const plan = await planRun({
       datasets: [data, ...depthSets],
+      ...(a.faults ? { conditions: [...DEMO_CONDITIONS] } : {}),
       matchers,
       matcherEntries: [],
       predictions: [],
       thresholds: [...DEFAULT_THRESHOLDS],
       quantiles: [...DEFAULT_QUANTILES],
       regions: { ...DEFAULT_REGION_PARAMS },
-      out: resolve(a.out),
-      name: 'demo',
+      out: resolve(a.out ?? (a.faults ? 'reports/demo-faults' : 'reports/demo')),
+      name: a.faults ? 'demo-faults' : 'demo',
       baseDir: process.cwd(),
     });
     const outcome = await runSession({ ...plan, scale }, { quiet: a.quiet, json: a.json });
