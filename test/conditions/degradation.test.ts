@@ -41,7 +41,7 @@ const num = (r: Row, col: string): number => Number(r[col]);
 beforeAll(() => {
   root = mkdtempSync(join(tmpdir(), 'plx-faults-'));
   data = join(root, 'data');
-  expect(parallax(['dataset', 'synth', '--out', data, '--width', '240', '--height', '180', '--pairs', '6'], root).code).toBe(0);
+  expect(parallax(['dataset', 'synth', '--out', data, '--width', '160', '--height', '120', '--pairs', '6'], root).code).toBe(0);
   const args = ['run', '-d', data, ...MATCHERS.flatMap((m) => ['-m', m]), '--condition', 'noise=[4,12]', '--condition', 'vshift=[0.5,1.5]', '--condition', 'gain=1.5'];
   const r = parallax([...args, '--breaking-point', 'visible/over1px:3', '--jobs', '2', '--out', join(root, 'run'), '--quiet'], root, { timeoutMs: 280_000 });
   expect(r.stderr).toBe('');
@@ -92,6 +92,23 @@ describe('degradation on rendered scenes', () => {
     const html = readFileSync(join(root, 'run', 'index.html'), 'utf8');
     expect(html).toContain('id="h-faults"');
     expect(html).toContain('id="sel-condition"');
+  });
+});
+
+describe('dataset check --json', () => {
+  it('prints one JSON document with per-pair vshift_px, vshift_spread_px and gain', () => {
+    const r = parallax(['dataset', 'check', data, '--json'], root);
+    expect(r.code).toBe(0);
+    const doc = JSON.parse(r.stdout) as { ok: boolean; pairs: { id: string; vshift_px: number; vshift_spread_px: number; gain: number }[] };
+    expect(doc.ok).toBe(true);
+    expect(doc.pairs).toHaveLength(6);
+    for (const p of doc.pairs) {
+      expect(typeof p.id).toBe('string');
+      // The renderer's rig is rectified: rows agree to a small fraction of a pixel.
+      expect(Math.abs(p.vshift_px)).toBeLessThan(0.1);
+      expect(p.vshift_spread_px).toBeGreaterThanOrEqual(0);
+      expect(p.gain).toBeGreaterThan(0.8);
+    }
   });
 });
 

@@ -15,7 +15,10 @@
 import { describe, expect, it } from 'vitest';
 import jpeg from 'jpeg-js';
 import { areaResample, blurPlane, faultWarp, gaussianRadius, noiseField, noiseSigmaAt, warpAffinePlane } from '../../src/conditions/kernels.js';
-import { jpegRoundTrip } from '../../src/conditions/apply.js';
+import { applyCondition, jpegRoundTrip, scaledPair } from '../../src/conditions/apply.js';
+import { depthFromDisparity } from '../../src/core/camera.js';
+import { toLuminance } from '../../src/core/image.js';
+import type { LoadedPair } from '../../src/core/pair.js';
 import { mulberry32 } from '../../src/core/prng.js';
 import { DEBIAN_PYTHON, runPython } from '../support/python.js';
 
@@ -159,5 +162,64 @@ describe('compression', () => {
       errs.push(data.reduce((a, v, i) => a + Math.abs(v - got.data[i]), 0) / data.length);
     }
     expect(errs[1]).toBeGreaterThan(errs[0]);
+  });
+});
+
+describe('a pair under a condition', () => {
+  function pair(): LoadedPair {
+    const w = 8;
+    const h = 6;
+    const data = Uint8Array.from({ length: w * h * 3 }, (_, i) => (i * 37) % 200);
+    const img = { width: w, height: h, channels: 3 as const, bitDepth: 8 as const, data };
+    const truth = Float32Array.from({ length: w * h }, (_, i) => 4 + (i % w));
+    const f = '/nonexistent';
+    return {
+      dataset: 'd',
+      id: 'p',
+      width: w,
+      height: h,
+      left: img,
+      right: { ...img, data: data.slice() },
+      leftGray: toLuminance(img),
+      rightGray: toLuminance(img),
+      truth: { width: w, height: h, data: truth },
+      occlusion: Uint8Array.from({ length: w * h }, (_, i) => (i % 3 === 0 ? 1 : 0)),
+      camera: { focalPx: 100, baselineM: 0.1, cxShiftPx: 2 },
+      disparityRange: [0, 13],
+      files: { id: 'p', left: f, right: f, truth: f },
+    };
+  }
+
+  it('scale: half size, disparities halved, the depth of every sampled truth pixel unchanged (Z = f B / (d + s))', () => {
+    const p = pair();
+    const s = scaledPair(p, 0.5);
+    expect([s.width, s.height, s.left.width, s.truth.width]).toEqual([4, 3, 4, 4]);
+    // Output pixel (x, y) samples source pixel (2x + 1, 2y + 1): the source pixel under its centre.
+    for (let y = 0; y < 3; y++) {
+      for (let x = 0; x < 4; x++) {
+        const src = (2 * y + 1) * 8 + 2 * x + 1;
+        expect(s.truth.data[y * 4 + x]).toBeCloseTo(p.truth.data[src] / 2, 6);
+        expect(s.occlusion![y * 4 + x]).toBe(p.occlusion![src]);
+        expect(depthFromDisparity(s.camera!, s.truth.data[y * 4 + x])).toBeCloseTo(depthFromDisparity(p.camera!, p.truth.data[src]), 9);
+      }
+    }
+    expect(s.disparityRange).toEqual([0, 7]);
+  });
+
+  it('gain touches the right camera only, deterministically, and not the truth', () => {
+    const p = pair();
+    const a = applyCondition(p, 'gain=1.2', 1);
+    expect(a.left).toBe(p.left);
+    expect(a.truth).toBe(p.truth);
+    expect(a.condition).toBe('gain=1.2');
+    for (let i = 0; i < p.right.data.length; i++) expect(a.right.data[i]).toBe(Math.min(255, Math.round(p.right.data[i] * 1.2)));
+  });
+
+  it('noise: the same seed gives the same images, another seed others', () => {
+    const p = pair();
+    const a = applyCondition(p, 'noise=4', 1);
+    expect(applyCondition(p, 'noise=4', 1).right.data).toEqual(a.right.data);
+    expect(applyCondition(p, 'noise=4', 2).right.data).not.toEqual(a.right.data);
+    expect(a.left.data).not.toEqual(p.left.data);
   });
 });

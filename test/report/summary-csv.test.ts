@@ -21,7 +21,7 @@ describe('summaryCsvText', () => {
     expect(h).toContain('mean_over2px');
     expect(h).toContain('pooled_over2px');
     expect(h).not.toContain('pooled_q50'); // no pooled quantiles (README metric table)
-    const vis = csv.find((r) => r[2] === 'visible')!;
+    const vis = csv.find((r) => r[3] === 'visible')!;
     const col = (name: string) => vis[h.indexOf(name)];
     // Hand computation: only pair a has visible pixels; over2px = 2 of 4 -> 50 %.
     expect(col('n_pairs')).toBe('1');

@@ -367,7 +367,11 @@
     );
   }
 
-  const colorOf = (label: string): string => COLORS[Math.max(0, data.configs.indexOf(label)) % COLORS.length];
+  // Under camera faults a configuration's colour is its matcher's: the same in every condition and in the fault curves.
+  const matcherOf: Record<string, string> = {};
+  faults.labels.forEach((l) => (matcherOf[l.label] = l.matcher));
+  const colorKeys = faults.kinds.length ? data.configs.map((c) => matcherOf[c] || c).filter((m, i, all) => all.indexOf(m) === i) : data.configs;
+  const colorOf = (label: string): string => COLORS[Math.max(0, colorKeys.indexOf(faults.kinds.length ? matcherOf[label] || label : label)) % COLORS.length];
 
   function renderSparsify(): void {
     const host = document.getElementById('sparsify')!;
