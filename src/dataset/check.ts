@@ -21,7 +21,7 @@ import { readTruth } from './load.js';
 import { depthRangeOf, joined, trueDepths } from './depth-range.js';
 import type { PairEntry } from '../core/pair.js';
 import { toLuminance, type RasterImage } from '../core/image.js';
-import { estimateRectification, type RectificationEstimate } from './rectification.js';
+import { estimateRectification, NO_ESTIMATE, type RectificationEstimate } from './rectification.js';
 
 export interface CheckOptions {
   /** Largest acceptable share of invalid (unknown) truth pixels per pair, in % (default 50). */
@@ -39,19 +39,8 @@ export interface CheckOptions {
   maxOffset?: number;
 }
 
-/** One pair's figures in `dataset check --json`. */
-export interface PairCheck {
-  id: string;
-  /** Rectification estimate (null figures when it could not be made: unreadable images, too little texture). */
-  vshift_px: number | null;
-  vshift_spread_px: number | null;
-  vshift_noise_px: number | null;
-  rotation_mrad: number | null;
-  vscale_pct: number | null;
-  gain: number | null;
-  offset: number | null;
-  points: number;
-}
+/** One pair's figures in `dataset check --json`: its rectification estimate (null figures when it could not be made: unreadable images, too little texture). */
+export type PairCheck = { id: string } & RectificationEstimate;
 
 export const DEFAULT_MAX_VSHIFT_PX = 0.5;
 export const DEFAULT_MAX_GAIN_PERCENT = 10;
@@ -198,7 +187,7 @@ function checkGeometry(m: Manifest, p: PairEntry, images: Partial<Record<'left' 
   const e: RectificationEstimate =
     left && right && left.width === right.width && left.height === right.height
       ? estimateRectification(toLuminance(left), toLuminance(right), left.width, left.height, { minDisparity: m.disparityRange[0], maxDisparity: m.disparityRange[1] })
-      : { points: 0, vshift_px: null, vshift_spread_px: null, vshift_noise_px: null, rotation_mrad: null, vscale_pct: null, gain: null, offset: null, grey_range: null };
+      : NO_ESTIMATE;
   totals.pairs.push({ id: p.id, ...e });
   const rel = relative(process.cwd(), p.right) || p.right;
   const maxV = opts.maxVshiftPx ?? DEFAULT_MAX_VSHIFT_PX;

@@ -346,7 +346,8 @@ function matchPoint(l: Plane, r: Plane, grad: { gx: Plane; gy: Plane }, x: numbe
   return { x, y, xr: x + t.tx, ty: t.ty, muL: wl.mean, muR: wr.mean, saturated: wl.max >= SATURATED || wr.max >= SATURATED };
 }
 
-const EMPTY: RectificationEstimate = { points: 0, vshift_px: null, vshift_spread_px: null, vshift_noise_px: null, rotation_mrad: null, vscale_pct: null, gain: null, offset: null, grey_range: null };
+/** The estimate of a pair it could not be made for. */
+export const NO_ESTIMATE: RectificationEstimate = { points: 0, vshift_px: null, vshift_spread_px: null, vshift_noise_px: null, rotation_mrad: null, vscale_pct: null, gain: null, offset: null, grey_range: null };
 
 function percentile(xs: readonly number[], q: number): number {
   const s = [...xs].sort((a, b) => a - b);
@@ -359,12 +360,12 @@ export function estimateRectification(left: Float32Array, right: Float32Array, w
   const l = { data: left, w, h };
   const r = { data: right, w, h };
   const margin = REFINE_HALF + opts.searchPx + 4;
-  if (w <= 2 * margin || h <= 2 * margin) return EMPTY;
+  if (w <= 2 * margin || h <= 2 * margin) return NO_ESTIMATE;
   const grad = gradients(r);
   const matches = pickPoints(l, margin, opts.maxPoints)
     .map(([x, y]) => matchPoint(l, r, grad, x, y, opts))
     .filter((m): m is Match => m !== null);
-  if (matches.length < 8) return { ...EMPTY, points: matches.length };
+  if (matches.length < 8) return { ...NO_ESTIMATE, points: matches.length };
   const cx = (w - 1) / 2;
   const cy = (h - 1) / 2;
   const fit = robustFit(
@@ -372,7 +373,7 @@ export function estimateRectification(left: Float32Array, right: Float32Array, w
     matches.map((m) => m.ty),
     0.05,
   );
-  if (!fit) return { ...EMPTY, points: matches.length };
+  if (!fit) return { ...NO_ESTIMATE, points: matches.length };
   const [, rx, ky] = fit.coef as [number, number, number];
   const [seR, seK] = standardErrors(fit.kept.map((i) => [1, matches[i].xr - cx, matches[i].y - cy]), fit.sd).slice(1) as [number, number];
   // Terms within two standard errors of zero add no spread (few or clustered points fit noise).
