@@ -193,7 +193,7 @@ function checkGeometry(m: Manifest, p: PairEntry, images: Partial<Record<'left' 
   const maxV = opts.maxVshiftPx ?? DEFAULT_MAX_VSHIFT_PX;
   if (e.vshift_px !== null && Math.abs(e.vshift_px) + (e.vshift_spread_px ?? 0) > maxV) {
     const where = e.vshift_px >= 0 ? 'lower' : 'higher';
-    warn(totals, `${rel}: rows misaligned: the right image's content sits ${f2(Math.abs(e.vshift_px))} px ${where} than the left's (median of ${e.points} points; ±${f2(e.vshift_spread_px ?? 0)} px over the image, rotation ${f2(e.rotation_mrad ?? 0)} mrad), above ${maxV} px (pair ${p.id})`);
+    totals.warnings.push(`${rel}: rows misaligned: the right image's content sits ${f2(Math.abs(e.vshift_px))} px ${where} than the left's (median of ${e.points} points; ±${f2(e.vshift_spread_px ?? 0)} px over the image, rotation ${f2(e.rotation_mrad ?? 0)} mrad), above ${maxV} px (pair ${p.id})`);
   }
   if (e.gain === null || e.offset === null || !e.grey_range) return;
   // Gain and offset trade against each other over a narrow grey range: a limit counts only
@@ -204,12 +204,8 @@ function checkGeometry(m: Manifest, p: PairEntry, images: Partial<Record<'left' 
   const diff = Math.max(...[g0, g1].map((v) => Math.abs(e.gain! * v + e.offset! - v)));
   const beyond = [Math.abs(e.gain - 1) * 100 > maxG ? `gain beyond ±${maxG} %` : '', Math.abs(e.offset) > maxO ? `offset beyond ±${maxO}` : ''].filter(Boolean);
   if (beyond.length && diff > maxO) {
-    warn(totals, `${rel}: cameras differ in brightness: right = ${f2(e.gain)} x left ${e.offset < 0 ? '-' : '+'} ${f2(Math.abs(e.offset))} grey levels (${beyond.join(', ')}; up to ${f2(diff)} grey levels apart over grey ${Math.round(g0)}-${Math.round(g1)}) (pair ${p.id})`);
+    totals.warnings.push(`${rel}: cameras differ in brightness: right = ${f2(e.gain)} x left ${e.offset < 0 ? '-' : '+'} ${f2(Math.abs(e.offset))} grey levels (${beyond.join(', ')}; up to ${f2(diff)} grey levels apart over grey ${Math.round(g0)}-${Math.round(g1)}) (pair ${p.id})`);
   }
-}
-
-function warn(totals: CheckTotals, line: string): void {
-  totals.warnings.push(line);
 }
 
 /** The depth range in words: "depth 1.87 to 13.7 m (2nd-98th percentile 2.11 to 12.3 m)". */

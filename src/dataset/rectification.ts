@@ -258,11 +258,12 @@ export function robustFit(X: readonly number[][], y: readonly number[], floor: n
         for (let b = 0; b < p; b++) A[a * p + b] += X[i][a] * X[i][b];
       }
     }
-    const z = p === 4 ? solve4(A, g) : solveSmall(A, g, p);
+    const z = solveSmall(A, g, p);
     if (!z) return null;
     coef = z;
     const res = y.map((v, i) => v - X[i].reduce((s, x, k) => s + x * coef[k], 0));
-    const mad = median(kept.map((i) => Math.abs(res[i] - median(kept.map((j) => res[j])))));
+    const centre = median(kept.map((i) => res[i]));
+    const mad = median(kept.map((i) => Math.abs(res[i] - centre)));
     sd = 1.4826 * mad;
     if (round === 3) break;
     const limit = Math.max(3 * sd, floor);

@@ -313,7 +313,8 @@ function compareConfig(
   const deltas = jobSlices([...p.base, ...p.cand]).flatMap((slice) => regionDeltas(p, slice, set, opts));
   const [baseLabel, candLabel] = labels;
   const label = baseLabel === candLabel ? candLabel : `${baseLabel} → ${candLabel}`;
-  const condition = conditionOf(p.cand[0] ?? p.base[0] ?? cand.values().next().value ?? {});
+  // Both maps hold one configuration label, hence one condition; a label with jobs has at least one.
+  const condition = conditionOf(cand.values().next().value!);
   return { label, baseLabel, candLabel, condition, pairs: p.common.length, deltas, ...pairChanges(p, set, opts) };
 }
 
